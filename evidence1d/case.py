@@ -1,0 +1,346 @@
+"""The case file: one sample, its datasets, the model families to compare, the settings.
+
+A case file is YAML (see README, "The case file").  :func:`load_case` reads and validates it
+into a :class:`Case`; every mistake is an :class:`~evidence1d.errors.InputError` naming the
+file, line and key.  Relative paths resolve against the case file's folder.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from .cards import ModelCard, card_path, load_card
+from .data import KINDS, SPECTRUM_KINDS, Dataset, load_dataset
+from .errors import InputError, closest_key
+from .schema import (Field, Spec, as_bool, as_float_list, as_int, as_positive_float,
+                     as_positive_int, as_str, check_mapping, load_yaml, one_of)
+
+__all__ = ["Sample", "ModelChoice", "Case", "load_case", "SAMPLER_DEFAULTS"]
+
+
+def _any(v, where):
+    return v
+
+
+def _mapping(v, where):
+    if not isinstance(v, dict):
+        raise InputError(f"expected a mapping; got {type(v).__name__}", key=where)
+    return v
+
+
+_LATTICE = Spec({"a": Field(as_positive_float, required=True, help="Å"),
+                 "b": Field(as_positive_float, required=True, help="Å"),
+                 "c": Field(as_positive_float, required=True, help="Å, along the chain")},
+                what="lattice (a, b, c in Å; chain along c)")
+
+_SAMPLE = Spec({
+    "name": Field(as_str, default="sample", help="sample name"),
+    "ion": Field(as_str, required=True, help="magnetic ion element, e.g. Cu"),
+    "charge": Field(as_int, required=True, help="ionic charge, e.g. 2 for Cu2+"),
+    "spin": Field(as_positive_float, default=0.5, help="spin quantum number S"),
+    "g": Field(_mapping, default=None, help="prior of the g factor {kind: normal, ...}"),
+    "spin_spacing": Field(as_positive_float, required=True,
+                          help="spin spacing d along the chain in Å"),
+    "lattice": Field(_any, required=True, help="{a, b, c} in Å"),
+    "formula_units_per_ion": Field(as_positive_float, default=1.0,
+                                   help="formula units per magnetic ion"),
+}, what="the sample block")
+
+_RESOLUTION = Spec({"fwhm": Field(as_float_list, required=True,
+                                  help="FWHM polynomial coefficients c0 + c1 E + ... in meV")},
+                   what="resolution")
+_POWDER = Spec({"n_theta": Field(as_positive_int, default=16),
+                "n_phi": Field(as_positive_int, default=4)}, what="powder_average")
+
+_DATASET = Spec({
+    "name": Field(as_str, default=None, help="dataset name (default: file name)"),
+    "kind": Field(one_of(*KINDS), required=True, help=f"one of {', '.join(KINDS)}"),
+    "file": Field(as_str, required=True, help="data file path"),
+    "units": Field(_mapping, required=True, help="units of the columns"),
+    "temperature": Field(as_positive_float, default=None, help="sample temperature in K"),
+    "resolution": Field(_any, default=None, help="{fwhm: [c0, c1, ...]} in meV"),
+    "background": Field(one_of("none", "flat", "linear"), default="linear"),
+    "elastic": Field(as_bool, default=False, help="fit an elastic line"),
+    "powder_average": Field(_any, default=None),
+    "per": Field(one_of("magnetic_ion", "formula_unit"), default="magnetic_ion"),
+    "field": Field(one_of("powder", "z", "xy"), default="powder"),
+    "chi0": Field(as_bool, default=True), "impurity": Field(as_bool, default=True),
+    "electronic": Field(as_bool, default=True), "lattice": Field(as_bool, default=True),
+    "noise": Field(one_of("gaussian", "student_t"), default="gaussian"),
+    "nu": Field(as_positive_float, default=4.0, help="Student-t degrees of freedom"),
+    "inflate_errors": Field(as_bool, default=False),
+    "priors": Field(_mapping, default={}, help="nuisance prior overrides"),
+}, what="a dataset block")
+
+_MODEL = Spec({"name": Field(as_str, default=None, help="bundled model name"),
+               "card": Field(as_str, default=None, help="path of a model card of your own"),
+               "priors": Field(_mapping, default={}, help="prior overrides")},
+              what="a model entry")
+
+#: sampler settings and their defaults (``--quick`` scales them down)
+SAMPLER_DEFAULTS = {"walkers": 0, "steps": 2000, "particles": 400, "islands": 4,
+                    "mcmc_steps": 0, "ess_fraction": 0.5, "checkpoint_every": 200}
+_SAMPLER = Spec({
+    "walkers": Field(as_int, default=0, help="emcee walkers (0: automatic)"),
+    "steps": Field(as_positive_int, default=2000, help="emcee steps per walker"),
+    "particles": Field(as_positive_int, default=400, help="particles per evidence island"),
+    "islands": Field(as_positive_int, default=4, help="independent evidence runs"),
+    "mcmc_steps": Field(as_int, default=0, help="rejuvenation steps per temperature (0: auto)"),
+    "ess_fraction": Field(as_positive_float, default=0.5, help="target conditional ESS"),
+    "checkpoint_every": Field(as_positive_int, default=200, help="steps between checkpoints"),
+}, what="the sampler block")
+
+_CASE = Spec({
+    "title": Field(as_str, default=None),
+    "sample": Field(_any, required=True, help="the sample block"),
+    "datasets": Field(_any, required=True, help="list of datasets"),
+    "models": Field(_any, required=True, help="list of model families to compare"),
+    "extras": Field(_mapping, default={}, help="prior overrides of chi0, c_imp, gamma_e, "
+                                               "beta_lattice"),
+    "sampler": Field(_any, default={}),
+    "prior_odds": Field(_mapping, default=None, help="prior model odds {model: weight}"),
+    "seed": Field(as_int, default=20261201),
+    "output": Field(as_str, default=None, help="output folder"),
+}, what="the case file")
+
+
+@dataclass(frozen=True)
+class Sample:
+    """The sample block.
+
+    Attributes
+    ----------
+    name, ion : str
+    charge : int
+    spin : float
+    g_prior : Prior or None
+    spin_spacing : float
+        d in Å.
+    lattice : dict
+        a, b, c in Å (chain along c).
+    formula_units_per_ion : float
+    """
+
+    name: str
+    ion: str
+    charge: int
+    spin: float
+    g_prior: object
+    spin_spacing: float
+    lattice: dict
+    formula_units_per_ion: float
+
+
+@dataclass(frozen=True)
+class ModelChoice:
+    """A model family chosen in the case file: its card and the prior overrides."""
+
+    card: ModelCard
+    priors: dict = field(default_factory=dict)
+
+    @property
+    def name(self) -> str:
+        return self.card.name
+
+
+class Case:
+    """A validated case: sample, datasets, model families, priors, settings.
+
+    Use :func:`load_case` to build one.  The methods expose exactly the problem the sampler
+    sees, so that any external sampler gets the same answer.
+    """
+
+    def __init__(self, *, path, title, sample, datasets, models, extras, sampler, prior_odds,
+                 seed, output):
+        self.path = Path(path)
+        self.title = title
+        self.sample = sample
+        self.datasets = list(datasets)
+        self.models = dict(models)
+        self.extras = dict(extras)
+        self.sampler = dict(sampler)
+        self.prior_odds = prior_odds
+        self.seed = seed
+        self.output = Path(output)
+        self._problems = {}
+
+    def __repr__(self):
+        return (f"Case({self.path.name!r}, datasets={[d.name for d in self.datasets]}, "
+                f"models={list(self.models)})")
+
+    def __getstate__(self):
+        state = self.__dict__.copy()
+        state["_problems"] = {}
+        return state
+
+    def problem(self, model: str):
+        """The :class:`~evidence1d.problem.JointProblem` of one model family (cached)."""
+        from .problem import JointProblem
+        if model not in self.models:
+            hint = closest_key(model, self.models).replace("valid keys", "models in this case")
+            raise InputError(f"unknown model '{model}'; {hint}")
+        if model not in self._problems:
+            self._problems[model] = JointProblem(self, self.models[model])
+        return self._problems[model]
+
+    def parameter_names(self, model: str) -> list:
+        """Every sampled parameter of ``model``, physical then nuisance, in sampling order."""
+        return list(self.problem(model).names)
+
+    def log_likelihood(self, model: str, theta):
+        """Joint log-likelihood of all datasets.
+
+        Parameters
+        ----------
+        model : str
+        theta : array_like, shape (n,) or (k, n)
+            Values of :meth:`parameter_names` in their units.
+
+        Returns
+        -------
+        float or ndarray (k,)
+            −inf outside the prior support.
+        """
+        return self.problem(model).log_likelihood(theta)
+
+    def log_prior(self, model: str, theta):
+        """Log prior density (same shapes as :meth:`log_likelihood`)."""
+        return self.problem(model).log_prior(theta)
+
+    def prior_transform(self, model: str, u):
+        """Map points of the unit cube to parameters (shape (n,) or (k, n))."""
+        return self.problem(model).prior_transform(u)
+
+
+def _resolve(base: Path, p: str) -> Path:
+    q = Path(p).expanduser()
+    return q if q.is_absolute() else (base / q)
+
+
+def load_case(path) -> Case:
+    """Read and validate a case file.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The case file (YAML).
+
+    Returns
+    -------
+    Case
+
+    Raises
+    ------
+    InputError
+        Any problem in the case file, the data files or the model cards, in one line.
+    """
+    from .inference.priors import prior_from_spec
+
+    doc = load_yaml(path)
+    base = doc.path.resolve().parent
+    top = check_mapping(doc.data, _CASE, "", doc)
+
+    def prior(spec, where):
+        try:
+            return prior_from_spec(spec, where)
+        except InputError as exc:
+            raise doc.error(exc.message, exc.key or where) from None
+
+    s = check_mapping(top["sample"], _SAMPLE, "sample", doc)
+    lattice = check_mapping(s["lattice"], _LATTICE, "sample.lattice", doc)
+    sample = Sample(name=s["name"], ion=s["ion"], charge=s["charge"], spin=s["spin"],
+                    g_prior=None if s["g"] is None else prior(s["g"], "sample.g"),
+                    spin_spacing=s["spin_spacing"], lattice=lattice,
+                    formula_units_per_ion=s["formula_units_per_ion"])
+    from .physics.neutron import magnetic_form_factor
+    try:
+        magnetic_form_factor(1.0, sample.ion, sample.charge, 2.0)
+    except InputError as exc:
+        raise doc.error(exc.message, "sample.ion") from None
+
+    if not isinstance(top["datasets"], list) or not top["datasets"]:
+        raise doc.error("expected a non-empty list of datasets", "datasets")
+    datasets, names = [], {}
+    for i, block in enumerate(top["datasets"]):
+        where = f"datasets[{i}]"
+        b = check_mapping(block, _DATASET, where, doc)
+        b["_where"] = where
+        if b["kind"] in SPECTRUM_KINDS:
+            for req in ("temperature", "resolution"):
+                if b[req] is None:
+                    raise doc.error(f"a {b['kind']} dataset needs '{req}'"
+                                    + (" in K" if req == "temperature" else
+                                       " {fwhm: [c0, c1, ...]} in meV"), where)
+            b["resolution"] = check_mapping(b["resolution"], _RESOLUTION,
+                                            f"{where}.resolution", doc)
+            if b["powder_average"] is not None:
+                b["powder_average"] = check_mapping(b["powder_average"], _POWDER,
+                                                    f"{where}.powder_average", doc)
+        fpath = _resolve(base, b["file"])
+        name = b["name"] or Path(b["file"]).stem
+        if not name.replace("_", "").replace("-", "").isalnum():
+            raise doc.error(f"dataset name {name!r} may hold only letters, digits, '_' and '-'",
+                            f"{where}.name")
+        if name in names:
+            raise doc.error(f"duplicated dataset name '{name}' (also datasets[{names[name]}]); "
+                            "give each dataset its own 'name'", f"{where}.name")
+        names[name] = i
+        try:
+            ds = load_dataset(b, fpath, name=name, sample=sample)
+        except InputError as exc:
+            if exc.file is None:
+                raise doc.error(exc.message, exc.key or where) from None
+            raise
+        for pk, spec in (b["priors"] or {}).items():
+            ds.options["priors"][pk] = prior(spec, f"{where}.priors.{pk}")
+        datasets.append(ds)
+
+    if not isinstance(top["models"], list) or not top["models"]:
+        raise doc.error("expected a non-empty list of models, e.g. "
+                        "[spinon_continuum, gapped_spin_wave]", "models")
+    models = {}
+    for i, entry in enumerate(top["models"]):
+        where = f"models[{i}]"
+        if isinstance(entry, str):
+            entry = {"name": entry}
+        m = check_mapping(entry, _MODEL, where, doc)
+        if (m["name"] is None) == (m["card"] is None):
+            raise doc.error("give exactly one of 'name' (a bundled model) or 'card' (a card "
+                            "file)", where)
+        if m["card"] is not None:
+            card = load_card(_resolve(base, m["card"]))
+        else:
+            try:
+                cpath = card_path(m["name"])
+            except InputError as exc:
+                raise doc.error(exc.message, f"{where}.name") from None
+            card = load_card(cpath)
+        if card.name in models:
+            raise doc.error(f"model '{card.name}' is listed twice", where)
+        overrides = {}
+        for pk, spec in (m["priors"] or {}).items():
+            if pk not in card.parameters:
+                raise doc.error(f"'{pk}' is not a parameter of model '{card.name}'; "
+                                f"{closest_key(str(pk), card.parameters)}",
+                                f"{where}.priors.{pk}")
+            overrides[pk] = prior(spec, f"{where}.priors.{pk}")
+        models[card.name] = ModelChoice(card=card, priors=overrides)
+
+    extras = {}
+    from .families.predict import SAMPLE_EXTRAS
+    for k, spec in top["extras"].items():
+        if k not in SAMPLE_EXTRAS:
+            raise doc.error(f"unknown extra '{k}'; {closest_key(str(k), SAMPLE_EXTRAS)}",
+                            f"extras.{k}")
+        extras[k] = prior(spec, f"extras.{k}")
+    sampler = check_mapping(top["sampler"] or {}, _SAMPLER, "sampler", doc)
+    if top["prior_odds"] is not None:
+        for k, v in top["prior_odds"].items():
+            if k not in models:
+                raise doc.error(f"prior_odds names '{k}', which is not a model of this case; "
+                                f"{closest_key(str(k), models)}", f"prior_odds.{k}")
+            as_positive_float(v, f"prior_odds.{k}")
+    output = _resolve(base, top["output"]) if top["output"] else base / "results"
+    return Case(path=doc.path, title=top["title"] or doc.path.stem, sample=sample,
+                datasets=datasets, models=models, extras=extras, sampler=sampler,
+                prior_odds=top["prior_odds"], seed=top["seed"], output=output)

@@ -1,0 +1,175 @@
+"""The ``evidence1d`` command: check, run, report, simulate.
+
+Only wiring lives here: argument parsing, calling the library, printing, exit codes.
+User errors print one line and exit with code 2 (a traceback only with ``--debug``).
+"""
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+from .errors import InputError
+
+__all__ = ["main"]
+
+_EXAMPLES = {
+    "check": "example:\n  evidence1d check case_studies/flagship/case.yaml",
+    "run": "examples:\n  evidence1d run case_studies/flagship/case.yaml\n"
+           "  evidence1d run case.yaml --out results/try2 --seed 7 --quick\n"
+           "  evidence1d run case.yaml --resume      # continue an interrupted run",
+    "report": "example:\n  evidence1d report case_studies/flagship/results",
+    "simulate": "example:\n  evidence1d simulate spinon_continuum --case case.yaml "
+                "--set J=1.1 --set delta=0.8 --set g=2.1 --out data/ --seed 3",
+}
+
+
+def _parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(
+        prog="evidence1d",
+        description="Decide whether neutron spectra, chi(T) and C(T) of a quasi-1D magnet "
+                    "support one-dimensional (spinon) physics: joint Bayesian fits, "
+                    "evidences and Bayes factors.",
+        epilog="run 'evidence1d COMMAND --help' for each command's options and an example")
+    p.add_argument("--debug", action="store_true", help="show tracebacks of errors")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND")
+    fmt = argparse.RawDescriptionHelpFormatter
+
+    c = sub.add_parser("check", help="validate a case file and print its datasets and models",
+                       epilog=_EXAMPLES["check"], formatter_class=fmt)
+    c.add_argument("case", help="case file (YAML)")
+
+    r = sub.add_parser("run", help="sample posteriors, compute evidences, write the report",
+                       epilog=_EXAMPLES["run"], formatter_class=fmt)
+    r.add_argument("case", help="case file (YAML)")
+    r.add_argument("--out", help="output folder (default: the case file's 'output')")
+    r.add_argument("--seed", type=int, help="random seed (default: the case file's 'seed')")
+    r.add_argument("--quick", action="store_true",
+                   help="reduced settings for a fast first look (not for publication)")
+    r.add_argument("--resume", action="store_true",
+                   help="continue an interrupted run from its checkpoints")
+    r.add_argument("--overwrite", action="store_true",
+                   help="replace an existing output folder")
+    r.add_argument("--no-figures", action="store_true", help="skip the figures")
+    r.add_argument("--models", help="comma-separated subset of the case's models")
+
+    rp = sub.add_parser("report", help="rebuild the report from saved results",
+                        epilog=_EXAMPLES["report"], formatter_class=fmt)
+    rp.add_argument("folder", help="output folder of a finished run")
+    rp.add_argument("--no-figures", action="store_true", help="skip the figures")
+
+    s = sub.add_parser("simulate", help="write synthetic datasets from a model card",
+                       epilog=_EXAMPLES["simulate"], formatter_class=fmt,
+                       description="Simulate every dataset of a case file (its files give "
+                                   "the points) from a model at stated true parameters.")
+    s.add_argument("card", help="model name of the case, or a model card file")
+    s.add_argument("--case", required=True, help="case file whose datasets are the templates")
+    s.add_argument("--set", action="append", default=[], metavar="NAME=VALUE",
+                   help="true parameter value (repeat); nuisances default to neutral values")
+    s.add_argument("--out", required=True, help="folder for the simulated data files")
+    s.add_argument("--seed", type=int, default=0, help="random seed")
+    s.add_argument("--exposure", type=float, default=50.0,
+                   help="spectra: counts per intensity unit (default 50)")
+    s.add_argument("--relative", type=float, default=0.01,
+                   help="thermodynamic data: relative error (default 0.01)")
+    return p
+
+
+def _parse_sets(items):
+    out = {}
+    for it in items:
+        if "=" not in it:
+            raise InputError(f"--set expects NAME=VALUE; got {it!r}")
+        k, v = it.split("=", 1)
+        try:
+            out[k.strip()] = float(v)
+        except ValueError:
+            raise InputError(f"--set {k}: {v!r} is not a number") from None
+    return out
+
+
+def _cmd_check(args):
+    from .case import load_case
+    from .report.console import case_table
+    case = load_case(args.case)
+    print(case_table(case))
+    print("\ncase is valid")
+    return 0
+
+
+def _cmd_run(args):
+    from .case import load_case
+    from .report.console import verdict_lines
+    from .runner import run
+    case = load_case(args.case)
+    models = args.models.split(",") if args.models else None
+    results = run(case, seed=args.seed, out=args.out, quick=args.quick, resume=args.resume,
+                  overwrite=args.overwrite, figures=not args.no_figures, models=models)
+    print(verdict_lines(results))
+    print(f"\nreport: {results.out / 'report.md'}")
+    return 0
+
+
+def _cmd_report(args):
+    from .report import rebuild_report
+    out = rebuild_report(Path(args.folder), figures=not args.no_figures)
+    print(f"report rebuilt: {out / 'report.md'}")
+    return 0
+
+
+def _cmd_simulate(args):
+    import numpy as np
+
+    from .case import load_case
+    from .simulate import NoiseModel, simulate_case, write_dataset
+    case = load_case(args.case)
+    truth = _parse_sets(args.set)
+    model = args.card
+    if model not in case.models:
+        from .cards import load_card
+        from .case import ModelChoice
+        if Path(model).is_file():
+            card = load_card(model)
+            case.models[card.name] = ModelChoice(card=card)
+            model = card.name
+        else:
+            case.problem(model)  # raises the unknown-model error with a hint
+    rng = np.random.default_rng(args.seed)
+    sims = simulate_case(case, model, truth, NoiseModel(exposure=args.exposure,
+                                                        relative=args.relative), rng)
+    out = Path(args.out)
+    note = (f"SIMULATED with evidence1d simulate from model '{model}', seed {args.seed}; "
+            f"not a measurement.\ntruth: " + ", ".join(f"{k}={v:g}" for k, v in truth.items()))
+    for ds in case.datasets:
+        y, err = sims[ds.name]
+        target = out / ds.path.name
+        write_dataset(ds, y, err, target, note=note,
+                      fu_per_ion=case.sample.formula_units_per_ion)
+        print(f"wrote {target} ({ds.n} points)")
+    return 0
+
+
+def main(argv=None) -> int:
+    """Entry point of the ``evidence1d`` command; returns the exit code."""
+    parser = _parser()
+    args = parser.parse_args(argv)
+    if args.command is None:
+        parser.print_help()
+        return 2
+    handler = {"check": _cmd_check, "run": _cmd_run, "report": _cmd_report,
+               "simulate": _cmd_simulate}[args.command]
+    try:
+        return handler(args)
+    except InputError as exc:
+        if args.debug:
+            raise
+        print(f"evidence1d: error: {exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("evidence1d: interrupted; completed work is kept in the checkpoints "
+              "(continue with --resume)", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,228 @@
+"""The generic prediction layer: one family, one dataset, a batch of parameter sets.
+
+A :class:`DatasetPredictor` adds to a family's model part what every family shares:
+
+spectra      I(Q, E) = s |F(Q)|² S(Q, E) + b₀ + b₁ E + e G(E; σ)
+             (s intensity scale, F the dipole magnetic form factor with g, b₀ + b₁ E the
+             background, e the elastic-line area with the resolution Gaussian G); powder
+             data are averaged over the directions of Q first.
+chi(T)       χ(T) = χ_model(T) + χ₀ + C_imp / T      (emu/mol of magnetic ion)
+C(T)         C(T) = C_model(T) + γ_e T + β T³        (J/(mol K) of magnetic ion)
+S_mag(T)     S(T) = S_model(T)                       (magnetic part alone)
+
+Nuisance parameters are named ``<dataset>:<what>`` (``map:scale``, ``map:background``,
+``map:slope``, ``map:elastic``, ``<dataset>:inflate``); the sample-level extras are ``chi0``
+(emu/mol), ``c_imp`` (emu K/mol), ``gamma_e`` (J/(mol K²)) and ``beta_lattice``
+(J/(mol K⁴)), shared by all datasets of their kind.
+
+References
+----------
+G. L. Squires, Introduction to the Theory of Thermal Neutron Scattering (CUP, 1978), ch. 7
+(magnetic cross-section, form factor); International Tables for Crystallography Vol. C,
+§4.4.5 (dipole form factor ⟨j0⟩ + (1 − 2/g)⟨j2⟩).
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from ..data import Dataset
+from .base import Family, SpectralPoints
+
+__all__ = ["DatasetPredictor", "SAMPLE_EXTRAS"]
+
+#: sample-level extra parameters: name -> (unit, description, dataset kind that uses it)
+SAMPLE_EXTRAS = {
+    "chi0": ("emu/mol", "temperature-independent susceptibility χ₀", "susceptibility"),
+    "c_imp": ("emu K/mol", "Curie constant of free-spin impurities C_imp", "susceptibility"),
+    "gamma_e": ("J/(mol K^2)", "electronic heat-capacity coefficient γ_e", "heat_capacity"),
+    "beta_lattice": ("J/(mol K^4)", "lattice (Debye) T³ coefficient β", "heat_capacity"),
+}
+
+
+def _span(y):
+    lo, hi = np.percentile(y, [2.0, 98.0])
+    return float(max(hi - lo, 1e-12 * max(abs(hi), 1.0), 1e-300))
+
+
+class DatasetPredictor:
+    """Predictions of one family for one dataset.
+
+    Parameters
+    ----------
+    family : Family
+        The model family (its physical parameters are read from ``p`` by name).
+    dataset : Dataset
+        The dataset (internal units).
+    sample : Sample
+        The case's sample (ion, charge, spacings).
+
+    Attributes
+    ----------
+    nuisance : list of str
+        Names of this dataset's own nuisance parameters.
+    extras : list of str
+        Names of the sample-level extras this dataset uses.
+    """
+
+    def __init__(self, family: Family, dataset: Dataset, sample):
+        self.family = family
+        self.dataset = dataset
+        self.sample = sample
+        opt = dataset.options
+        name = dataset.name
+        self.nuisance, self.extras = [], []
+        if dataset.kind in ("crystal_spectrum", "powder_spectrum"):
+            from ..physics import neutron
+            self.nuisance.append(f"{name}:scale")
+            bkg = opt.get("background", "linear")
+            if bkg in ("flat", "linear"):
+                self.nuisance.append(f"{name}:background")
+            if bkg == "linear":
+                self.nuisance.append(f"{name}:slope")
+            if opt.get("elastic", False):
+                self.nuisance.append(f"{name}:elastic")
+            E = dataset.x["energy"]
+            self._sigma = neutron.resolution_sigma(E, opt["resolution"]["fwhm"])
+            self._E = E
+            if dataset.kind == "crystal_spectrum":
+                Q_par, Q_a = dataset.x["Q_par"], dataset.x["Q_perp"]
+                self._pts = SpectralPoints(Q_par=Q_par, Q_a=Q_a, Q_b=np.zeros_like(Q_par),
+                                           d=sample.spin_spacing, a_perp=sample.lattice["a"],
+                                           b_perp=sample.lattice["b"], energy=E,
+                                           sigma=self._sigma,
+                                           temperature=float(opt["temperature"]))
+                self._Q = self._pts.Q
+                self._ndir = 1
+            else:
+                pa = opt.get("powder_average") or {}
+                u, w = neutron.powder_directions(n_theta=pa.get("n_theta", 16),
+                                                 n_phi=pa.get("n_phi", 4))
+                Q = dataset.x["Q"]
+                self._Q = Q
+                self._ndir = len(w)
+                self._wdir = w
+                Qv = Q[:, None] * u[None, :, :]            # (n, n_dir, 3)
+                rep = lambda a: np.repeat(a, len(w))       # noqa: E731
+                self._pts = SpectralPoints(Q_par=Qv[..., 0].ravel(), Q_a=Qv[..., 1].ravel(),
+                                           Q_b=Qv[..., 2].ravel(), d=sample.spin_spacing,
+                                           a_perp=sample.lattice["a"],
+                                           b_perp=sample.lattice["b"], energy=rep(E),
+                                           sigma=rep(self._sigma),
+                                           temperature=float(opt["temperature"]))
+            self._elastic_shape = neutron.elastic_line(E, self._sigma)
+        elif dataset.kind == "susceptibility":
+            if opt.get("chi0", True):
+                self.extras.append("chi0")
+            if opt.get("impurity", True):
+                self.extras.append("c_imp")
+        elif dataset.kind == "heat_capacity":
+            if opt.get("electronic", True):
+                self.extras.append("gamma_e")
+            if opt.get("lattice", True):
+                self.extras.append("beta_lattice")
+        if opt.get("inflate_errors", False):
+            self.nuisance.append(f"{name}:inflate")
+
+    # ------------------------------------------------------------------ priors
+    def default_priors(self) -> dict:
+        """Default prior specs of this dataset's nuisances and extras, scaled to the data.
+
+        Returns
+        -------
+        dict of str to dict
+            Prior specs (``{kind: ..., ...}``). Scale: log-uniform over four decades around
+            the data's intensity span times the energy span (S(Q,E) is ~1/energy);
+            background: uniform over a band one span wide around the data; slope: ± span
+            per energy range; elastic: uniform [0, 10 span σ]; χ₀: uniform ± max|χ|;
+            C_imp: uniform [0, max χT]; γ_e: uniform [0, max C/T]; β: uniform
+            [0, max C/T³]; error inflation: log-uniform [1, 10].
+        """
+        ds, out = self.dataset, {}
+        y = ds.y
+        if ds.kind in ("crystal_spectrum", "powder_spectrum"):
+            span = _span(y)
+            e_span = float(max(np.ptp(self._E), np.max(np.abs(self._E)), 1e-3))
+            s0 = span * e_span / 3.0
+            out[f"{ds.name}:scale"] = {"kind": "log_uniform", "lower": s0 / 100.0,
+                                       "upper": s0 * 100.0}
+            if f"{ds.name}:background" in self.nuisance:
+                lo = float(np.min(y))
+                out[f"{ds.name}:background"] = {"kind": "uniform", "lower": lo - span,
+                                                "upper": lo + span}
+            if f"{ds.name}:slope" in self.nuisance:
+                out[f"{ds.name}:slope"] = {"kind": "uniform", "lower": -span / e_span,
+                                           "upper": span / e_span}
+            if f"{ds.name}:elastic" in self.nuisance:
+                out[f"{ds.name}:elastic"] = {"kind": "uniform", "lower": 0.0,
+                                             "upper": 10.0 * span * float(np.max(self._sigma))}
+        T = ds.x.get("T")
+        if "chi0" in self.extras:
+            m = float(np.max(np.abs(y)))
+            out["chi0"] = {"kind": "uniform", "lower": -m, "upper": m}
+        if "c_imp" in self.extras:
+            out["c_imp"] = {"kind": "uniform", "lower": 0.0, "upper": float(np.max(y * T))}
+        if "gamma_e" in self.extras:
+            out["gamma_e"] = {"kind": "uniform", "lower": 0.0, "upper": float(np.max(y / T))}
+        if "beta_lattice" in self.extras:
+            out["beta_lattice"] = {"kind": "uniform", "lower": 0.0,
+                                   "upper": float(np.max(y / T ** 3))}
+        if f"{ds.name}:inflate" in self.nuisance:
+            out[f"{ds.name}:inflate"] = {"kind": "log_uniform", "lower": 1.0, "upper": 10.0}
+        return out
+
+    # ------------------------------------------------------------------ predictions
+    def magnetic(self, p: dict) -> np.ndarray:
+        """The family's model part at the dataset's points (before nuisances), (k, n)."""
+        ds, fam = self.dataset, self.family
+        if ds.kind in ("crystal_spectrum", "powder_spectrum"):
+            from ..physics import neutron
+            g = p.get("g", 2.0)
+            S = fam.spectrum(p, self._pts)
+            if self._ndir > 1:
+                S = (S.reshape(S.shape[0], -1, self._ndir) * self._wdir).sum(axis=-1)
+            F = neutron.magnetic_form_factor(self._Q, self.sample.ion, self.sample.charge, g)
+            return F ** 2 * S
+        T = ds.x["T"]
+        if ds.kind == "susceptibility":
+            return fam.susceptibility(p, T, ds.options.get("field", "powder"))
+        if ds.kind == "heat_capacity":
+            return fam.heat_capacity(p, T)
+        return fam.entropy(p, T)
+
+    def predict(self, p: dict) -> np.ndarray:
+        """Predicted values at the dataset's points, in the dataset's internal units.
+
+        Parameters
+        ----------
+        p : dict of str to ndarray (k, 1)
+            Physical parameters, this dataset's nuisances and the sample extras.
+
+        Returns
+        -------
+        ndarray, shape (k, n)
+        """
+        ds, name = self.dataset, self.dataset.name
+        m = self.magnetic(p)
+        if ds.kind in ("crystal_spectrum", "powder_spectrum"):
+            out = p[f"{name}:scale"] * m
+            if f"{name}:background" in p:
+                out = out + p[f"{name}:background"]
+            if f"{name}:slope" in p:
+                out = out + p[f"{name}:slope"] * self._E
+            if f"{name}:elastic" in p:
+                out = out + p[f"{name}:elastic"] * self._elastic_shape
+            return out
+        T = ds.x["T"]
+        if ds.kind == "susceptibility":
+            if "chi0" in p and "chi0" in self.extras:
+                m = m + p["chi0"]
+            if "c_imp" in p and "c_imp" in self.extras:
+                m = m + p["c_imp"] / T
+            return m
+        if ds.kind == "heat_capacity":
+            if "gamma_e" in self.extras:
+                m = m + p["gamma_e"] * T
+            if "beta_lattice" in self.extras:
+                m = m + p["beta_lattice"] * T ** 3
+            return m
+        return m

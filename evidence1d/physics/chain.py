@@ -1,0 +1,537 @@
+"""Two-spinon continuum of the S = 1/2 XXZ chain: exact bounds and the Müller line shape.
+
+Hamiltonian convention: H = J Σ_i [S^x_i S^x_{i+1} + S^y_i S^y_{i+1} + Δ S^z_i S^z_{i+1}],
+J > 0 antiferromagnetic, energies in meV (or in the units of J where stated), chain phase
+q = Q_∥ d in radians.  Every kernel is vectorised: q, ω, E of shape (n,) against J, Δ of
+shape (n_sets, 1) give (n_sets, n).
+
+The spectrum model
+------------------
+S(q, ω) = A(q) Θ(ω − ω_L) Θ(ω_T − ω) / √(ω² − ω_L²)     (Müller et al. 1981)
+
+summed over the three spin components (unpolarised, no polarisation factor), with
+ω_L the exact lower two-spinon edge and ω_T the upper edge of the principal continuum
+(ω_T = ω_U for Δ ≤ 1).  The Müller shape is exact in its edges but only an approximation
+of the line shape; it is a good one at Δ = 1 and an approximation away from it.  For Δ > 1
+the exact continuum of the π-periodic spinon bands also contains a π-shifted part
+(its upper edge 2I√(1 − k² sin²(q/2)) > ω_T for |q| < π/2) whose weight vanishes at Δ = 1;
+the line shape neglects it so that the spectrum is continuous through Δ = 1.
+
+The amplitude A(q) follows from the first-moment sum rule of the total structure factor,
+∫ ω S(q, ω) dω = −2 (1 − cos q) E_0/N   (Hohenberg & Brinkman 1974),
+exact at Δ = 1; for Δ ≠ 1 the same relation is used with the exact XXZ ground-state energy
+E_0(Δ) (a documented choice: the true total first moment differs by O(Δ − 1) terms).
+
+Regularisation: the lower edge used by the line shape is floored at ``OMEGA_FLOOR`` × ω_T
+(ω_L → 0 at q → 0 and q → π in the gapless regime), which caps the logarithmically
+divergent total weight at A arccosh(1/OMEGA_FLOOR) ≈ 7.6 A and changes the spectrum only
+for |ω| < 10⁻³ ω_T.
+
+References
+----------
+J. des Cloizeaux & J. J. Pearson, Phys. Rev. 128, 2131 (1962).
+J. des Cloizeaux & M. Gaudin, J. Math. Phys. 7, 1384 (1966).
+J. D. Johnson, S. Krinsky & B. M. McCoy, Phys. Rev. A 8, 2526 (1973).
+G. Müller, H. Thomas, H. Beck & J. C. Bonner, Phys. Rev. B 24, 1429 (1981).
+P. C. Hohenberg & W. F. Brinkman, Phys. Rev. B 10, 128 (1974).
+C. N. Yang & C. P. Yang, Phys. Rev. 150, 327 (1966) (ground-state energy; from memory).
+L. Hulthén, Ark. Mat. Astron. Fys. 26A, No. 11 (1938).
+"""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from ..errors import InputError
+from ..units import K_B_MEV
+from .neutron import convolve_cumulative, gaussian
+
+__all__ = ["spinon_bounds", "spinon_gap", "xxz_ground_state_energy", "first_moment",
+           "muller_edges", "muller_amplitude", "muller_density", "muller_cumulative",
+           "spinon_spectrum", "OMEGA_FLOOR"]
+
+#: Floor of the line-shape lower edge, as a fraction of the upper edge ω_T.
+OMEGA_FLOOR = 1e-3
+_CHUNK = 4096                       # active pairs per block in the quadrature
+_N_SIGMA = 6.0                      # resolution window ±6σ (tail weight 2e-9)
+
+
+# ------------------------------------------------------------------ helpers and checks
+def _as_params(J, delta):
+    J = np.asarray(J, dtype=float)
+    delta = np.asarray(delta, dtype=float)
+    if not np.all(np.isfinite(J)) or np.any(J <= 0):
+        raise InputError("the exchange J must be positive and finite (meV); "
+                         f"got minimum {np.min(J)!r}")
+    if not np.all(np.isfinite(delta)) or np.any(delta <= -1):
+        raise InputError("the XXZ anisotropy Δ must be finite and > -1; "
+                         f"got minimum {np.min(delta)!r}")
+    return J, delta
+
+
+def _reduced_phase(q):
+    """Map any real chain phase onto [0, π] using 2π periodicity and q → −q."""
+    q = np.asarray(q, dtype=float)
+    return np.abs(np.remainder(q + np.pi, 2.0 * np.pi) - np.pi)
+
+
+def _theta_234(nome):
+    """Jacobi theta functions θ2, θ3, θ4 at zero argument for a nome ≤ e^{−π}.
+
+    Seven terms reach double precision for nome ≤ e^{−π} (Abramowitz & Stegun 16.27)."""
+    n = np.arange(1, 8).reshape((-1,) + (1,) * np.ndim(nome))
+    qn2 = nome ** (n * n)
+    t3 = 1.0 + 2.0 * qn2.sum(axis=0)
+    t4 = 1.0 + 2.0 * (np.where(n % 2 == 1, -1.0, 1.0) * qn2).sum(axis=0)
+    m = np.arange(0, 8).reshape((-1,) + (1,) * np.ndim(nome))
+    t2 = 2.0 * nome ** 0.25 * (nome ** (m * (m + 1))).sum(axis=0)
+    return t2, t3, t4
+
+
+def _ising_parameters(delta):
+    """Spinon parameters of the gapped chain, Δ = cosh φ ≥ 1 (rows with Δ < 1 get φ = 0).
+
+    Returns φ, k, k′ and I/J with I = (J/π) sinh φ K(k), the modulus fixed by
+    K(k′)/K(k) = φ/π, i.e. nome e^{−φ}.  k, k′ and K follow from Jacobi theta functions
+    of the nome (φ ≥ π) or of the conjugate nome e^{−π²/φ} (φ < π), which converge fast
+    and stay exact through φ → 0 (Δ → 1⁺), where k → 1, k′ → 0 and I → πJ/2.
+
+    References: Johnson, Krinsky & McCoy (1973); Abramowitz & Stegun (1964) 16.38, 17.3.
+    """
+    phi = np.arccosh(np.maximum(delta, 1.0))
+    large = phi >= np.pi
+    with np.errstate(divide="ignore", over="ignore"):
+        nome = np.where(large, np.exp(-phi), np.exp(-np.pi ** 2 / np.where(phi > 0, phi, 1.0)))
+    nome = np.where(phi > 0, nome, 0.0)
+    t2, t3, t4 = _theta_234(nome)
+    k_a, kp_a = (t2 / t3) ** 2, (t4 / t3) ** 2           # nome e^{-φ}: k = θ2²/θ3²
+    sinhc = np.where(phi > 0, np.sinh(phi) / np.where(phi > 0, phi, 1.0), 1.0)
+    # K(k) = (π/2) θ3(e^{-φ})²  =  (π/2) (π/φ) θ3(e^{-π²/φ})²   (modular transformation)
+    I_large = np.sinh(phi) / 2.0 * t3 ** 2
+    I_small = np.pi / 2.0 * sinhc * t3 ** 2
+    k = np.where(large, k_a, kp_a)
+    kp = np.where(large, kp_a, k_a)
+    I_over_J = np.where(large, I_large, I_small)
+    return phi, k, kp, I_over_J
+
+
+# ------------------------------------------------------------------------------ bounds
+def _edges(q, J, delta):
+    """Exact lower/upper continuum edges and the principal upper edge, all (n_sets, n)."""
+    J, delta = _as_params(J, delta)
+    qr = _reduced_phase(q)
+    # gapless regime, Δ = cos γ (des Cloizeaux & Pearson 1962; des Cloizeaux & Gaudin 1966)
+    gamma = np.arccos(np.clip(delta, -1.0, 1.0))
+    v = J * np.sinc(gamma / np.pi)                     # J sin γ / γ, → J at Δ = 1
+    lo_xy = 0.5 * np.pi * v * np.sin(qr)
+    up_xy = np.pi * v * np.sin(0.5 * qr)
+    # gapped regime, Δ = cosh φ (Johnson, Krinsky & McCoy 1973)
+    _, k, kp, iJ = _ising_parameters(delta)
+    I = J * iJ
+    s, c = np.sin(0.5 * qr), np.cos(0.5 * qr)
+    a = 2.0 * I * np.sqrt(kp * kp + k * k * s * s)     # 2I √(1 − k² cos²(q/2))
+    b = 2.0 * I * np.sqrt(kp * kp + k * k * c * c)     # 2I √(1 − k² sin²(q/2))
+    middle = np.abs(np.cos(qr)) <= (1.0 - kp) / (1.0 + kp)
+    lo_z = np.where(middle, I * (1.0 + kp) * np.sin(qr), np.minimum(a, b))
+    gapped = delta > 1.0
+    lower = np.where(gapped, lo_z, lo_xy)
+    upper = np.where(gapped, np.maximum(a, b), up_xy)
+    top = np.where(gapped, a, up_xy)
+    return lower, upper, top
+
+
+def spinon_bounds(q, J, delta):
+    """Exact lower and upper bounds of the two-spinon continuum of the XXZ chain.
+
+    H = J Σ [S^x S^x + S^y S^y + Δ S^z S^z], J > 0.  For −1 < Δ = cos γ ≤ 1:
+    ω_L = (πJ sin γ / 2γ)|sin q|, ω_U = (πJ sin γ / γ)|sin(q/2)|.  For Δ = cosh φ > 1 the
+    extremes of ε(p₁) + ε(q − p₁) with ε(p) = I √(1 − k² cos² p), I = (J/π) sinh φ K(k),
+    K(k′)/K(k) = φ/π: ω_U = max(2I√(1 − k²cos²(q/2)), 2I√(1 − k²sin²(q/2))); ω_L is the
+    smaller of the two for |cos q| > (1 − k′)/(1 + k′) and I(1 + k′)|sin q| otherwise.
+
+    Parameters
+    ----------
+    q : array_like, shape (n,)
+        Chain phase in radians, any real value (2π-periodic, even in q).
+    J : array_like, shape (n_sets, 1)
+        Exchange (> 0), in any energy unit; the bounds come out in the same unit.
+    delta : array_like, shape (n_sets, 1)
+        Anisotropy Δ > −1.
+
+    Returns
+    -------
+    lower, upper : ndarray, shape (n_sets, n)
+        Continuum bounds in the units of J.  The lower edge is continuous through Δ = 1;
+        for Δ > 1 the upper edge includes the π-shifted part of the continuum, so for
+        |q| < π/2 it jumps at Δ = 1 (the weight there vanishes as Δ → 1⁺).
+
+    Raises
+    ------
+    InputError
+        J ≤ 0 or Δ ≤ −1.
+
+    References
+    ----------
+    des Cloizeaux & Pearson, Phys. Rev. 128, 2131 (1962); des Cloizeaux & Gaudin,
+    J. Math. Phys. 7, 1384 (1966); Johnson, Krinsky & McCoy, Phys. Rev. A 8, 2526 (1973).
+    """
+    lower, upper, _ = _edges(q, J, delta)
+    return lower, upper
+
+
+def spinon_gap(J, delta):
+    """Two-spinon gap 2 I k′ of the XXZ chain (0 for Δ ≤ 1).
+
+    Parameters
+    ----------
+    J : array_like
+        Exchange (> 0); the gap is in the same unit.
+    delta : array_like
+        Anisotropy Δ > −1; the gap opens for Δ = cosh φ > 1.
+
+    Returns
+    -------
+    ndarray
+        Gap, = J sinh φ Σ_n (−1)ⁿ / cosh(nφ) (des Cloizeaux & Gaudin 1966), exponentially
+        small as Δ → 1⁺.
+
+    References
+    ----------
+    des Cloizeaux & Gaudin, J. Math. Phys. 7, 1384 (1966); Johnson, Krinsky & McCoy,
+    Phys. Rev. A 8, 2526 (1973).
+    """
+    J, delta = _as_params(J, delta)
+    _, _, kp, iJ = _ising_parameters(delta)
+    return np.where(delta > 1.0, 2.0 * J * iJ * kp, 0.0)
+
+
+def xxz_ground_state_energy(delta):
+    """Ground-state energy per site E_0/(N J) of the infinite S = 1/2 XXZ chain.
+
+    Δ = cos γ < 1: Δ/4 − (sin γ / 2) ∫ sinh((π−γ)x) / (sinh(πx) cosh(γx)) dx over the real
+    line (evaluated by a trapezoid rule in ln x); Δ = cosh φ > 1:
+    Δ/4 − sinh φ [1/2 + 2 Σ_{n≥1} 1/(e^{2nφ} + 1)] (Euler–Maclaurin for φ < 0.1);
+    Δ = 1: 1/4 − ln 2 (Hulthén 1938).
+
+    Parameters
+    ----------
+    delta : array_like
+        Anisotropy Δ > −1.
+
+    Returns
+    -------
+    ndarray
+        E_0 / (N J), dimensionless (−1/π at Δ = 0, → −Δ/4 for Δ → ∞).
+
+    References
+    ----------
+    C. N. Yang & C. P. Yang, Phys. Rev. 150, 327 (1966) (from memory); des Cloizeaux &
+    Gaudin (1966); Hulthén (1938).
+    """
+    delta = np.asarray(delta, dtype=float)
+    if not np.all(np.isfinite(delta)) or np.any(delta <= -1):
+        raise InputError(f"the XXZ anisotropy Δ must be finite and > -1; got {delta!r}")
+    d = delta[..., None]
+    # |Δ| < 1: x = y/γ, y = e^u; R = sinh((π/γ−1)y)/sinh(πy/γ) written with expm1
+    gamma = np.arccos(np.clip(d, -1.0 + 1e-15, 1.0))
+    u = np.linspace(math.log(1e-8), math.log(40.0), 801)
+    y = np.exp(u)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        beta = np.pi / gamma
+        ratio = np.exp(-y) * np.expm1(-2.0 * (beta - 1.0) * y) / np.expm1(-2.0 * beta * y)
+    ratio = np.where(gamma > 0, ratio, np.exp(-y))
+    f = ratio / np.cosh(y) * y
+    integral = np.sum(0.5 * (f[..., 1:] + f[..., :-1]) * np.diff(u), axis=-1)
+    r0 = 1.0 - gamma / np.pi                                 # R(0) = (β − 1)/β
+    integral = integral + r0[..., 0] * y[0]
+    e_xy = delta / 4.0 - np.sinc(gamma[..., 0] / np.pi) * integral
+    # Δ > 1
+    phi = np.arccosh(np.maximum(d, 1.0))
+    n = np.arange(1, 501)
+    with np.errstate(over="ignore"):
+        direct = np.sum(1.0 / (np.exp(np.minimum(2.0 * n * phi, 700.0)) + 1.0), axis=-1)
+    p = np.maximum(phi[..., 0], 1e-300)
+    # 1/2 + 2 Σ_{n≥1} 1/(e^{2nφ}+1); Euler–Maclaurin (Abramowitz & Stegun 23.1.30) for small φ
+    bracket = np.where(p < 0.1, math.log(2.0) / p + p / 12.0 + p ** 3 / 360.0
+                       + p ** 5 / 1890.0, 0.5 + 2.0 * direct)
+    e_z = delta / 4.0 - np.sinh(p) * bracket
+    e_z = np.where(phi[..., 0] > 0, e_z, 0.25 - math.log(2.0))
+    return np.where(delta > 1.0, e_z, np.where(delta == 1.0, 0.25 - math.log(2.0), e_xy))
+
+
+def first_moment(q, J, delta):
+    """First frequency moment of the total structure factor, M1 = −2 (1 − cos q) E_0/N.
+
+    Parameters
+    ----------
+    q : array_like, shape (n,)
+        Chain phase in radians.
+    J : array_like, shape (n_sets, 1)
+        Exchange in meV (> 0).
+    delta : array_like, shape (n_sets, 1)
+        Anisotropy Δ > −1.
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        ∫ ω S(q, ω) dω over ω > 0 in meV (S per spin, summed over components).  Exact for
+        Δ = 1; for Δ ≠ 1 the same form with E_0(Δ) is this package's stated choice.
+
+    References
+    ----------
+    P. C. Hohenberg & W. F. Brinkman, Phys. Rev. B 10, 128 (1974).
+    """
+    J, delta = _as_params(J, delta)
+    return -2.0 * (1.0 - np.cos(np.asarray(q, dtype=float))) * J * xxz_ground_state_energy(delta)
+
+
+# ------------------------------------------------------------------------ Müller shape
+def _h(r):
+    """arccosh(1/r) / √(1 − r²) for 0 < r ≤ 1, stable at r → 1 (value 1)."""
+    s = np.sqrt(np.maximum(1.0 - r * r, 0.0))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        val = np.log1p((s + s * s / (1.0 + r)) / r) / s
+    return np.where(s > 1e-8, val, 1.0)
+
+
+def _muller(q, J, delta):
+    """Line-shape edges (floored ω_L, ω_T), amplitude A and total weight, (n_sets, n)."""
+    lower, _, top = _edges(q, J, delta)
+    wl = np.maximum(lower, OMEGA_FLOOR * top)
+    m1 = first_moment(q, J, delta)
+    valid = (top > 0) & (wl < top)
+    safe_top = np.where(valid, top, 1.0)
+    r = np.where(valid, wl / safe_top, 1.0)
+    width = safe_top * np.sqrt(np.maximum(1.0 - r * r, 0.0))   # √(ω_T² − ω_L²)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        A = np.where(valid & (width > 0), m1 / np.where(width > 0, width, 1.0), 0.0)
+    total = np.where(valid, m1 / safe_top * _h(r), 0.0)           # A arccosh(ω_T/ω_L)
+    wl = np.where(valid, wl, 0.0)
+    top = np.where(valid, top, 0.0)
+    return wl, top, A, total
+
+
+def muller_edges(q, J, delta):
+    """Energy range of the Müller line shape: (ω_L floored, ω_T).
+
+    Parameters
+    ----------
+    q : array_like, shape (n,)
+        Chain phase in radians.
+    J, delta : array_like, shape (n_sets, 1)
+        Exchange in meV (> 0) and anisotropy Δ > −1 (H = J Σ [SxSx + SySy + Δ SzSz]).
+
+    Returns
+    -------
+    lower, top : ndarray, shape (n_sets, n)
+        In meV: ω_L = max(exact lower edge, OMEGA_FLOOR ω_T) and ω_T (the exact upper edge
+        for Δ ≤ 1, the principal upper edge 2I√(1 − k² cos²(q/2)) for Δ > 1); both 0
+        where the continuum is empty.
+
+    References
+    ----------
+    Müller et al., Phys. Rev. B 24, 1429 (1981); Johnson, Krinsky & McCoy (1973).
+    """
+    wl, top, _, _ = _muller(q, J, delta)
+    return wl, top
+
+
+def muller_amplitude(q, J, delta):
+    """Amplitude A(q) of the Müller shape from the first-moment sum rule.
+
+    ∫ ω A / √(ω² − ω_L²) dω over [ω_L, ω_T] = A √(ω_T² − ω_L²) = M1(q).
+
+    Parameters
+    ----------
+    q : array_like, shape (n,)
+        Chain phase in radians.
+    J, delta : array_like, shape (n_sets, 1)
+        Exchange in meV and anisotropy Δ.
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        A(q), dimensionless (S in 1/meV times meV); 0 where the continuum is empty.
+
+    References
+    ----------
+    Müller et al. (1981); Hohenberg & Brinkman, Phys. Rev. B 10, 128 (1974).
+    """
+    return _muller(q, J, delta)[2]
+
+
+def muller_density(q, omega, J, delta):
+    """T = 0 Müller line shape S(q, ω) = A Θ(ω − ω_L) Θ(ω_T − ω) / √(ω² − ω_L²).
+
+    An approximation of the two-spinon line shape, good at Δ = 1, cruder away from it.
+
+    Parameters
+    ----------
+    q, omega : array_like, shape (n,)
+        Chain phase (rad) and energy (meV) of each point.
+    J, delta : array_like, shape (n_sets, 1)
+        Exchange in meV and anisotropy Δ.
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        S in 1/meV per spin (three components summed); 0 outside the continuum and at the
+        integrable edge singularity ω = ω_L itself.
+
+    References
+    ----------
+    G. Müller, H. Thomas, H. Beck & J. C. Bonner, Phys. Rev. B 24, 1429 (1981).
+    """
+    wl, top, A, _ = _muller(q, J, delta)
+    omega = np.asarray(omega, dtype=float)
+    inside = (omega > wl) & (omega <= top)
+    arg = np.where(inside, omega * omega - wl * wl, 1.0)
+    return np.where(inside, A / np.sqrt(arg), 0.0)
+
+
+def muller_cumulative(q, omega, J, delta):
+    """Cumulative weight W(q, ω) = ∫_{ω_L}^{ω} S dω' = A arccosh(ω/ω_L), clipped to [ω_L, ω_T].
+
+    Parameters
+    ----------
+    q, omega : array_like, shape (n,)
+        Chain phase (rad) and energy (meV).
+    J, delta : array_like, shape (n_sets, 1)
+        Exchange in meV and anisotropy Δ.
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        W, dimensionless: 0 below ω_L, the total A arccosh(ω_T/ω_L) (finite thanks to the
+        floor of ω_L) above ω_T.
+
+    References
+    ----------
+    Müller et al. (1981); closed form of ∫ dω/√(ω² − a²), Abramowitz & Stegun 3.3.44.
+    """
+    wl, top, A, _ = _muller(q, J, delta)
+    omega = np.clip(np.asarray(omega, dtype=float), wl, top)
+    ratio = np.where(wl > 0, omega / np.where(wl > 0, wl, 1.0), 1.0)
+    return A * np.arccosh(np.maximum(ratio, 1.0))
+
+
+# ---------------------------------------------------------------------------- spectrum
+def _window_t(wl, lo, hi):
+    return (np.arccosh(np.maximum(lo / wl, 1.0)), np.arccosh(np.maximum(hi / wl, 1.0)))
+
+
+def _side(Es, sig, wl, top, A, kT, boltz, method, n_nodes, n_panels):
+    """Convolve A/√(ω²−ω_L²) [× e^{−ω/kT}] with G_σ(Es − ω), flat arrays of active pairs."""
+    lo = np.maximum(wl, Es - _N_SIGMA * sig)
+    hi = np.minimum(top, Es + _N_SIGMA * sig)
+    if method == "cumulative":
+        ta, tb = _window_t(wl, lo, hi)
+        t = ta[:, None] + (tb - ta)[:, None] * np.linspace(0.0, 1.0, n_nodes)
+        om = wl[:, None] * np.cosh(t)
+        W = A[:, None] * t
+        if boltz:
+            dW = np.diff(W, axis=-1) * np.exp(-0.5 * (om[:, 1:] + om[:, :-1]) / kT[:, None])
+            W = np.concatenate([np.zeros_like(W[:, :1]), np.cumsum(dW, axis=-1)], axis=-1)
+        return convolve_cumulative(Es, sig, om, W)
+    x, w = np.polynomial.legendre.leggauss(n_nodes)
+    frac = np.linspace(0.0, 1.0, n_panels + 1)
+    val = np.empty(Es.size)
+    for start in range(0, Es.size, _CHUNK):      # blocks that stay in cache
+        sl = slice(start, start + _CHUNK)
+        wl_c, lo_c, hi_c = wl[sl, None], lo[sl, None], hi[sl, None]
+        tb = np.arccosh(np.maximum((lo_c + (hi_c - lo_c) * frac) / wl_c, 1.0))  # (c, P+1)
+        half = 0.5 * (tb[:, 1:] - tb[:, :-1])
+        t = (0.5 * (tb[:, 1:] + tb[:, :-1]))[..., None] + half[..., None] * x  # (c, P, m)
+        om = np.cosh(t, out=t)
+        om *= wl_c[..., None]
+        z = (Es[sl, None, None] - om) / sig[sl, None, None]
+        z *= z
+        z *= -0.5
+        if boltz:
+            om /= kT[sl, None, None]
+            z -= om
+        np.exp(z, out=z)
+        val[sl] = np.einsum("apm,m,ap->a", z, w, half)
+    return A * val / (math.sqrt(2.0 * math.pi) * sig)
+
+
+def spinon_spectrum(q, E, sigma, T, J, delta, *, method="quadrature", n_nodes=None,
+                    n_panels=3):
+    """Resolution-convolved two-spinon S(q, E) per spin with detailed balance.
+
+    S_T(q, ω) = S_0(q, ω) for ω > 0 and S_T(q, −ω) = e^{−ω/k_BT} S_0(q, ω), with S_0 the
+    T = 0 Müller shape (:func:`muller_density`); the two-sided spectrum is convolved with
+    the Gaussian resolution of width σ at each point exactly in the cumulative-weight
+    variable W = A arccosh(ω/ω_L) (so the edge singularity and the step at ω_T are handled
+    with no ringing and no lost weight, whatever the point spacing).
+
+    Parameters
+    ----------
+    q : array_like, shape (n,)
+        Chain phase in radians.
+    E : array_like, shape (n,)
+        Energy transfer in meV (positive: neutron energy loss).
+    sigma : array_like, shape (n,)
+        Gaussian resolution standard deviation in meV (> 0).
+    T : float
+        Temperature in K (≥ 0; T = 0 gives no energy-gain side).
+    J : array_like, shape (n_sets, 1)
+        Exchange in meV, H = J Σ [SxSx + SySy + Δ SzSz], J > 0.
+    delta : array_like, shape (n_sets, 1)
+        Anisotropy Δ > −1.
+    method : {'quadrature', 'cumulative'}, optional
+        'quadrature' (default, fastest): Gauss–Legendre in W over ``n_panels`` panels of
+        the ±6σ window (``n_nodes`` = 6 per panel; relative error ~2e-4 of the peak); 'cumulative': W tabulated on
+        ``n_nodes`` = 24 nodes over the window (error ~0.3 %) and convolved by
+        :func:`evidence1d.physics.neutron.convolve_cumulative` (piecewise-linear W, exact
+        erf integrals).
+    n_nodes, n_panels : int, optional
+        Accuracy settings (see ``method``).
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        S(q, E) in 1/meV per spin, three spin components summed, no form factor.
+
+    References
+    ----------
+    Müller et al., Phys. Rev. B 24, 1429 (1981); detailed balance, Lovesey (1984);
+    Gauss–Legendre quadrature, Abramowitz & Stegun 25.4.29.
+    """
+    if method not in ("quadrature", "cumulative"):
+        raise InputError(f"the 'method' parameter of spinon_spectrum must be 'quadrature' "
+                         f"or 'cumulative'; got {method!r} instead")
+    if n_nodes is None:
+        n_nodes = 6 if method == "quadrature" else 24
+    q = np.asarray(q, dtype=float)
+    E = np.asarray(E, dtype=float)
+    sigma = np.asarray(sigma, dtype=float)
+    if np.any(~(sigma > 0)):
+        raise InputError("the resolution sigma must be positive (meV)")
+    T = float(T)
+    if not (T >= 0) or not math.isfinite(T):
+        raise InputError(f"the temperature must be finite and >= 0 K; got {T!r}")
+    if q.ndim == 1 and q.size > 1:      # maps repeat each wavevector: edges once per q
+        q_unique, inverse = np.unique(q, return_inverse=True)
+        wl, top, A, _ = (a[..., inverse] for a in _muller(q_unique, J, delta))
+    else:
+        wl, top, A, _ = _muller(q, J, delta)
+    shape = np.broadcast_shapes(wl.shape, E.shape, sigma.shape)
+    wl, top, A = (np.broadcast_to(a, shape) for a in (wl, top, A))
+    Eb, sb = np.broadcast_to(E, shape), np.broadcast_to(sigma, shape)
+    kT = K_B_MEV * T
+    out = np.zeros(shape)
+    sides = [(Eb, False)] + ([(-Eb, True)] if kT > 0 else [])
+    for Es, boltz in sides:
+        active = (A > 0) & (np.minimum(top, Es + _N_SIGMA * sb)
+                            > np.maximum(wl, Es - _N_SIGMA * sb))
+        if boltz:   # skip pairs whose Boltzmann factor underflows
+            active &= np.maximum(wl, Es - _N_SIGMA * sb) < kT * 745.0
+        idx = np.nonzero(active.ravel())[0]
+        if idx.size == 0:
+            continue
+        take = [a.ravel()[idx] for a in (Es, sb, wl, top, A)]
+        kTa = np.full(idx.size, kT if kT > 0 else 1.0)
+        out.ravel()[idx] += _side(*take, kTa, boltz, method, int(n_nodes), int(n_panels))
+    return out

@@ -1,0 +1,364 @@
+"""Linear spin waves of coupled chains with collinear Néel order.
+
+Model
+-----
+Spins S on a simple orthorhombic lattice of chains: the chain runs along c with spin spacing
+d, neighbouring chains sit at a_⊥ along a and b_⊥ along b.  Each spin has 2 neighbours along
+the chain (exchange J) and 4 on the neighbouring chains (exchange J_⊥).  Every bond carries
+the same easy-axis exchange anisotropy Δ ≥ 1 (XXZ form, the convention of the whole
+project):
+
+    H = Σ_⟨ij⟩ J_ij [S^x_i S^x_j + S^y_i S^y_j + Δ S^z_i S^z_j],   J, J_⊥ > 0 antiferromagnetic.
+
+Exchange anisotropy (not single-ion anisotropy D (S^z)²) is chosen because it opens a gap
+for every spin including S = 1/2, where (S^z)² is a constant.  The classical ground state is
+the Néel state with ordering vector (π/d, π/a_⊥, π/b_⊥), moments along z.
+
+Linear spin-wave theory (Holstein–Primakoff bosons to order S, Bogoliubov transformation)
+gives, in the chemical Brillouin zone (one spin per cell),
+
+    J(Q)  = 2 J cos q + 2 J_⊥ (cos q_a + cos q_b),      J_0 = J(0) = 2 J + 4 J_⊥,
+    A     = S Δ J_0,     B(Q) = S J(Q),
+    ħω(Q) = √(A² − B(Q)²) = S √((Δ J_0)² − J(Q)²),
+
+with q = Q_∥ d, q_a = Q_a a_⊥, q_b = Q_b b_⊥.  The gap, at Q = 0 and at the ordering vector,
+is ħω_gap = S J_0 √(Δ² − 1).  Each transverse spin component (x or y) has the one-magnon
+structure factor per spin
+
+    S^{xx}(Q, ω) = (S/2) (A − B(Q)) / ω(Q) · {[n(ω) + 1] δ(ω − ω_Q) + n(ω) δ(ω + ω_Q)},
+
+strong at the ordering vector (B = −S J_0) and weak at Q = 0.
+
+References
+----------
+R. M. White, *Quantum Theory of Magnetism*, 3rd ed. (Springer, Berlin, 2007), Ch. 6
+(Holstein–Primakoff treatment of the two-sublattice antiferromagnet, dispersion and
+transverse correlation function).
+T. Holstein & H. Primakoff, Phys. Rev. 58, 1098 (1940).
+J. H. P. Colpa, Physica A 93, 327 (1978) (diagonalisation of quadratic boson Hamiltonians).
+H. J. Schulz, Phys. Rev. Lett. 77, 2790 (1996) (Néel temperature of weakly coupled S = 1/2
+chains).
+"""
+from __future__ import annotations
+
+import numpy as np
+from scipy import special
+
+from ..units import K_B_MEV
+from . import neutron
+
+__all__ = [
+    "exchange_sum", "energy_from_exchange_sum", "dispersion", "spin_wave_gap", "one_magnon_weight",
+    "spin_wave_velocities", "transverse_spectrum", "schulz_interchain_coupling",
+    "neel_temperature", "OMEGA_FLOOR",
+]
+
+#: Smallest spin-wave energy as a fraction of S J_0 (keeps 1/ω finite at a Goldstone point).
+OMEGA_FLOOR = 1e-6
+_SCHULZ_A = 1.28      # Schulz (1996): J_⊥ = T_N / (1.28 √ln(5.8 J / T_N))
+_SCHULZ_B = 5.8
+
+
+def exchange_sum(q_par, q_a, q_b, J, J_perp):
+    """Fourier sum of the exchange J(Q) = 2 J cos q + 2 J_⊥ (cos q_a + cos q_b).
+
+    Parameters
+    ----------
+    q_par, q_a, q_b : array_like
+        Phases Q_∥ d, Q_a a_⊥, Q_b b_⊥ in radians, shape (n,).
+    J, J_perp : array_like
+        Exchanges in meV, shape (n_sets, 1); H = Σ J_ij S_i·S_j (XXZ form), J > 0 AFM.
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        J(Q) in meV.
+
+    References
+    ----------
+    R. M. White, Quantum Theory of Magnetism (2007), Ch. 6 (lattice Fourier transform of
+    the exchange).
+    """
+    return 2.0 * J * np.cos(q_par) + 2.0 * J_perp * (np.cos(q_a) + np.cos(q_b))
+
+
+def _a_and_b(q_par, q_a, q_b, J, J_perp, delta, spin):
+    J0 = 2.0 * J + 4.0 * J_perp
+    A = spin * delta * J0
+    B = spin * exchange_sum(q_par, q_a, q_b, J, J_perp)
+    return A, B, spin * J0
+
+
+def energy_from_exchange_sum(J_Q, J, J_perp, delta, spin):
+    """Spin-wave energy S √((Δ J_0)² − J(Q)²) from a given exchange sum J(Q).
+
+    Parameters
+    ----------
+    J_Q : array_like
+        Exchange sum J(Q) in meV (see :func:`exchange_sum`), broadcastable.
+    J, J_perp, delta : array_like
+        Exchanges in meV and anisotropy Δ ≥ 1 (XXZ convention, J > 0 AFM).
+    spin : float
+        Spin S.
+
+    Returns
+    -------
+    ndarray
+        ħω in meV, floored at ``OMEGA_FLOOR`` · S J_0.
+
+    References
+    ----------
+    R. M. White, Quantum Theory of Magnetism, 3rd ed. (Springer, 2007), Ch. 6.
+    """
+    J0 = 2.0 * np.asarray(J, float) + 4.0 * np.asarray(J_perp, float)
+    A = np.asarray(delta, float) * J0
+    w2 = (A - J_Q) * (A + J_Q)       # better rounding than A² − B² near a Goldstone point
+    return spin * np.maximum(np.sqrt(np.maximum(w2, 0.0)), OMEGA_FLOOR * J0)
+
+
+def dispersion(q_par, q_a, q_b, J, J_perp, delta, spin):
+    """Linear spin-wave energy ħω(Q) = S √((Δ J_0)² − J(Q)²) of the coupled-chain Néel state.
+
+    Parameters
+    ----------
+    q_par, q_a, q_b : array_like
+        Phases Q_∥ d, Q_a a_⊥, Q_b b_⊥ in radians, shape (n,).
+    J, J_perp : array_like
+        Exchange along and between chains in meV, shape (n_sets, 1), J > 0 AFM,
+        J_⊥ ≥ 0; H = Σ J_ij [S^x S^x + S^y S^y + Δ S^z S^z].
+    delta : array_like
+        Easy-axis exchange anisotropy Δ ≥ 1 (dimensionless), shape (n_sets, 1).
+    spin : float
+        Spin quantum number S.
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        ħω in meV, ≥ ``OMEGA_FLOOR`` · S J_0 (finite at a Goldstone point when Δ = 1).
+        With J_⊥ = 0 and Δ = 1 it is the 1D result 2 J S |sin q|.
+
+    References
+    ----------
+    R. M. White, Quantum Theory of Magnetism, 3rd ed. (Springer, 2007), Ch. 6;
+    T. Holstein & H. Primakoff, Phys. Rev. 58, 1098 (1940).
+    """
+    return energy_from_exchange_sum(exchange_sum(q_par, q_a, q_b, J, J_perp), J, J_perp,
+                                    delta, spin)
+
+
+def spin_wave_gap(J, J_perp, delta, spin):
+    """Spin-wave gap S J_0 √(Δ² − 1), J_0 = 2 J + 4 J_⊥, at Q = 0 and the ordering vector.
+
+    Parameters
+    ----------
+    J, J_perp : array_like
+        Exchanges in meV (XXZ convention, J > 0 AFM).
+    delta : array_like
+        Easy-axis anisotropy Δ ≥ 1.
+    spin : float
+        Spin S.
+
+    Returns
+    -------
+    ndarray
+        Gap in meV.
+
+    References
+    ----------
+    R. M. White, Quantum Theory of Magnetism (2007), Ch. 6 (anisotropy gap of the
+    two-sublattice antiferromagnet).
+    """
+    J0 = 2.0 * np.asarray(J, float) + 4.0 * np.asarray(J_perp, float)
+    d = np.asarray(delta, float)
+    return spin * J0 * np.sqrt(np.maximum(d * d - 1.0, 0.0))
+
+
+def one_magnon_weight(q_par, q_a, q_b, J, J_perp, delta, spin):
+    """Zero-temperature one-magnon weight of one transverse spin component per spin.
+
+    w(Q) = (S/2) (A − B(Q)) / ω(Q), A = S Δ J_0, B = S J(Q): the integral over energy of
+    S^{xx}(Q, ω) at T = 0 (equal for S^{yy}).
+
+    Parameters
+    ----------
+    q_par, q_a, q_b : array_like
+        Phases in radians, shape (n,).
+    J, J_perp, delta : array_like
+        Exchanges (meV) and anisotropy, shape (n_sets, 1); XXZ convention, J > 0 AFM.
+    spin : float
+        Spin S.
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        Dimensionless weight (spin² per spin).
+
+    References
+    ----------
+    R. M. White, Quantum Theory of Magnetism (2007), Ch. 6 (transverse correlation function
+    of the antiferromagnet in spin-wave theory); J. H. P. Colpa, Physica A 93, 327 (1978).
+    """
+    A, B, _ = _a_and_b(q_par, q_a, q_b, J, J_perp, delta, spin)
+    omega = energy_from_exchange_sum(B / spin, J, J_perp, delta, spin)
+    return 0.5 * spin * (A - B) / omega
+
+
+def spin_wave_velocities(J, J_perp, spin, d=1.0, a_perp=1.0, b_perp=1.0):
+    """Spin-wave velocities at a Goldstone point of the isotropic (Δ = 1) model.
+
+    Expanding ω near the ordering vector: ħω ≈ √(c_∥² k_∥² + c_⊥² (k_a² + k_b²)) with
+    c_∥ = S √(2 J J_0) d and c_⊥ = S √(2 J_⊥ J_0) a_⊥ (b_⊥ for b), J_0 = 2 J + 4 J_⊥.
+
+    Parameters
+    ----------
+    J, J_perp : array_like
+        Exchanges in meV (XXZ convention at Δ = 1).
+    spin : float
+        Spin S.
+    d, a_perp, b_perp : float, optional
+        Spacings in Å; with the default 1 the velocities are per radian of phase (meV).
+
+    Returns
+    -------
+    v_par, v_a, v_b : ndarray
+        Velocities in meV Å (or meV per radian).  v_par = 2 J S d when J_⊥ = 0.
+
+    References
+    ----------
+    R. M. White, Quantum Theory of Magnetism (2007), Ch. 6 (linear dispersion of the
+    antiferromagnet at long wavelength).
+    """
+    J = np.asarray(J, float)
+    J_perp = np.asarray(J_perp, float)
+    J0 = 2.0 * J + 4.0 * J_perp
+    v_par = spin * np.sqrt(2.0 * J * J0) * d
+    v_perp = spin * np.sqrt(2.0 * J_perp * J0)
+    return v_par, v_perp * a_perp, v_perp * b_perp
+
+
+def transverse_spectrum(q_par, q_a, q_b, energy, sigma, temperature, J, J_perp, delta,
+                        spin, damping=None):
+    """Resolution-convolved one-magnon S^{xx}(Q, E) of one transverse component, per spin.
+
+    Two modes at E = ±ħω(Q) with weights w(Q) · E[n(E)+1]/ω evaluated at E = ±ω, so that
+    the areas obey detailed balance S(Q, −ω)/S(Q, ω) = e^{−ω/k_BT}; each mode is a Gaussian
+    of the resolution width (a Voigt profile with Lorentzian HWHM ``damping`` if given).
+
+    Parameters
+    ----------
+    q_par, q_a, q_b : ndarray, shape (n,)
+        Phases in radians.
+    energy, sigma : ndarray, shape (n,)
+        Energy transfer and resolution standard deviation in meV.
+    temperature : float
+        Sample temperature in K.
+    J, J_perp, delta : ndarray, shape (n_sets, 1)
+        Exchanges in meV and anisotropy Δ (XXZ convention, J > 0 AFM).
+    spin : float
+        Spin S.
+    damping : ndarray, shape (n_sets, 1), optional
+        Lorentzian HWHM in meV; ``None`` or all zero gives sharp modes.
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        S^{xx}(Q, E) in 1/meV per spin.
+
+    References
+    ----------
+    R. M. White, Quantum Theory of Magnetism (2007), Ch. 6; S. W. Lovesey, Theory of
+    Neutron Scattering from Condensed Matter, Vol. 1 (1984), Ch. 4 (detailed balance).
+    """
+    A, B, _ = _a_and_b(q_par, q_a, q_b, J, J_perp, delta, spin)
+    omega = energy_from_exchange_sum(B / spin, J, J_perp, delta, spin)
+    w0 = 0.5 * spin * (A - B) / omega
+    centers = np.stack([omega, -omega], axis=-1)                   # (n_sets, n, 2)
+    loss = w0 * neutron.bose_energy_factor(omega, temperature) / omega    # w0 [n(ω) + 1]
+    gain = loss * neutron.boltzmann_ratio(omega, temperature)             # w0 n(ω)
+    weights = np.stack([loss, gain], axis=-1)
+    gamma = None
+    if damping is not None:
+        gamma = np.asarray(damping, dtype=float)
+        if np.all(gamma == 0.0):
+            gamma = None
+        else:
+            gamma = np.broadcast_to(gamma, omega.shape)[..., None]
+    return neutron.convolve_modes(energy, sigma, centers, weights, gamma)
+
+
+# ------------------------------------------------------------------------ Néel temperature
+def schulz_interchain_coupling(T_N, J):
+    """Interchain exchange that gives the Néel temperature T_N of coupled S = 1/2 chains.
+
+    J_⊥ = k_B T_N / (1.28 √ln(5.8 J / k_B T_N)), for k_B T_N < 5.8 J (z_⊥ = 4 neighbours).
+
+    Parameters
+    ----------
+    T_N : array_like
+        Néel temperature in K (≥ 0).
+    J : array_like
+        Chain exchange in meV (H = J Σ S_i·S_{i+1}, J > 0 AFM).
+
+    Returns
+    -------
+    ndarray
+        J_⊥ in meV (0 at T_N = 0).
+
+    References
+    ----------
+    H. J. Schulz, Phys. Rev. Lett. 77, 2790 (1996), Eq. (9) (from memory for the equation
+    number).
+    """
+    t = K_B_MEV * np.asarray(T_N, dtype=float)
+    J = np.asarray(J, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        L = np.log(_SCHULZ_B * J / np.where(t > 0, t, 1.0))
+        out = t / (_SCHULZ_A * np.sqrt(np.where(L > 0, L, np.nan)))
+    return np.where(t > 0, out, 0.0)
+
+
+def neel_temperature(J, J_perp):
+    """Néel temperature of weakly coupled chains from Schulz's relation, inverted.
+
+    Solves J_⊥ = k_B T_N / (1.28 √ln(5.8 J / k_B T_N)) for T_N.  With x = k_B T_N / J and
+    L = ln(5.8 / x) the relation reads 2L + ln L = 2 ln(5.8 J / (1.28 J_⊥)), whose solution
+    is L = W(2 (5.8 J / 1.28 J_⊥)²) / 2 with W the principal Lambert function; the
+    right-hand side is monotonic, so the root is unique for every J_⊥ > 0.  For very small
+    J_⊥ the argument is handled in log form (asymptotic W plus Newton steps), and J_⊥ = 0
+    gives T_N = 0 continuously.
+
+    Parameters
+    ----------
+    J, J_perp : array_like
+        Chain and interchain exchange in meV (J > 0 AFM, J_⊥ ≥ 0).
+
+    Returns
+    -------
+    ndarray
+        T_N in K (finite, ≥ 0; < 5.8 J / k_B).
+
+    References
+    ----------
+    H. J. Schulz, Phys. Rev. Lett. 77, 2790 (1996); Lambert W: R. M. Corless et al.,
+    Adv. Comput. Math. 5, 329 (1996).
+    """
+    J = np.asarray(J, dtype=float)
+    Jp = np.asarray(J_perp, dtype=float)
+    J, Jp = np.broadcast_arrays(J, Jp)
+    pos = (Jp > 0) & (J > 0)
+    c = np.where(pos, np.log(_SCHULZ_B / _SCHULZ_A) + np.log(np.where(pos, J, 1.0))
+                 - np.log(np.where(pos, Jp, 1.0)), 0.0)        # 2L + ln L = 2c
+    lnz = np.log(2.0) + 2.0 * c                         # z = 2 e^{2c}
+    small = lnz < 600.0
+    with np.errstate(over="ignore"):
+        z = np.exp(np.where(small, lnz, 0.0))
+    W = np.where(small, special.lambertw(z).real, 0.0)
+    lnl = np.log(np.maximum(lnz, 1.0))
+    W_asym = lnz - lnl + lnl / np.maximum(lnz, 1.0)
+    L = 0.5 * np.where(small, W, W_asym)
+    L = np.maximum(L, 1e-300)
+    for _ in range(3):                                  # Newton polish of 2L + ln L − 2c
+        f = 2.0 * L + np.log(L) - 2.0 * c
+        L = np.maximum(L - f / (2.0 + 1.0 / L), 0.5 * L)
+    x = _SCHULZ_B * np.exp(-L)
+    return np.where(pos, x * J / K_B_MEV, 0.0)

@@ -1,0 +1,65 @@
+"""What the command line prints: the case table of ``check`` and the verdict of ``run``."""
+from __future__ import annotations
+
+__all__ = ["case_table", "verdict_lines"]
+
+_RANGE_LABELS = {"Q_par": ("Q_par", "1/A"), "Q_perp": ("Q_perp", "1/A"), "Q": ("|Q|", "1/A"),
+                 "energy": ("E", "meV"), "T": ("T", "K")}
+
+
+def _table(rows, header):
+    widths = [max(len(str(r[i])) for r in [header] + rows) for i in range(len(header))]
+    line = "  ".join("-" * w for w in widths)
+    fmt = lambda r: "  ".join(str(c).ljust(w) for c, w in zip(r, widths))  # noqa: E731
+    return "\n".join([fmt(header), line] + [fmt(r) for r in rows])
+
+
+def case_table(case) -> str:
+    """Plain-text summary of a validated case: datasets, points, ranges, models.
+
+    Parameters
+    ----------
+    case : Case
+
+    Returns
+    -------
+    str
+    """
+    rows = []
+    for ds in case.datasets:
+        rng = []
+        for k, (lo, hi) in ds.ranges().items():
+            lab, unit = _RANGE_LABELS.get(k, (k, ""))
+            rng.append(f"{lab} {lo:.3g}..{hi:.3g} {unit}")
+        extra = ""
+        if ds.kind.endswith("spectrum"):
+            extra = f"T={ds.options['temperature']:g} K"
+        rows.append([ds.name, ds.kind, ds.n, "; ".join(rng), extra])
+    out = [f"case: {case.title}  ({case.path})",
+           f"sample: {case.sample.name}, {case.sample.ion}{case.sample.charge}+ S={case.sample.spin:g}, "
+           f"d={case.sample.spin_spacing:g} A",
+           "", _table(rows, ["dataset", "kind", "points", "ranges", "conditions"]), ""]
+    mrows = []
+    for name, choice in case.models.items():
+        prob = case.problem(name)
+        n_phys = sum(1 for p in prob.names if p in choice.card.parameters)
+        mrows.append([name, "yes" if choice.card.one_dimensional else "no", n_phys,
+                      len(prob.names) - n_phys, len(prob.names)])
+    out.append(_table(mrows, ["model", "1D", "physical", "nuisance", "sampled"]))
+    out.append("")
+    out.append(f"seed {case.seed}; output {case.output}")
+    return "\n".join(out)
+
+
+def verdict_lines(results) -> str:
+    """The lines ``run`` prints at the end: verdict, ln Z table, where the report is."""
+    cmp_ = results.comparison
+    lines = ["", "model                     ln Z              P(model)  1D"]
+    for name, m in results.models.items():
+        lines.append(f"{name:<25} {m.evidence.log_z:9.2f} ± {m.evidence.log_z_err:<5.2f} "
+                     f"{cmp_.probabilities[name]:8.3f}  {'yes' if m.one_dimensional else 'no'}")
+    lines += ["", f"P(one-dimensional | data) = {cmp_.p_one_dimensional:.3g}",
+              "verdict: " + cmp_.verdict]
+    if not results.reliable:
+        lines.append("WARNING: diagnostics failed; the verdict is UNRELIABLE (see report.md)")
+    return "\n".join(lines)

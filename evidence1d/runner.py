@@ -1,0 +1,215 @@
+"""``run()``: the model comparison of one case, as a pure function of (case, seed, settings).
+
+For every model family of the case: the evidence ln Z from a tempered sequence (with its
+error), the posterior from emcee started from the final tempered population, diagnostics,
+a Laplace quick look, the Savage–Dickey ratio where the family contains its 1D limit, and
+PSIS-LOO; then the comparison across families.  No global state: the function can be
+mapped over a process pool (the case and the results pickle).
+"""
+from __future__ import annotations
+
+import json
+import time
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .errors import InputError
+
+__all__ = ["ModelResult", "RunResults", "run", "effective_settings", "QUICK"]
+
+#: reductions applied by ``--quick`` (a first look, not for publication)
+QUICK = {"steps": 400, "particles": 150, "islands": 2}
+
+
+@dataclass(frozen=True)
+class ModelResult:
+    """Everything computed for one model family."""
+
+    name: str
+    title: str
+    one_dimensional: bool
+    names: list
+    units: dict
+    evidence: object
+    posterior: object
+    diagnostics: object
+    laplace: object = None
+    savage_dickey: dict | None = None
+    loo: dict | None = None
+    run_time: float = 0.0
+
+
+@dataclass(frozen=True)
+class RunResults:
+    """The results of :func:`run`.
+
+    Attributes
+    ----------
+    models : dict of str to ModelResult
+    comparison : Comparison
+    reliable : bool
+        False if any model's diagnostics failed; every output says so.
+    out : pathlib.Path
+    seed : int
+    settings : dict
+    provenance : dict
+    """
+
+    models: dict
+    comparison: object
+    reliable: bool
+    out: Path
+    seed: int
+    settings: dict
+    provenance: dict = field(default_factory=dict)
+    case_path: Path | None = None
+
+
+def effective_settings(case, quick: bool = False) -> dict:
+    """The sampler settings a run uses: the case's, reduced by :data:`QUICK` if asked."""
+    s = dict(case.sampler)
+    if quick:
+        for k, v in QUICK.items():
+            s[k] = min(s[k], v)
+    return s
+
+
+def _model_seeds(seed: int, names):
+    ss = np.random.SeedSequence(seed)
+    children = ss.spawn(len(names))
+    return {n: c for n, c in zip(names, children)}
+
+
+def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, progress: bool):
+    from .inference.compare import savage_dickey
+    from .inference.diagnostics import diagnose, psis_loo
+    from .inference.evidence import tempered_evidence
+    from .inference.laplace import laplace_evidence
+    from .inference.posterior import sample_posterior
+
+    t0 = time.perf_counter()
+    problem = case.problem(name)
+    ev_seed, post_seed, sd_seed = seedseq.spawn(3)
+    ev = tempered_evidence(problem.log_likelihood, problem.prior,
+                           rng=np.random.default_rng(ev_seed),
+                           n_particles=settings["particles"], n_islands=settings["islands"],
+                           n_mcmc=settings["mcmc_steps"] or None,
+                           target_ess=settings["ess_fraction"], progress=progress,
+                           label=f"evidence {name}")
+    ndim = len(problem.names)
+    walkers = settings["walkers"] or max(32, 2 * ndim + 2)
+    walkers += walkers % 2
+    rng_post = np.random.default_rng(post_seed)
+    pool = ev.final_samples()
+    start = pool[rng_post.choice(len(pool), size=walkers, replace=len(pool) < walkers)]
+    ckpt = None if out is None else out / "chains" / f"{name}.h5"
+    if ckpt is not None:
+        ckpt.parent.mkdir(parents=True, exist_ok=True)
+    post = sample_posterior(problem.log_posterior, problem.prior, rng=rng_post,
+                            n_walkers=walkers, n_steps=settings["steps"], initial=start,
+                            checkpoint=ckpt, resume=resume, progress=progress,
+                            checkpoint_every=settings["checkpoint_every"],
+                            label=f"posterior {name}")
+    diag = diagnose(post.chain[post.burn_in:], problem.names,
+                    acceptance=post.acceptance_fraction, tau=post.tau)
+    samples = post.samples
+    lap = laplace_evidence(problem.log_likelihood, problem.prior, samples=samples)
+    sd = None
+    nested = problem.card.nested_1d_limit
+    if nested is not None and nested["parameter"] in problem.names:
+        i = problem.names.index(nested["parameter"])
+        pr = problem.prior.priors[problem.prior.names.index(nested["parameter"])]
+        sd = savage_dickey(samples[:, i], pr, nested["value"],
+                           rng=np.random.default_rng(sd_seed))
+        sd = dict(sd.to_dict() if hasattr(sd, "to_dict") else sd)
+        sd.update(parameter=nested["parameter"], value=nested["value"])
+    loo = None
+    try:
+        draws = samples[np.linspace(0, len(samples) - 1, min(400, len(samples))).astype(int)]
+        pw = problem.log_likelihood_pointwise(draws)
+        loo_res = psis_loo(np.concatenate([pw[k] for k in pw], axis=1))
+        loo = loo_res.to_dict() if hasattr(loo_res, "to_dict") else dict(loo_res)
+    except Exception as exc:  # a predictive cross-check must not sink the run
+        loo = {"error": f"{exc.__class__.__name__}: {exc}"}
+    return ModelResult(name=name, title=problem.card.title,
+                       one_dimensional=problem.one_dimensional, names=list(problem.names),
+                       units=dict(problem.units), evidence=ev, posterior=post,
+                       diagnostics=diag, laplace=lap, savage_dickey=sd, loo=loo,
+                       run_time=time.perf_counter() - t0)
+
+
+def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume: bool = False,
+        overwrite: bool = False, figures: bool = True, models=None, progress: bool = True,
+        write: bool = True) -> RunResults:
+    """Compare the model families of a case.
+
+    Parameters
+    ----------
+    case : Case
+    seed : int, optional
+        Overrides the case's seed. The same seed and inputs give the same numbers.
+    out : str or pathlib.Path, optional
+        Output folder (default: the case's ``output``).
+    quick : bool
+        Reduced sampler settings (:data:`QUICK`) for a first look.
+    resume : bool
+        Continue from the checkpoints in ``out``.
+    overwrite : bool
+        Replace an existing output folder.
+    figures : bool
+        Draw the figures (slower).
+    models : list of str, optional
+        A subset of the case's models.
+    progress : bool
+        Progress bars on standard error.
+    write : bool
+        Write the output folder (False: compute only).
+
+    Returns
+    -------
+    RunResults
+
+    Raises
+    ------
+    InputError
+        The output folder exists (without ``overwrite`` or ``resume``), or an unknown model.
+    """
+    from .inference.compare import compare_models
+    from .provenance import provenance
+
+    seed = case.seed if seed is None else int(seed)
+    out = Path(out) if out is not None else case.output
+    names = list(case.models) if not models else list(models)
+    for n in names:
+        case.problem(n)
+    settings = effective_settings(case, quick)
+    if write:
+        if out.exists() and any(out.iterdir()) and not (overwrite or resume):
+            raise InputError(f"output folder {out} exists; use --overwrite to replace it or "
+                             "--resume to continue it")
+        if overwrite and out.exists() and not resume:
+            import shutil
+            shutil.rmtree(out)
+        out.mkdir(parents=True, exist_ok=True)
+        (out / "settings.json").write_text(json.dumps({"seed": seed, "quick": quick,
+                                                       "settings": settings}, indent=2))
+    t0 = time.time()
+    seeds = _model_seeds(seed, names)
+    results = {}
+    for n in names:
+        results[n] = _run_model(case, n, settings, seeds[n], out if write else None, resume,
+                                progress)
+    comparison = compare_models({n: (r.evidence.log_z, r.evidence.log_z_err,
+                                     r.one_dimensional) for n, r in results.items()},
+                                prior_odds=case.prior_odds)
+    reliable = all(r.diagnostics.ok for r in results.values()) and all(
+        np.isfinite(r.evidence.log_z_err) for r in results.values())
+    prov = provenance(case, seed=seed, start=t0, run_time=time.time() - t0, settings=settings)
+    res = RunResults(models=results, comparison=comparison, reliable=reliable, out=out,
+                     seed=seed, settings=settings, provenance=prov, case_path=case.path)
+    if write:
+        from .report import write_report
+        write_report(res, case, figures=figures)
+    return res

@@ -1,0 +1,165 @@
+"""Synthetic datasets from a model card: the project's own simulator.
+
+The points (wavevectors, energies, temperatures), units, resolution and sample come from a
+case file whose data files act as templates; the values are the chosen family's prediction
+at stated true parameters, with noise drawn from an explicit ``numpy.random.Generator``:
+
+spectra   counting statistics: N ~ Poisson(I · exposure), I_obs = N / exposure,
+          error = sqrt(max(N, 1)) / exposure  (``exposure`` in counts per intensity unit);
+thermo    Gaussian: error = relative · |y| + floor, y_obs = y + error · z, z ~ N(0, 1).
+
+Simulated data are not measurements; files written here say so in their header.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from . import units as U
+from .errors import InputError, closest_key
+
+__all__ = ["NoiseModel", "simulate_case", "write_dataset", "NUISANCE_TRUTH_DEFAULTS"]
+
+#: values a nuisance takes when the truth does not name it
+NUISANCE_TRUTH_DEFAULTS = {"scale": 1.0, "background": 0.0, "slope": 0.0, "elastic": 0.0,
+                           "inflate": 1.0, "chi0": 0.0, "c_imp": 0.0, "gamma_e": 0.0,
+                           "beta_lattice": 0.0}
+
+
+@dataclass(frozen=True)
+class NoiseModel:
+    """Noise of simulated data.
+
+    Parameters
+    ----------
+    exposure : float
+        Spectra: counts per unit of intensity (larger is less noisy).
+    relative : float
+        Thermodynamic data: relative error.
+    floor : dict, optional
+        Thermodynamic data: absolute error floor per kind, in internal units
+        (emu/mol, J/(mol K)); default 1e-5 emu/mol, 1e-3 J/(mol K).
+    """
+
+    exposure: float = 50.0
+    relative: float = 0.01
+    floor: dict | None = None
+
+    def thermo_floor(self, kind: str) -> float:
+        f = {"susceptibility": 1e-5, "heat_capacity": 1e-3, "entropy": 1e-3}
+        f.update(self.floor or {})
+        return f[kind]
+
+
+def _truth_vector(problem, truth: dict) -> np.ndarray:
+    unknown = [k for k in truth if k not in problem.all_names]
+    if unknown:
+        raise InputError(f"unknown parameter '{unknown[0]}' for model '{problem.model}'; "
+                         f"{closest_key(unknown[0], problem.all_names)}")
+    vec = []
+    for name in problem.names:
+        if name in truth:
+            vec.append(float(truth[name]))
+            continue
+        short = name.split(":", 1)[-1]
+        if name in problem.card.parameters:
+            raise InputError(f"the truth must give the physical parameter '{name}' "
+                             f"({problem.units[name]}); use --set {name}=VALUE")
+        vec.append(NUISANCE_TRUTH_DEFAULTS.get(short, 0.0))
+    return np.asarray(vec)
+
+
+def simulate_case(case, model: str, truth: dict, noise: NoiseModel, rng) -> dict:
+    """Simulate every dataset of ``case`` from ``model`` at the true parameters.
+
+    Parameters
+    ----------
+    case : Case
+        Its datasets give the points, units, temperatures and resolutions.
+    model : str
+        Name of a model of the case (the card to simulate from).
+    truth : dict of str to float
+        True parameter values in their units (physical ones required; nuisances default to
+        :data:`NUISANCE_TRUTH_DEFAULTS`).
+    noise : NoiseModel
+    rng : numpy.random.Generator
+
+    Returns
+    -------
+    dict of str to (y, err)
+        Simulated values and errors per dataset, in internal units.
+    """
+    problem = case.problem(model)
+    theta = _truth_vector(problem, truth)
+    pred = problem.predict(theta[None, :])
+    out = {}
+    for ds in case.datasets:
+        mu = pred[ds.name][0]
+        if not np.all(np.isfinite(mu)):
+            raise InputError(f"the model gives non-finite values for dataset '{ds.name}' at "
+                             "these parameters; check the truth")
+        if ds.kind.endswith("spectrum"):
+            lam = np.clip(mu, 0.0, None) * noise.exposure
+            counts = rng.poisson(lam)
+            y = counts / noise.exposure
+            err = np.sqrt(np.maximum(counts, 1.0)) / noise.exposure
+        else:
+            err = noise.relative * np.abs(mu) + noise.thermo_floor(ds.kind)
+            y = mu + err * rng.standard_normal(mu.shape)
+        out[ds.name] = (y, err)
+    return out
+
+
+def write_dataset(ds, y, err, path, *, note: str, fu_per_ion: float = 1.0) -> None:
+    """Write a simulated dataset as a comma-separated file in the dataset's own units.
+
+    Parameters
+    ----------
+    ds : Dataset
+        The template dataset (its independent columns are copied from its file).
+    y, err : ndarray
+        Simulated values and errors in internal units.
+    path : str or pathlib.Path
+    note : str
+        Header comment (what was simulated, from which truth and seed).
+    fu_per_ion : float
+        The sample's formula units per magnetic ion (for per-formula-unit data).
+    """
+    from .data import read_table
+    from .data.kinds import KINDS
+    spec = KINDS[ds.kind]
+    table = read_table(ds.path)
+    lower = {c.lower(): c for c in table.columns}
+    fu = fu_per_ion if ds.options.get("per") == "formula_unit" else 1.0
+    if ds.kind == "susceptibility":
+        f = U.CHI_UNITS[ds.units["chi"]] * fu
+    elif ds.kind in ("heat_capacity", "entropy"):
+        f = U.HEAT_UNITS[ds.units["heat_capacity" if ds.kind == "heat_capacity" else "entropy"]] * fu
+    else:
+        f = 1.0
+    value_col = {"crystal_spectrum": "intensity", "powder_spectrum": "intensity",
+                 "susceptibility": "chi", "heat_capacity": "C", "entropy": "S"}[ds.kind]
+    cols, header = [], []
+    for canon, aliases in spec.columns.items():
+        if canon == value_col:
+            header.append(canon)
+            cols.append(y / f)
+        elif canon == "error":
+            header.append("error")
+            cols.append(err / f)
+        else:
+            src = next(lower[a] for a in aliases if a in lower)
+            header.append(src)
+            cols.append(table.columns[src])
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    tmp = path.with_suffix(path.suffix + ".tmp")
+    with open(tmp, "w", encoding="utf-8") as fh:
+        for line in note.splitlines():
+            fh.write(f"# {line}\n")
+        fh.write(", ".join(header) + "\n")
+        for row in zip(*cols):
+            fh.write(", ".join(f"{v:.8g}" for v in row) + "\n")
+    tmp.replace(path)

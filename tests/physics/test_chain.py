@@ -1,0 +1,149 @@
+"""Tests of the Müller line shape and the convolved spinon spectrum (physics/chain.py)."""
+import pickle
+
+import numpy as np
+import pytest
+from hypothesis import given, settings, strategies as st
+from scipy import integrate
+
+from evidence1d.errors import InputError
+from evidence1d.families.base import SpectralPoints
+from evidence1d.families.spinon import SpinonFamily
+from evidence1d.physics import chain
+from evidence1d.units import K_B_MEV
+
+
+def _brute(q, E, s, T, J, D):
+    """Fine-grid convolution of the two-sided Müller spectrum, in t = arccosh(w/wL)."""
+    args = (np.array([q]), np.array([[J]]), np.array([[D]]))
+    wl, top = (a[0, 0] for a in chain.muller_edges(*args))
+    A = chain.muller_amplitude(*args)[0, 0]
+    if A == 0:
+        return 0.0
+    t = np.linspace(0, np.arccosh(top / wl), 200001)
+    w = wl * np.cosh(t)
+    g = lambda x: np.exp(-0.5 * (x / s) ** 2) / (np.sqrt(2 * np.pi) * s)
+    f = g(E - w) + (g(E + w) * np.exp(-w / (K_B_MEV * T)) if T > 0 else 0.0)
+    return A * integrate.simpson(f, x=t)
+
+
+@pytest.mark.parametrize("delta", [0.0, 0.6, 1.0, 1.7])
+@pytest.mark.parametrize("q", [0.4, 2.0, np.pi - 1e-3])
+def test_muller_sum_rules(q, delta):
+    # first-moment sum rule with E0 (Hohenberg & Brinkman, PRB 10, 128, 1974) and the
+    # closed-form cumulative A arccosh(w/wL) (Abramowitz & Stegun 3.3.44)
+    J = np.array([[1.3]])
+    d = np.array([[delta]])
+    qa = np.array([q])
+    wl, top = (a[0, 0] for a in chain.muller_edges(qa, J, d))
+    if top == 0:
+        # Delta > 1 and |q| < q_kappa: the principal continuum is empty (documented limitation)
+        assert delta > 1 and chain.muller_amplitude(qa, J, d)[0, 0] == 0
+        return
+    dens = lambda w: chain.muller_density(qa, np.array([w]), J, d)[0, 0]
+    m1, _ = integrate.quad(lambda w: w * dens(w), wl, top, limit=200)
+    assert m1 == pytest.approx(chain.first_moment(qa, J, d)[0, 0], rel=1e-6)
+    m0, _ = integrate.quad(dens, wl, top, limit=400)
+    W = chain.muller_cumulative(qa, np.array([top * 2]), J, d)[0, 0]
+    assert m0 == pytest.approx(W, rel=1e-5)
+    assert chain.first_moment(qa, J, d)[0, 0] == pytest.approx(
+        -2 * (1 - np.cos(q)) * 1.3 * chain.xxz_ground_state_energy(delta))
+
+
+def test_spectrum_matches_brute_force_convolution():
+    # brute-force fine-grid convolution; includes sigma << point spacing and the edge
+    rng = np.random.default_rng(3)
+    for _ in range(12):
+        J, D, q = rng.uniform(0.5, 8), rng.uniform(0, 3), rng.uniform(-4, 4)
+        s = 10 ** rng.uniform(-2.5, 0) * J
+        T = rng.choice([0.0, 2.0, 50.0])
+        top = chain.muller_edges(np.array([q]), np.array([[J]]), np.array([[D]]))[1][0, 0]
+        E = np.linspace(-top - 3 * s, top + 3 * s, 9)
+        ref = np.array([_brute(q, e, s, T, J, D) for e in E])
+        for method, tol in [("quadrature", 1e-3), ("cumulative", 1e-2)]:
+            got = chain.spinon_spectrum(np.full(9, q), E, np.full(9, s), T, np.array([[J]]),
+                                        np.array([[D]]), method=method)[0]
+            np.testing.assert_allclose(got, ref, atol=tol * max(ref.max(), 1e-12))
+
+
+def test_spectrum_conserves_weight():
+    # area of the convolved loss side = total Müller weight, whatever sigma (no lost weight)
+    J, d = np.array([[2.0]]), np.array([[1.0]])
+    q = 1.1
+    W = chain.muller_cumulative(np.array([q]), np.array([100.0]), J, d)[0, 0]
+    for s in [0.002, 0.05, 0.4]:
+        E = np.linspace(-3, 9, int(12 / s * 8) + 1)
+        S = chain.spinon_spectrum(np.full(E.size, q), E, np.full(E.size, s), 0.0, J, d)[0]
+        assert integrate.trapezoid(S, E) == pytest.approx(W, rel=1e-4)
+
+
+def test_detailed_balance():
+    # S(q,-E) = exp(-E/k_BT) S(q,E) (Lovesey 1984), exact when the resolution is negligible
+    J, d, T = np.array([[2.0]]), np.array([[1.0]]), 20.0
+    E = np.array([3.2, 3.4, 3.6])      # inside [wL, wU] = [3.03, 3.81] meV
+    q = np.full(3, 1.3)
+    s = np.full(3, 1e-3)
+    loss = chain.spinon_spectrum(q, E, s, T, J, d)[0]
+    gain = chain.spinon_spectrum(q, -E, s, T, J, d)[0]
+    np.testing.assert_allclose(gain / loss, np.exp(-E / (K_B_MEV * T)), rtol=1e-3)
+    assert np.all(chain.spinon_spectrum(q, -E, s, 0.0, J, d) == 0.0)
+
+
+def test_batch_equals_loop_and_periodicity():
+    rng = np.random.default_rng(0)
+    J = rng.uniform(0.5, 5, (5, 1))
+    d = rng.uniform(0, 3, (5, 1))
+    q = rng.uniform(-10, 10, 40)
+    E = rng.uniform(-5, 15, 40)
+    s = rng.uniform(0.05, 0.5, 40)
+    batch = chain.spinon_spectrum(q, E, s, 10.0, J, d)
+    loop = np.vstack([chain.spinon_spectrum(q, E, s, 10.0, J[i:i + 1], d[i:i + 1])
+                      for i in range(5)])
+    np.testing.assert_allclose(batch, loop, rtol=1e-12, atol=0)
+    # 2 pi periodicity and q -> -q symmetry of the chain (translation and inversion)
+    np.testing.assert_allclose(chain.spinon_spectrum(-q + 4 * np.pi, E, s, 10.0, J, d), batch,
+                               rtol=1e-9, atol=1e-12)
+
+
+def test_family_adapter():
+    fam = SpinonFamily()
+    assert fam.parameters == ("J", "delta", "g")
+    pts = SpectralPoints(Q_par=np.linspace(0.1, 1.5, 30), Q_a=np.zeros(30), Q_b=np.zeros(30),
+                         d=3.0, a_perp=5.0, b_perp=5.0, energy=np.linspace(0.5, 8, 30),
+                         sigma=np.full(30, 0.2), temperature=5.0)
+    p = {"J": np.array([[1.5], [3.0]]), "delta": np.array([[1.0], [2.0]]),
+         "g": np.array([[2.1], [2.1]])}
+    out = fam.spectrum(p, pts)
+    ref = chain.spinon_spectrum(pts.q_par, pts.energy, pts.sigma, 5.0, p["J"], p["delta"])
+    np.testing.assert_array_equal(out, ref)
+    assert out.shape == (2, 30) and np.all(out >= 0)
+    fam2 = pickle.loads(pickle.dumps(fam))
+    np.testing.assert_array_equal(fam2.spectrum(p, pts), out)
+
+
+def test_input_errors():
+    q = np.array([1.0])
+    with pytest.raises(InputError):
+        chain.spinon_bounds(q, np.array([[-1.0]]), np.array([[1.0]]))
+    with pytest.raises(InputError):
+        chain.spinon_bounds(q, np.array([[1.0]]), np.array([[-1.5]]))
+    with pytest.raises(InputError):
+        chain.spinon_spectrum(q, q, np.array([0.0]), 1.0, 1.0, 1.0)
+    with pytest.raises(InputError):
+        chain.spinon_spectrum(q, q, q, 1.0, 1.0, 1.0, method="other")
+
+
+@settings(max_examples=40, deadline=None)
+@given(J=st.floats(0.05, 20), D=st.floats(0, 3), T=st.floats(0.01, 300),
+       q=st.floats(-1e3, 1e3), E=st.floats(-20, 50), s=st.floats(1e-3, 3))
+def test_kernels_finite_over_prior(J, D, T, q, E, s):
+    # common practice: no NaN/inf anywhere inside the prior support
+    Ja, Da, qa = np.array([[J]]), np.array([[D]]), np.array([q, 0.0, np.pi])
+    for arr in chain.spinon_bounds(qa, Ja, Da) + chain.muller_edges(qa, Ja, Da):
+        assert np.all(np.isfinite(arr))
+    assert np.all(np.isfinite(chain.muller_amplitude(qa, Ja, Da)))
+    assert np.all(np.isfinite(chain.spinon_gap(Ja, Da)))
+    Eq = np.array([E, E, E])
+    for method in ("quadrature", "cumulative"):
+        out = chain.spinon_spectrum(qa, Eq, np.full(3, s), T, Ja, Da, method=method)
+        assert np.all(np.isfinite(out)) and np.all(out >= 0)
