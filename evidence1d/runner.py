@@ -92,26 +92,24 @@ def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, pr
     t0 = time.perf_counter()
     problem = case.problem(name)
     ev_seed, post_seed, sd_seed = seedseq.spawn(3)
+    sweeps = {"min_sweeps": settings["mcmc_steps"]} if settings["mcmc_steps"] else {}
     ev = tempered_evidence(problem.log_likelihood, problem.prior,
                            rng=np.random.default_rng(ev_seed),
                            n_particles=settings["particles"], n_islands=settings["islands"],
-                           n_mcmc=settings["mcmc_steps"] or None,
-                           target_ess=settings["ess_fraction"], progress=progress,
-                           label=f"evidence {name}")
+                           target_cess=settings["ess_fraction"], progress=progress, **sweeps)
     ndim = len(problem.names)
     walkers = settings["walkers"] or max(32, 2 * ndim + 2)
     walkers += walkers % 2
     rng_post = np.random.default_rng(post_seed)
-    pool = ev.final_samples()
+    pool = ev.posterior_samples
     start = pool[rng_post.choice(len(pool), size=walkers, replace=len(pool) < walkers)]
     ckpt = None if out is None else out / "chains" / f"{name}.h5"
     if ckpt is not None:
         ckpt.parent.mkdir(parents=True, exist_ok=True)
-    post = sample_posterior(problem.log_posterior, problem.prior, rng=rng_post,
+    post = sample_posterior(problem.log_likelihood, problem.prior, rng=rng_post,
                             n_walkers=walkers, n_steps=settings["steps"], initial=start,
                             checkpoint=ckpt, resume=resume, progress=progress,
-                            checkpoint_every=settings["checkpoint_every"],
-                            label=f"posterior {name}")
+                            checkpoint_every=settings["checkpoint_every"])
     diag = diagnose(post.chain[post.burn_in:], problem.names,
                     acceptance=post.acceptance_fraction, tau=post.tau)
     samples = post.samples
@@ -203,7 +201,9 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
                                 progress)
     comparison = compare_models({n: (r.evidence.log_z, r.evidence.log_z_err,
                                      r.one_dimensional) for n, r in results.items()},
-                                prior_odds=case.prior_odds)
+                                prior_odds=case.prior_odds,
+                                unreliable=[n for n, r in results.items()
+                                            if not r.diagnostics.ok])
     reliable = all(r.diagnostics.ok for r in results.values()) and all(
         np.isfinite(r.evidence.log_z_err) for r in results.values())
     prov = provenance(case, seed=seed, start=t0, run_time=time.time() - t0, settings=settings)

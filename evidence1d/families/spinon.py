@@ -2,7 +2,8 @@
 
 Spin Hamiltonian: H = J Σ_i [S^x_i S^x_{i+1} + S^y_i S^y_{i+1} + Δ S^z_i S^z_{i+1}],
 J > 0 antiferromagnetic, J in meV.  The spectrum is the two-spinon continuum with the
-Müller line shape (:mod:`evidence1d.physics.chain`); thermodynamics are added elsewhere.
+Müller line shape (:mod:`evidence1d.physics.chain`); χ(T), C(T) and S(T) come from the
+same J and Δ through the chain's thermodynamic tables (:mod:`evidence1d.physics.chain_thermo`).
 
 References
 ----------
@@ -14,6 +15,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from .. import units as U
+from ..errors import InputError
 from ..physics.chain import spinon_spectrum
 from .base import Family, SpectralPoints
 
@@ -63,3 +66,57 @@ class SpinonFamily(Family):
         J = np.asarray(p["J"], dtype=float).reshape(-1, 1)
         delta = np.asarray(p["delta"], dtype=float).reshape(-1, 1)
         return spinon_spectrum(pts.q_par, pts.energy, pts.sigma, pts.temperature, J, delta)
+
+    # ------------------------------------------------------------- thermodynamics
+    @staticmethod
+    def _thermo(p, T):
+        from ..physics.chain_thermo import xxz_thermodynamics
+        J = np.asarray(p["J"], dtype=float).reshape(-1, 1)
+        delta = np.asarray(p["delta"], dtype=float).reshape(-1, 1)
+        t = U.K_B_MEV * np.asarray(T, dtype=float)[None, :] / J
+        return xxz_thermodynamics(t, delta), J
+
+    def susceptibility(self, p: dict, T: np.ndarray, direction: str = "powder") -> np.ndarray:
+        """Chain susceptibility in emu/mol of magnetic ion.
+
+        χ = χ*(t, Δ) N_A g² μ_B² / J with t = k_B T / J; ``z`` is the field along the
+        anisotropy axis (χ*_zz), ``xy`` perpendicular (χ*_xx), ``powder`` the average
+        (1/3) χ_zz + (2/3) χ_xx.
+
+        Parameters
+        ----------
+        p : dict
+            ``J`` (meV), ``delta``, ``g``, each (n_sets, 1).
+        T : ndarray, shape (n,)
+            Temperature in K.
+        direction : {'powder', 'z', 'xy'}
+
+        Returns
+        -------
+        ndarray, shape (n_sets, n)
+
+        References
+        ----------
+        Eggert, Affleck & Takahashi, PRL 73, 332 (1994) (the reduced χ* convention).
+        """
+        th, J = self._thermo(p, T)
+        if direction == "z":
+            cs = th["chi_star"]
+        elif direction == "xy":
+            cs = th["chi_star_perp"]
+        elif direction == "powder":
+            cs = th["chi_star"] / 3.0 + 2.0 * th["chi_star_perp"] / 3.0
+        else:
+            raise InputError(f"unknown field direction {direction!r}; expected powder, z or xy")
+        g = np.asarray(p.get("g", 2.0), dtype=float)
+        return U.chi_star_to_emu_per_mol(cs, J, g)
+
+    def heat_capacity(self, p: dict, T: np.ndarray) -> np.ndarray:
+        """Chain heat capacity C = R · (C/R)(t, Δ) in J/(mol K), shape (n_sets, n)."""
+        th, _ = self._thermo(p, T)
+        return U.R_GAS * th["c_over_r"]
+
+    def entropy(self, p: dict, T: np.ndarray) -> np.ndarray:
+        """Chain entropy S = R · (S/R)(t, Δ) in J/(mol K); → R ln 2 at high T."""
+        th, _ = self._thermo(p, T)
+        return U.R_GAS * th["s_over_r"]

@@ -10,15 +10,16 @@ particles drawn from the prior is moved through them:
    fraction ρ of the population (Zhou, Johansen & Aston 2016, eq. 3.9); the evidence gains
    ln[(1/N) Σ w_i] (Del Moral, Doucet & Jasra 2006, eq. 14).
 2. *Resample* systematically (Kitagawa 1996), so the weights are equal again.
-3. *Rejuvenate* with Metropolis moves that leave π_β' invariant: differential-evolution
-   proposals θ_i + γ(θ_a − θ_b) + ε (ter Braak 2006) drawn from the other half of the
-   population (a red/blue split, as in Goodman & Weare 2010, so that every half-update is an
-   exact Metropolis kernel).  Differences of particles follow the scale and the correlations
-   of the current cloud and jump between separated modes (γ = 1 with probability 0.1).  The
-   step γ is adapted to the acceptance rate between temperatures, and the number of sweeps
-   per temperature is chosen so that a fraction ``moved`` of particles is expected to have
-   moved at least once, ⌈ln(1 − moved)/ln(1 − acceptance)⌉ (Drovandi & Pettitt 2011, from
-   memory), within [``min_sweeps``, ``max_sweeps``].
+3. *Rejuvenate* with Metropolis–Hastings moves that leave π_β' invariant.  Each sweep splits
+   the population in two halves and moves each half with proposals fitted to the *other*
+   half (a red/blue split as in Goodman & Weare 2010: a particle never shapes its own
+   proposal, which would break detailed balance at order 1/N and bias ln Z upwards): an
+   independent proposal from a multivariate Student t (ν = 5) with the other half's mean
+   and covariance (South, Pettitt & Drovandi 2019), then a random walk with that covariance
+   scaled by a step adapted towards 25 % acceptance (Roberts, Gelman & Gilks 1997).  The
+   number of sweeps per temperature is chosen so that a fraction ``moved`` of particles is
+   expected to have moved at least once, ⌈ln(1 − moved)/ln(1 − acceptance)⌉ (Drovandi &
+   Pettitt 2011, from memory), within [``min_sweeps``, ``max_sweeps``].
 
 Why SMC rather than stepping-stone chains: the temperature ladder is chosen on the fly from
 the particles themselves, every temperature is visited by a whole population in vectorised
@@ -43,7 +44,9 @@ References
    Soc. B 68, 411 (2006).
 .. [2] Y. Zhou, A. M. Johansen and J. A. D. Aston, "Toward automatic model comparison: an
    adaptive sequential Monte Carlo approach", J. Comput. Graph. Stat. 25, 701 (2016).
-.. [3] C. J. F. ter Braak, Stat. Comput. 16, 239 (2006): differential-evolution MCMC.
+.. [3] L. F. South, A. N. Pettitt and C. C. Drovandi, "Sequential Monte Carlo samplers with
+   independent Markov chain Monte Carlo proposals", Bayesian Analysis 14, 753 (2019).
+.. [7] G. O. Roberts, A. Gelman and W. R. Gilks, Ann. Appl. Probab. 7, 110 (1997).
 .. [4] G. Kitagawa, "Monte Carlo filter and smoother for non-Gaussian nonlinear state space
    models", J. Comput. Graph. Stat. 5, 1 (1996): systematic resampling.
 .. [5] C. C. Drovandi and A. N. Pettitt, "Estimation of parameters for macroparasite
@@ -184,7 +187,8 @@ class EvidenceResult:
     wall_time: float
     settings: dict
     method: str = ("sequential Monte Carlo with adaptive tempering (conditional ESS), "
-                   "differential-evolution moves; error from independent islands")
+                   "independent-t and random-walk moves fitted to the other half; "
+                   "error from independent islands")
     warnings: tuple = field(default_factory=tuple)
 
     @property

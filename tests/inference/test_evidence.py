@@ -21,11 +21,12 @@ def test_linear_gaussian_evidence(rng, d, kind, width, corr):
     if kind == "uniform":
         corr = 0.0
     loglike, prior, truth, _, _ = linear_gaussian(rng, d, kind, width, corr)
-    res = tempered_evidence(loglike, prior, rng=rng, n_particles=400, n_islands=8, progress=False)
+    res = tempered_evidence(loglike, prior, rng=rng, n_particles=250, n_islands=16,
+                            progress=False)
     assert abs(res.log_z - truth) < 3 * res.log_z_err
     assert abs(res.log_z - truth) < 0.15
     assert res.n_evaluations > 0 and res.islands[0].betas[-1] == 1.0
-    assert res.islands[0].samples.shape[1:] == (400, d)
+    assert res.islands[0].samples.shape[1:] == (250, d)
 
 
 def test_bimodal_evidence_and_mode_weights(rng):
@@ -43,7 +44,8 @@ def test_bimodal_evidence_and_mode_weights(rng):
 
     prior = JointPrior(["x", "y"], [Uniform(-10, 10)] * 2)
     truth = np.log(amp) - np.log(400.0)
-    res = tempered_evidence(loglike, prior, rng=rng, n_particles=400, n_islands=8, progress=False)
+    res = tempered_evidence(loglike, prior, rng=rng, n_particles=250, n_islands=16,
+                            progress=False)
     assert abs(res.log_z - truth) < max(3 * res.log_z_err, 0.05) and abs(res.log_z - truth) < 0.15
     frac = np.mean(res.posterior_samples[:, 0] > 0)
     assert abs(frac - 0.7) < 0.08   # mode weight, binomial spread of correlated particles
