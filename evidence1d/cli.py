@@ -52,6 +52,8 @@ def _parser() -> argparse.ArgumentParser:
                    help="replace an existing output folder")
     r.add_argument("--no-figures", action="store_true", help="skip the figures")
     r.add_argument("--models", help="comma-separated subset of the case's models")
+    r.add_argument("--workers", type=int, default=None,
+                   help="processes for the model families (default: one per CPU core)")
 
     rp = sub.add_parser("report", help="rebuild the report from saved results",
                         epilog=_EXAMPLES["report"], formatter_class=fmt)
@@ -104,7 +106,8 @@ def _cmd_run(args):
     case = load_case(args.case)
     models = args.models.split(",") if args.models else None
     results = run(case, seed=args.seed, out=args.out, quick=args.quick, resume=args.resume,
-                  overwrite=args.overwrite, figures=not args.no_figures, models=models)
+                  overwrite=args.overwrite, figures=not args.no_figures, models=models,
+                  workers=args.workers)
     print(verdict_lines(results))
     print(f"\nreport: {results.out / 'report.md'}")
     return 0

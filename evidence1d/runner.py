@@ -9,6 +9,7 @@ mapped over a process pool (the case and the results pickle).
 from __future__ import annotations
 
 import json
+import os
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -76,6 +77,12 @@ def effective_settings(case, quick: bool = False) -> dict:
     return s
 
 
+def _workers(workers, n_models: int) -> int:
+    if workers is None:
+        workers = int(os.environ.get("EVIDENCE1D_WORKERS", "0")) or (os.cpu_count() or 1)
+    return max(1, min(int(workers), n_models))
+
+
 def _model_seeds(seed: int, names):
     ss = np.random.SeedSequence(seed)
     children = ss.spawn(len(names))
@@ -113,7 +120,8 @@ def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, pr
     diag = diagnose(post.chain[post.burn_in:], problem.names,
                     acceptance=post.acceptance_fraction, tau=post.tau)
     samples = post.samples
-    lap = laplace_evidence(problem.log_likelihood, problem.prior, samples=samples)
+    lap = laplace_evidence(problem.log_likelihood, problem.prior, samples=samples,
+                           optimise=False)
     sd = None
     nested = problem.card.nested_1d_limit
     if nested is not None and nested["parameter"] in problem.names:
@@ -140,7 +148,7 @@ def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, pr
 
 def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume: bool = False,
         overwrite: bool = False, figures: bool = True, models=None, progress: bool = True,
-        write: bool = True) -> RunResults:
+        write: bool = True, workers: int | None = None) -> RunResults:
     """Compare the model families of a case.
 
     Parameters
@@ -164,6 +172,10 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
         Progress bars on standard error.
     write : bool
         Write the output folder (False: compute only).
+    workers : int, optional
+        Processes over which the model families are spread (default: one per family, at
+        most the number of CPU cores; 1 runs them in this process). Each family has its own
+        seed, so the numbers do not depend on this.
 
     Returns
     -------
@@ -195,10 +207,19 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
                                                        "settings": settings}, indent=2))
     t0 = time.time()
     seeds = _model_seeds(seed, names)
-    results = {}
-    for n in names:
-        results[n] = _run_model(case, n, settings, seeds[n], out if write else None, resume,
-                                progress)
+    workers = _workers(workers, len(names))
+    target = out if write else None
+    if workers > 1:
+        import concurrent.futures as cf
+        import multiprocessing as mp
+        ctx = mp.get_context("spawn" if os.name == "nt" else "fork")
+        with cf.ProcessPoolExecutor(max_workers=workers, mp_context=ctx) as pool:
+            futures = {n: pool.submit(_run_model, case, n, settings, seeds[n], target,
+                                      resume, progress) for n in names}
+            results = {n: futures[n].result() for n in names}
+    else:
+        results = {n: _run_model(case, n, settings, seeds[n], target, resume, progress)
+                   for n in names}
     comparison = compare_models({n: (r.evidence.log_z, r.evidence.log_z_err,
                                      r.one_dimensional) for n, r in results.items()},
                                 prior_odds=case.prior_odds,

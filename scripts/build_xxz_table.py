@@ -13,10 +13,11 @@ From the full spectra we get, per site and in units of J (t = k_B T / J):
   (M, k) and (M + 1, k) blocks, degenerate pairs taken in their limit β e^{-βE};
 * C / R = (<E²> − <E>²) / (N t²) and S / R = (ln Z + <E>/t) / N.
 
-Rings of 12, 14 and 16 sites are compared to find where the finite-size error exceeds the
-0.5 % target; below that temperature the low-temperature forms of
-:mod:`evidence1d.physics.chain_thermo` take over (fitted here to the converged ring data),
-above the table the high-temperature series does.  Run ``python scripts/build_xxz_table.py``
+Rings of 10 to 16 sites are extrapolated (Shanks) and compared to find where the
+finite-size error exceeds the 0.5 % target; below that temperature the low-temperature forms
+of :mod:`evidence1d.physics.chain_thermo` take over (fitted here to the converged ring data),
+above the table the high-temperature series does.  The 16-site ring takes about 15 minutes
+on 2 shared cores, the rest a minute.  Run ``python scripts/build_xxz_table.py``
 from the repository root; the result is deterministic (no random numbers).
 
 References
@@ -29,6 +30,7 @@ J. C. Bonner and M. E. Fisher, Phys. Rev. 135, A640 (1964) — finite-ring metho
 from __future__ import annotations
 
 import json
+import os
 import platform
 import sys
 import time
@@ -38,6 +40,7 @@ from pathlib import Path
 import numpy as np
 import scipy
 import scipy.linalg
+import scipy.optimize
 
 ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
@@ -327,8 +330,9 @@ def ring_thermodynamics(spec, t):
 # --------------------------------------------------------------------------------------------
 # table construction
 # --------------------------------------------------------------------------------------------
-#: ring sizes compared; the largest is used, the next one measures its finite-size error
-RING_SIZES = (12, 14, 16)
+#: ring sizes; the last three give a Shanks (Aitken Δ²) extrapolation, the first three a
+#: second one whose difference estimates its error
+RING_SIZES = (10, 12, 14, 16)
 #: grid of the shipped table: uniform in ln t and in Δ
 T_GRID = np.exp(np.linspace(np.log(1e-3), np.log(1e4), 323))
 DELTA_GRID = np.linspace(0.0, 3.0, 31)
@@ -360,34 +364,71 @@ def ring_table(delta_grid=DELTA_GRID, t_grid=T_GRID, sizes=RING_SIZES, log=print
 
 #: finite-size target: the two largest rings must agree to this relative accuracy
 TOLERANCE = 0.005
-#: half-width in ln t of the smooth blend between low-temperature form and ring data
+#: half-width in ln t of the smooth blend (above the join) between low-temperature form and ring data
 BLEND = 0.15
+#: powers of t in the exponent of the low-temperature entropy form
+C_POWERS = (2, 3, 4)
 GROUPS = {"chi": ("chi_star",), "perp": ("chi_star_perp",), "cs": ("c_over_r", "s_over_r")}
 
 
-def join_temperatures(rings, t_grid=T_GRID, delta_grid=DELTA_GRID, tol=TOLERANCE):
-    """Join temperature per Δ and quantity group: below it the two largest rings differ.
+def _shanks(q0, q1, q2):
+    """Aitken Δ² (Shanks) limit of three successive ring sizes; q2 where already converged.
 
-    The raw values (smallest t above which |Q_N/Q_{N-2} − 1| < tol everywhere) are made a
-    smooth function of Δ by a quartic fit in ln t, shifted up to lie above every raw value.
+    Finite-temperature corrections of rings decay exponentially with N (for N t ≫ u), so
+    q_N ≈ q_∞ + A r^N and q_∞ = q2 − (q2 − q1)² / ((q2 − q1) − (q1 − q0)).
+    (D. Shanks, J. Math. Phys. 34, 1 (1955).)
+    """
+    d1, d2 = q1 - q0, q2 - q1
+    den = d2 - d1
+    converged = np.abs(d2) < 1e-9 * np.abs(q2)
+    safe = np.where(converged | (den == 0.0), 1.0, den)
+    return np.where(converged | (den == 0.0), q2, q2 - d2 * d2 / safe)
+
+
+def ring_estimate(rings):
+    """Extrapolated ring values and their relative error estimate.
+
+    Returns
+    -------
+    (dict, dict)
+        quantity → Shanks limit of the three largest rings, and quantity → |S_big/S_small − 1|
+        with S_small the limit from the three smallest rings.
+    """
+    sizes = sorted(rings)
+    best, err = {}, {}
+    for q in QUANTITIES:
+        vals = [rings[n][q] for n in sizes]
+        with np.errstate(all="ignore"):
+            big = _shanks(*vals[-3:])
+            small = _shanks(*vals[-4:-1])
+        best[q] = big
+        with np.errstate(all="ignore"):
+            e = np.abs(big / small - 1.0)
+        err[q] = np.where(np.isfinite(e), e, np.inf)
+    return best, err
+
+
+def join_temperatures(err, t_grid=T_GRID, delta_grid=DELTA_GRID, tol=TOLERANCE):
+    """Join temperature per Δ and quantity group: below it the ring estimate is not converged.
+
+    The raw values (smallest t above which the error estimate stays below ``tol``) are made a
+    smooth function of Δ by a quartic (quadratic for the noisier transverse one) fit in ln t, shifted up to lie above every raw value.
 
     Returns
     -------
     dict
         group → (raw, smooth) arrays of shape (n_delta,).
     """
-    sizes = sorted(rings)
-    big, small = rings[sizes[-1]], rings[sizes[-2]]
     window = t_grid <= 5.0
     out = {}
     for group, names in GROUPS.items():
-        rel = np.max([np.abs(big[q] / small[q] - 1.0) for q in names], axis=0)[:, window]
+        rel = np.max([err[q] for q in names], axis=0)[:, window]
         raw = []
         for row in rel:
-            bad = np.nonzero(row > tol)[0]
+            bad = np.nonzero(~(row < tol))[0]
             raw.append(t_grid[window][bad.max() + 1] if bad.size else t_grid[window][0])
         raw = np.log(np.array(raw))
-        coef = np.polynomial.polynomial.polyfit(delta_grid, raw, 4)
+        coef = np.polynomial.polynomial.polyfit(delta_grid, raw, 2 if group == "perp" else 4)
         fit = np.polynomial.polynomial.polyval(delta_grid, coef)
         fit += max(0.0, float(np.max(raw - fit)))
         out[group] = (np.exp(raw), np.exp(fit))
@@ -400,13 +441,18 @@ def _smoothstep(z):
     return z ** 3 * (10.0 - 15.0 * z + 6.0 * z * z)
 
 
-def _solve_two(f1, f2, target, log_t, i):
-    """Coefficients (a, b) with a f1 + b f2 matching value and ln-t slope of target at i."""
-    d = lambda f: (f[i + 1] - f[i - 1]) / (log_t[i + 1] - log_t[i - 1])  # noqa: E731
-    s1, s2 = f1[i], f2[i]
-    mat = np.array([[1.0, 1.0], [d(f1) / s1, d(f2) / s2]])
-    a, b = np.linalg.solve(mat, np.array([target[i], d(target)]))
-    return a / s1, b / s2
+def _match(funcs, target, log_t, i):
+    """Coefficients c with Σ c_k f_k matching value and ln-t slope of target at index i.
+
+    With more functions than the two conditions the minimum-norm solution (functions scaled
+    to 1 at the join) is taken; it stays continuous in Δ when two functions become collinear.
+    """
+    def d(f):
+        return (f[i + 1] - f[i - 1]) / (log_t[i + 1] - log_t[i - 1])
+    scale = np.array([f[i] for f in funcs])
+    mat = np.array([[f[i] for f in funcs], [d(f) for f in funcs]]) / scale
+    coef = np.linalg.pinv(mat) @ np.array([target[i], d(target)])
+    return coef / scale
 
 
 def assemble_delta(delta, ring_big, t_join, log=print):
@@ -435,42 +481,61 @@ def assemble_delta(delta, ring_big, t_join, log=print):
     final = {}
 
     def blend(log_low, log_ring, tj):
-        w = _smoothstep((lt - np.log(tj) + BLEND) / (2 * BLEND))
-        return (1 - w) * log_low + w * log_ring
+        w = _smoothstep((lt - np.log(tj)) / (2 * BLEND))
+        return np.where(w <= 0.0, log_low, np.where(w >= 1.0, log_ring,
+                                                    (1 - w) * log_low + w * log_ring))
 
-    # longitudinal susceptibility: χ0 (1 + a y + b t²) √(1+x) e^{-x}
+    # longitudinal susceptibility: χ0 (1 + a y + b t² + c t⁴) √(1+x) e^{-x}
     i = int(np.searchsorted(tt, t_join["chi"]))
     env = np.log(basis["chi0"]) + basis["log_g_chi"] - x
     target = ring_big["chi_star"] / np.exp(env) - 1.0
-    a, b = _solve_two(y, tt ** 2, target, lt, i)
-    chi_low = np.exp(env) * (1.0 + a * y + b * tt ** 2)
-    info["chi"] = {"a": a, "b": b}
-    final["chi_star"] = blend(np.log(chi_low), np.log(ring_big["chi_star"]), t_join["chi"])
+    a, b, c = _match([y, tt ** 2, tt ** 4], target, lt, i)
+    chi_low = np.exp(env) * (1.0 + a * y + b * tt ** 2 + c * tt ** 4)
+    chi_low = np.where(tt <= t_join["chi"] * np.exp(2 * BLEND), chi_low, ring_big["chi_star"])
+    info["chi"] = {"a": a, "b": b, "c": c}
+    final["chi_star"] = blend(np.log(np.maximum(chi_low, 1e-300)), np.log(ring_big["chi_star"]), t_join["chi"])
 
-    # transverse: c0 + c1 χ_zz,low
+    # transverse: χ_zz + c0 + c1 χ_zz + c2 t², the correction fitted to χ_⊥ − χ_zz of the
+    # rings, so that it vanishes identically at Δ = 1 (SU(2) symmetry)
     i = int(np.searchsorted(tt, t_join["perp"]))
-    c0, c1 = _solve_two(np.ones_like(tt), chi_low, ring_big["chi_star_perp"], lt, i)
-    perp_low = np.maximum(c0 + c1 * chi_low, 1e-300)
-    info["perp"] = {"c0": c0, "c1": c1}
-    final["chi_star_perp"] = blend(np.log(perp_low), np.log(ring_big["chi_star_perp"]),
+    chi_final = np.exp(final["chi_star"])
+    c0, c1, c2 = _match([np.ones_like(tt), chi_final, tt ** 2],
+                        ring_big["chi_star_perp"] - ring_big["chi_star"], lt, i)
+    perp_low = chi_final + c0 + c1 * chi_final + c2 * tt ** 2
+    perp_low = np.where(tt <= t_join["perp"] * np.exp(2 * BLEND), perp_low,
+                        ring_big["chi_star_perp"])
+    info["perp"] = {"c0": c0, "c1": c1, "c2": c2}
+    final["chi_star_perp"] = blend(np.log(np.maximum(perp_low, 1e-300)), np.log(ring_big["chi_star_perp"]),
                                    t_join["perp"])
 
-    # heat capacity: (π t / 3u)(1 + a y³ + b t²)(1+x)^{5/2} e^{-x}; entropy = ∫ C/t dt
+    # entropy first: S/R = (π t / 3u) exp(a t² + b t³ + c t⁴) (1+x)^{3/2} e^{-x} (positive,
+    # the conformal slope at t → 0, the dilute spinon gas S ∝ t^{-1/2} e^{-ε_s/t} for Δ > 1).
+    # ln S, its first and its second derivative in ln t are matched to the ring entropy at
+    # the join; since C = dS/d ln t, the heat capacity of the same form then joins the ring C
+    # with continuous value and slope, and S = ∫ C/t holds on both sides (no blend needed)
     i = int(np.searchsorted(tt, t_join["cs"]))
-    env = np.log(basis["c1"] * tt) + basis["log_g_c"] - x
-    target = ring_big["c_over_r"] / np.exp(env) - 1.0
-    a, b = _solve_two(y ** 3, tt ** 2, target, lt, i)
-    c_low = np.exp(env) * (1.0 + a * y ** 3 + b * tt ** 2)
-    info["c"] = {"a": a, "b": b}
-    # ∫_0^t C/t' dt' = ∫ C d(ln t'); the part below the grid start is the linear law
-    s_low = c_low[0] + np.concatenate(
-        [[0.0], np.cumsum(0.5 * (c_low[1:] + c_low[:-1]) * np.diff(lt))])
-    log_c = blend(np.log(c_low), np.log(ring_big["c_over_r"]), t_join["cs"])
-    log_s = blend(np.log(np.maximum(s_low, 1e-300)), np.log(ring_big["s_over_r"]),
-                  t_join["cs"])
-    final["c_over_r"], final["s_over_r"] = log_c, log_s
-    info["s_mismatch_at_join"] = float(s_low[i] / ring_big["s_over_r"][i] - 1.0)
-    if min(chi_low.min(), c_low.min()) <= 0.0 or (c0 + c1 * chi_low).min() <= 0.0:
+    powers = C_POWERS
+    log_env = np.log(basis["c1"] * tt) + 1.5 * np.log1p(x) - x
+    dlog_env = 1.0 - 1.5 * x / (1.0 + x) + x                # d ln(env) / d ln t
+    near = slice(i - 1, i + 2)
+    target = np.log(ring_big["s_over_r"][near]) - log_env[near]
+    h = lt[i + 1] - lt[i]
+
+    def conditions(f):
+        return np.array([f[1], (f[2] - f[0]) / (2 * h), (f[2] - 2 * f[1] + f[0]) / h ** 2])
+    mat = np.array([conditions(tt[near] ** p) for p in powers]).T
+    coef = np.linalg.solve(mat, conditions(target))
+    poly = np.minimum(sum(k * tt ** p for k, p in zip(coef, powers)), 700.0)
+    s_low = np.exp(log_env + poly)
+    c_low = s_low * (dlog_env + sum(p * k * tt ** p for k, p in zip(coef, powers)))
+    below = tt < t_join["cs"]
+    final["s_over_r"] = np.log(np.where(below, s_low, ring_big["s_over_r"]))
+    final["c_over_r"] = np.log(np.where(below, np.maximum(c_low, 1e-300), ring_big["c_over_r"]))
+    info["c"] = {"powers": list(powers), "coefficients": [float(k) for k in coef]}
+    c_ratio = c_low[i] / ring_big["c_over_r"][i] - 1.0
+    info["c_mismatch_at_join"] = float(c_ratio)
+    low = tt < t_join["cs"]
+    if min(chi_low[low].min(), c_low[low].min(), perp_low[low].min()) <= 0.0:
         log(f"warning: non-positive low-temperature form at delta = {delta}")
     return final, info
 
@@ -490,14 +555,24 @@ def build_table(rings, delta_grid=DELTA_GRID, t_grid=T_GRID, log=print):
         ln Q + ε_s/t for the activated quantities, ln Q otherwise) and json diagnostics.
     """
     from evidence1d.physics.chain_thermo import ACTIVATED, activation_energy
-    joins = join_temperatures(rings, t_grid, delta_grid)
-    big = rings[max(rings)]
+    big, err = ring_estimate(rings)
+    joins = join_temperatures(err, t_grid, delta_grid)
     arrays = {q: np.zeros((delta_grid.size, t_grid.size)) for q in QUANTITIES}
     fits = []
     for j, delta in enumerate(delta_grid):
         ring_big = {q: big[q][j] for q in QUANTITIES}
+        # entropy of the ring region from its heat capacity, S = ln 2 − ∫_t^∞ C/t' dt'
+        # (high-temperature tail (2 + Δ²)/(32 t²) beyond the grid), so that S and C are
+        # exactly consistent and S(∞) = ln 2
+        c = ring_big["c_over_r"]
+        with np.errstate(all="ignore"):
+            seg = 0.5 * (c[1:] + c[:-1]) * np.diff(np.log(t_grid))
+            tail = (2.0 + delta ** 2) / (32.0 * t_grid[-1] ** 2)
+            above = np.concatenate([np.cumsum(seg[::-1])[::-1], [0.0]]) + tail
+        ring_big["s_over_r"] = np.log(2.0) - above
         t_join = {g: float(joins[g][1][j]) for g in GROUPS}
-        final, info = assemble_delta(float(delta), ring_big, t_join, log=log)
+        with np.errstate(all="ignore"):
+            final, info = assemble_delta(float(delta), ring_big, t_join, log=log)
         x = activation_energy(delta) / t_grid
         for q in QUANTITIES:
             arrays[q][j] = final[q] + (x if q in ACTIVATED else 0.0)
@@ -511,30 +586,41 @@ def build_table(rings, delta_grid=DELTA_GRID, t_grid=T_GRID, log=print):
 
 def main():
     """Run the diagonalisations, build the table and write the npz and json files."""
+    write_table(ring_table())
+
+
+def write_table(rt, out_dir=ROOT / "evidence1d" / "physics" / "tables"):
+    """Build the table from ring data ``rt`` (from :func:`ring_table`) and write npz + json.
+
+    The recorded run time is the diagonalisation time per ring size plus the build time.
+    """
     start = time.perf_counter()
-    out_dir = ROOT / "evidence1d" / "physics" / "tables"
+    out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
-    rt = ring_table()
     arrays, diag = build_table(rt["data"])
     np.savez_compressed(out_dir / "xxz_thermo.npz", **arrays)
     meta = {
         "method": "exact diagonalisation of periodic S=1/2 XXZ rings in (S^z, k) sectors "
                   "(complex Hermitian blocks, spin inversion M <-> N-M); transverse "
-                  "susceptibility from the Kubo formula with <M+1,k|S^+_tot|M,k>; "
-                  "largest ring used where it agrees with the next smaller one to "
-                  f"{TOLERANCE:.1%}, low-temperature forms of "
-                  "evidence1d.physics.chain_thermo joined below (value and slope matched, "
-                  f"C2 blend over +-{BLEND} in ln t)",
+                  "susceptibility from the Kubo formula with <M+1,k|S^+_tot|M,k>; ring "
+                  "values = Shanks (Aitken) limit of the three largest rings, error "
+                  "estimate = its difference from the limit of the three smallest; where "
+                  f"that exceeds {TOLERANCE:.1%} the low-temperature forms of "
+                  "evidence1d.physics.chain_thermo take over: susceptibilities with value "
+                  f"and slope matched and a C2 blend over ln t_join .. ln t_join + "
+                  f"{2 * BLEND}; entropy with value, slope and curvature matched, C = "
+                  "dS/d ln t; ring entropy = ln 2 - integral of C/t from t to infinity",
         "hamiltonian": "H = J sum_i [SxSx + SySy + Delta SzSz], J > 0",
         "stored": "ln Q on a grid uniform in ln t and Delta; ln Q + eps_s/t for chi_star, "
                   "c_over_r, s_over_r (eps_s = half the two-spinon gap, zero for Delta<=1)",
-        "ring_sizes": list(RING_SIZES),
+        "ring_sizes": sorted(int(n) for n in rt["data"]),
         "seconds_per_ring_size": {str(k): round(v, 1) for k, v in rt["seconds"].items()},
         "grid": {"t_min": float(T_GRID[0]), "t_max": float(T_GRID[-1]),
                  "n_t": int(T_GRID.size), "delta_min": float(DELTA_GRID[0]),
                  "delta_max": float(DELTA_GRID[-1]), "n_delta": int(DELTA_GRID.size)},
         "joins": diag["fits"],
-        "run_time_seconds": round(time.perf_counter() - start, 1),
+        "run_time_seconds": round(time.perf_counter() - start + sum(rt["seconds"].values()), 1),
+        "machine": f"{platform.machine()}, {os.cpu_count()} cores (shared)",
         "date": datetime.now(timezone.utc).isoformat(timespec="seconds"),
         "versions": {"python": platform.python_version(), "numpy": np.__version__,
                      "scipy": scipy.__version__},

@@ -35,7 +35,10 @@ class SpinWaveFamily(Family):
         factor (1 + Q̂_z²) S^{xx}; with ``None`` (default) Q̂_z² is replaced by its average
         1/3 over moment directions, i.e. the factor 4/3.
     n_grid : int, optional
-        Zone-quadrature nodes per phase for the thermodynamics.
+        Zone-quadrature nodes per phase for the thermodynamics (direct path only).
+    thermo_method : {'table', 'direct'}, optional
+        Magnon-gas thermodynamics from the shipped spline table (default; ~300 times
+        faster, see :mod:`evidence1d.physics.bose_thermo`) or from the zone quadrature.
 
     Notes
     -----
@@ -55,8 +58,13 @@ class SpinWaveFamily(Family):
 
     parameters = ("J", "J_perp", "delta", "damping", "g")
 
-    def __init__(self, spin: float = 0.5, moment_axis=None, n_grid: int = bose_thermo.N_GRID):
+    def __init__(self, spin: float = 0.5, moment_axis=None, n_grid: int = bose_thermo.N_GRID,
+                 thermo_method: str = "table"):
         super().__init__(spin)
+        if thermo_method not in bose_thermo.METHODS:
+            raise InputError(f"the 'thermo_method' option of gapped_spin_wave must be one of "
+                             f"{', '.join(bose_thermo.METHODS)}; got {thermo_method!r} instead")
+        self.thermo_method = thermo_method
         if moment_axis not in MOMENT_AXES:
             raise InputError(f"the 'moment_axis' option of gapped_spin_wave must be one of "
                              f"par, a, b or null; got {moment_axis!r} instead")
@@ -108,7 +116,7 @@ class SpinWaveFamily(Family):
         """
         return bose_thermo.spin_wave_susceptibility(T, p["J"], p["J_perp"], p["delta"],
                                                     self.spin, p.get("g", 2.0), direction,
-                                                    self.n_grid)
+                                                    self.n_grid, self.thermo_method)
 
     def heat_capacity(self, p: dict, T: np.ndarray) -> np.ndarray:
         """Magnon-gas heat capacity joined to the high-temperature series, J/(mol K).
@@ -120,7 +128,7 @@ class SpinWaveFamily(Family):
         R. M. White (2007), Ch. 6; Rushbrooke & Wood, Mol. Phys. 1, 257 (1958).
         """
         return bose_thermo.spin_wave_heat_capacity(T, p["J"], p["J_perp"], p["delta"],
-                                                   self.spin, self.n_grid)
+                                                   self.spin, self.n_grid, self.thermo_method)
 
     def entropy(self, p: dict, T: np.ndarray) -> np.ndarray:
         """Magnetic entropy ∫ C/T dT of :meth:`heat_capacity`, J/(mol K).
@@ -130,7 +138,7 @@ class SpinWaveFamily(Family):
         R. M. White (2007), Ch. 6.
         """
         return bose_thermo.spin_wave_entropy(T, p["J"], p["J_perp"], p["delta"], self.spin,
-                                             self.n_grid)
+                                             self.n_grid, self.thermo_method)
 
     def neel_temperature(self, p: dict) -> np.ndarray:
         """Néel temperature in K from Schulz's coupled-chain relation, shape (n_sets, 1).

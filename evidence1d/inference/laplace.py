@@ -90,7 +90,8 @@ def _hessian(f, x, h):
     return hess
 
 
-def laplace_evidence(log_likelihood, prior, map_point=None, samples=None) -> LaplaceResult:
+def laplace_evidence(log_likelihood, prior, map_point=None, samples=None,
+                     optimise: bool = True) -> LaplaceResult:
     """Approximate ln Z by the Laplace method (Kass & Raftery 1995, eq. 4.1).
 
     Parameters
@@ -103,6 +104,9 @@ def laplace_evidence(log_likelihood, prior, map_point=None, samples=None) -> Lap
     samples : ndarray (n, m), optional
         Posterior samples; without ``map_point`` the mode search starts at their best point
         and Σ is their covariance.
+    optimise : bool
+        Refine the mode with a Nelder–Mead search (one likelihood call per step); False
+        takes the best sample as the mode (cheap; for the quick look after sampling).
 
     Returns
     -------
@@ -121,10 +125,15 @@ def laplace_evidence(log_likelihood, prior, map_point=None, samples=None) -> Lap
     else:
         samples = np.asarray(samples, dtype=float)
         x0 = samples[np.argmax(target(samples))]
-    res = optimize.minimize(lambda x: -target(x[None, :])[0] if np.isfinite(target(x[None, :])[0])
-                            else 1e300, x0, method="Nelder-Mead",
-                            options={"maxfev": 400 * x0.size, "xatol": 1e-10, "fatol": 1e-12})
-    xhat = res.x if res.fun < -target(x0[None, :])[0] else x0
+    if not optimise:
+        res = optimize.OptimizeResult(x=x0, fun=-target(x0[None, :])[0])
+    else:
+        res = optimize.minimize(lambda x: -target(x[None, :])[0]
+                                if np.isfinite(target(x[None, :])[0]) else 1e300,
+                                x0, method="Nelder-Mead",
+                                options={"maxfev": 400 * x0.size, "xatol": 1e-10,
+                                         "fatol": 1e-12})
+    xhat = res.x if res.fun <= -target(x0[None, :])[0] else x0
     lp_hat = float(target(xhat[None, :])[0])
     m = xhat.size
     if samples is not None and map_point is None:

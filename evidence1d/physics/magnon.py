@@ -48,7 +48,7 @@ from ..units import K_B_MEV
 from . import neutron
 
 __all__ = [
-    "exchange_sum", "energy_from_exchange_sum", "dispersion", "spin_wave_gap", "one_magnon_weight",
+    "exchange_sum", "reduced_energy", "energy_from_exchange_sum", "dispersion", "spin_wave_gap", "one_magnon_weight",
     "spin_wave_velocities", "transverse_spectrum", "schulz_interchain_coupling",
     "neel_temperature", "OMEGA_FLOOR",
 ]
@@ -89,6 +89,34 @@ def _a_and_b(q_par, q_a, q_b, J, J_perp, delta, spin):
     return A, B, spin * J0
 
 
+def reduced_energy(d_minus, d_plus, delta):
+    """Spin-wave energy in units of S J_0 from the exchange deficits d_∓ = 1 ∓ J(Q)/J_0.
+
+    ħω / (S J_0) = √((Δ − J(Q)/J_0)(Δ + J(Q)/J_0)) = √((Δ − 1 + d_−)(Δ − 1 + d_+)); written
+    in d_− (small near Q = 0) and d_+ (small near the ordering vector) so that the rounding
+    stays relative at both energy minima.  d_− + d_+ = 2.
+
+    Parameters
+    ----------
+    d_minus, d_plus : array_like
+        1 − J(Q)/J_0 and 1 + J(Q)/J_0, each in [0, 2] (dimensionless), broadcastable.
+    delta : array_like
+        Easy-axis anisotropy Δ ≥ 1 (XXZ convention), broadcastable.
+
+    Returns
+    -------
+    ndarray
+        ħω / (S J_0) (dimensionless), floored at ``OMEGA_FLOOR``; the gap is √(Δ² − 1).
+
+    References
+    ----------
+    R. M. White, Quantum Theory of Magnetism, 3rd ed. (Springer, 2007), Ch. 6.
+    """
+    dm1 = np.asarray(delta, float) - 1.0
+    w2 = (dm1 + np.asarray(d_minus, float)) * (dm1 + np.asarray(d_plus, float))
+    return np.maximum(np.sqrt(np.maximum(w2, 0.0)), OMEGA_FLOOR)
+
+
 def energy_from_exchange_sum(J_Q, J, J_perp, delta, spin):
     """Spin-wave energy S √((Δ J_0)² − J(Q)²) from a given exchange sum J(Q).
 
@@ -104,16 +132,19 @@ def energy_from_exchange_sum(J_Q, J, J_perp, delta, spin):
     Returns
     -------
     ndarray
-        ħω in meV, floored at ``OMEGA_FLOOR`` · S J_0.
+        ħω in meV, floored at ``OMEGA_FLOOR`` · S J_0 (S J_0 times :func:`reduced_energy`).
 
     References
     ----------
     R. M. White, Quantum Theory of Magnetism, 3rd ed. (Springer, 2007), Ch. 6.
     """
     J0 = 2.0 * np.asarray(J, float) + 4.0 * np.asarray(J_perp, float)
-    A = np.asarray(delta, float) * J0
-    w2 = (A - J_Q) * (A + J_Q)       # better rounding than A² − B² near a Goldstone point
-    return spin * np.maximum(np.sqrt(np.maximum(w2, 0.0)), OMEGA_FLOOR * J0)
+    J_Q = np.asarray(J_Q, float)
+    safe = np.where(J0 > 0, J0, 1.0)
+    # J_0 ∓ J(Q) are exact differences near the minima (Sterbenz), so ω keeps its digits
+    d_m = np.where(J0 > 0, (J0 - J_Q) / safe, 1.0)
+    d_p = np.where(J0 > 0, (J0 + J_Q) / safe, 1.0)
+    return spin * J0 * reduced_energy(d_m, d_p, delta)
 
 
 def dispersion(q_par, q_a, q_b, J, J_perp, delta, spin):

@@ -136,3 +136,140 @@ def test_bad_inputs():
                                     col(2.0), "up")
     with pytest.raises(InputError):
         bt.magnon_gas(np.array([-1.0]), col(1.0), col(0.1), col(1.0), 0.5)
+
+
+# ---------------------------------------------------------------- table path vs direct path
+from hypothesis import given, settings, strategies as st  # noqa: E402
+
+
+def _prior_draw(n, seed):
+    # default priors of models/gapped_spin_wave.yaml: J log-uniform 0.1–20 meV, J_perp
+    # uniform 0–2 meV, Δ uniform 1–1.5; a few sets pinned to the edges J_perp = 0, Δ = 1
+    rng = np.random.default_rng(seed)
+    J = np.exp(rng.uniform(np.log(0.1), np.log(20.0), (n, 1)))
+    Jp, D = rng.uniform(0.0, 2.0, (n, 1)), rng.uniform(1.0, 1.5, (n, 1))
+    Jp[:2], D[2:4] = 0.0, 1.0
+    return J, Jp, D
+
+
+def test_table_equals_direct_quadrature_over_prior_support():
+    # Reference: the direct zone quadrature of this module (n_grid = 24, the default), used
+    # wherever it is itself converged (it agrees with n_grid = 40 to 2e-4); the table must
+    # then agree to 1e-3 relative for C, S and χ (accuracy target of the table).
+    J, Jp, D = _prior_draw(12, seed=11)
+    S, g = 0.5, np.full((12, 1), 2.0)
+    T = np.geomspace(0.05, 400.0, 40)
+    for f in (bt.spin_wave_heat_capacity, bt.spin_wave_entropy):
+        tab = f(T, J, Jp, D, S)
+        d24 = f(T, J, Jp, D, S, method="direct")
+        d40 = f(T, J, Jp, D, S, n_grid=40, method="direct")
+        ok = (np.abs(d24 - d40) <= 2e-4 * d40) & (d40 > 1e-6 * R_GAS)
+        assert ok.mean() > 0.6                         # most of the support is compared
+        np.testing.assert_allclose(tab[ok], d24[ok], rtol=1e-3)
+    for direction in ("z", "powder"):
+        tab = bt.spin_wave_susceptibility(T, J, Jp, D, S, g, direction)
+        d24 = bt.spin_wave_susceptibility(T, J, Jp, D, S, g, direction, method="direct")
+        d40 = bt.spin_wave_susceptibility(T, J, Jp, D, S, g, direction, n_grid=40,
+                                          method="direct")
+        # χ_z of a gapped magnet is activated below T_N; values under 1e-8 emu/mol (far below
+        # any measurement) are compared in absolute terms only
+        ok = (np.abs(d24 - d40) <= 2e-4 * d40) & (d40 > 1e-8)
+        assert ok.mean() > 0.6
+        np.testing.assert_allclose(tab, d24, rtol=0, atol=1e-8 + 1e-3 * np.max(d24))
+        np.testing.assert_allclose(tab[ok], d24[ok], rtol=1e-3)
+    # the crossover temperature of the table path equals the direct bisection root
+    np.testing.assert_allclose(bt.crossover_temperature(J, Jp, D, S),
+                               bt.crossover_temperature(J, Jp, D, S, n_grid=40,
+                                                        method="direct"), rtol=1e-3)
+
+
+def test_table_low_temperature_1d_linear_gas():
+    # J_perp = 0, Δ = 1: ħω = 2JS|sin q| with velocity 2JS (Anderson, Phys. Rev. 86, 694
+    # (1952)); a 1D Bose gas with a linear dispersion and two Goldstone points has
+    # C/R = (2/π) τ ∫₀^∞ x² eˣ/(eˣ−1)² dx = (2π/3) τ, τ = k_B T/(2 J S), and S = C
+    # (∫ x² eˣ/(eˣ − 1)² dx = π²/3, Gradshteyn & Ryzhik 3.411).  The direct rule at
+    # n_grid = 24 is 15 % off at τ = 1e-3; the table must hold to 1e-3.
+    tau = np.array([1e-4, 1e-3])
+    J = col(3.0)
+    T = tau * 2 * 3.0 * 0.5 / K_B_MEV
+    gas = bt.magnon_gas(T, J, col(0.0), col(1.0), 0.5)
+    np.testing.assert_allclose(gas["c_over_r"][0], 2 * np.pi / 3 * tau, rtol=1e-3)
+    # S integrand ~ −ln x at small x: the energy floor magnon.OMEGA_FLOOR · S J_0 cuts it,
+    # a 3e-3 effect at τ = 1e-4, so S is checked from τ = 1e-3 up
+    tau, T = tau * 10, T * 10
+    gas = bt.magnon_gas(T, J, col(0.0), col(1.0), 0.5)
+    np.testing.assert_allclose(gas["s_over_r"][0], 2 * np.pi / 3 * tau, rtol=1e-3)
+
+
+def test_table_debye_law_deep_in_the_ordered_phase():
+    # As test_debye_T3_law_of_gapless_3d_antiferromagnet (Kittel 2005, Ch. 11) at a lower
+    # temperature, where the T³ law is closer to exact and the table must hold to 5e-3.
+    J, Jp, S = col(5.0), col(0.5), 0.5
+    cp, ca, _ = magnon.spin_wave_velocities(J, Jp, S)
+    T = np.array([3e-4, 1e-3]) * S * (2 * 5.0 + 4 * 0.5) / K_B_MEV
+    c = bt.magnon_gas(T, J, Jp, col(1.0), S)["c_over_r"]
+    np.testing.assert_allclose(c, (4 * np.pi ** 2 / 15) * (K_B_MEV * T) ** 3 / (cp * ca * ca),
+                               rtol=5e-3)
+
+
+def test_table_continuous_at_zero_interchain_coupling():
+    # J_perp → 0 must approach the J_perp = 0 value smoothly (Savage–Dickey density at the
+    # nested 1D point): differences shrink with J_perp and are tiny at 1e-9 meV.
+    T = np.geomspace(0.05, 400.0, 25)
+    Jp = col(0.0, 1e-12, 1e-9, 1e-6, 1e-3)
+    J, D, g = np.full((5, 1), 7.0), np.full((5, 1), 1.1), np.full((5, 1), 2.0)
+    for out in (bt.spin_wave_heat_capacity(T, J, Jp, D, 0.5),
+                bt.spin_wave_entropy(T, J, Jp, D, 0.5),
+                bt.spin_wave_susceptibility(T, J, Jp, D, 0.5, g, "powder")):
+        dev = np.max(np.abs(out[1:] / out[0] - 1.0), axis=1)
+        assert dev[0] < 1e-8 and dev[1] < 1e-6
+        assert np.all(np.diff(dev) >= 0)
+
+
+def test_table_outside_its_domain_falls_back_to_direct():
+    # Δ = 3.5 and J_perp/J = 200 lie outside the table: those rows equal the direct path.
+    T = np.array([1.0, 10.0, 100.0])
+    J, Jp, D = col(1.0, 0.01, 2.0), col(0.1, 2.0, 0.2), col(3.5, 1.2, 1.2)
+    tab = bt.spin_wave_heat_capacity(T, J, Jp, D, 0.5)
+    ref = bt.spin_wave_heat_capacity(T, J, Jp, D, 0.5, method="direct")
+    np.testing.assert_allclose(tab[:2], ref[:2], rtol=1e-12)
+    np.testing.assert_allclose(tab[2], ref[2], rtol=1e-3)
+    with pytest.raises(InputError):
+        bt.spin_wave_entropy(T, J, Jp, D, 0.5, method="fast")
+
+
+def test_not_a_knot_spline_reproduces_cubics():
+    # A not-a-knot cubic spline interpolates any cubic polynomial exactly (C. de Boor, A
+    # Practical Guide to Splines, 2001, Ch. IV); checked on the table's 1D building blocks.
+    n, h = 9, 0.5
+    xk = np.arange(n) * h
+    p = lambda x: 1.0 - 2.0 * x + 0.3 * x ** 2 - 0.7 * x ** 3        # noqa: E731
+    coef = bt._spline_matrix(n) @ p(xk)
+    u = np.linspace(0.0, n - 1.0, 37)
+    i, b, db = bt._basis(u, n)
+    val = np.sum(coef[i[:, None] + np.arange(4)] * b, axis=1)
+    der = np.sum(coef[i[:, None] + np.arange(4)] * db, axis=1) / h
+    np.testing.assert_allclose(val, p(u * h), rtol=1e-12, atol=1e-12)
+    np.testing.assert_allclose(der, -2.0 + 0.6 * u * h - 2.1 * (u * h) ** 2, rtol=1e-10,
+                               atol=1e-10)
+
+
+def test_shipped_table_size_and_provenance():
+    # The package ships the table with its build record (grid, run time); keep it small.
+    import json
+    assert bt.TABLE_PATH.stat().st_size < 5e6
+    meta = json.loads(bt.TABLE_PATH.with_suffix(".json").read_text())
+    assert meta["run_time_s"] > 0 and "grid" in meta
+
+
+@settings(max_examples=60, deadline=None)
+@given(J=st.floats(0.1, 20.0), Jp=st.sampled_from([0.0, 1e-300, 1e-12]) | st.floats(0.0, 2.0),
+       D=st.sampled_from([1.0, 1.0 + 1e-15]) | st.floats(1.0, 1.5),
+       T=st.sampled_from([0.0, 1e-9, 0.05, 400.0]) | st.floats(0.05, 400.0))
+def test_table_path_finite_in_prior_support(J, Jp, D, T):
+    Ts = np.array([0.0, 1e-4, T, 1e4])
+    args = (Ts, col(J), col(Jp), col(D), 0.5)
+    outs = [bt.spin_wave_heat_capacity(*args), bt.spin_wave_entropy(*args)]
+    outs += [bt.spin_wave_susceptibility(*args, col(2.0), d) for d in ("z", "xy", "powder")]
+    for out in outs:
+        assert np.all(np.isfinite(out)) and np.all(out >= 0)

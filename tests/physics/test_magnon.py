@@ -207,3 +207,19 @@ def test_finite_everywhere_in_prior_support(J, ratio, delta, T, damping):
     for arr in (fam.spectrum(p, pts), fam.susceptibility(p, Ts, "z"),
                 fam.susceptibility(p, Ts, "xy"), fam.heat_capacity(p, Ts), fam.entropy(p, Ts)):
         assert np.all(np.isfinite(arr))
+
+
+def test_family_thermodynamics_table_and_direct_agree():
+    # The family's default (table) thermodynamics equals its reference path (the direct zone
+    # quadrature of evidence1d.physics.bose_thermo) at temperatures where that is converged.
+    p = {"J": col(2.0, 6.0), "J_perp": col(0.0, 0.4), "delta": col(1.05, 1.3),
+         "damping": col(0.0, 0.0), "g": col(2.0, 2.1)}
+    T = np.array([5.0, 20.0, 80.0, 300.0])
+    fast, ref = SpinWaveFamily(0.5), SpinWaveFamily(0.5, thermo_method="direct")
+    for name in ("heat_capacity", "entropy"):
+        np.testing.assert_allclose(getattr(fast, name)(p, T), getattr(ref, name)(p, T),
+                                   rtol=1e-3)
+    np.testing.assert_allclose(fast.susceptibility(p, T, "z"), ref.susceptibility(p, T, "z"),
+                               rtol=1e-3)
+    with pytest.raises(InputError):
+        SpinWaveFamily(0.5, thermo_method="spline")

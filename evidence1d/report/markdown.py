@@ -1,0 +1,360 @@
+"""``report.md``: the written report of a run, rendered from the summary and the model cards.
+
+Nothing is computed here: the numbers come from :func:`evidence1d.report.summary.build_summary`
+and the facts (model cards, datasets, settings) from :func:`report_context`.  Sections: a
+loud UNRELIABLE banner when diagnostics failed, the verdict, the comparison, parameters,
+diagnostics, which datasets constrain which parameters, assumptions and limitations,
+methods with references, and a paragraph to adapt for a referee response.
+
+References
+----------
+.. [1] R. E. Kass and A. E. Raftery, J. Am. Stat. Assoc. 90, 773 (1995): wording of 2 ln K.
+"""
+from __future__ import annotations
+
+from .summary import round_interval
+
+__all__ = ["report_context", "render_markdown", "METHOD_REFERENCES", "WIDTH_LEVELS",
+           "SHARE_MIN"]
+
+#: references of the methods, cited by key
+METHOD_REFERENCES = {
+    "emcee": "D. Foreman-Mackey, D. W. Hogg, D. Lang and J. Goodman, \"emcee: The MCMC "
+             "Hammer\", PASP 125, 306 (2013).",
+    "goodman": "J. Goodman and J. Weare, \"Ensemble samplers with affine invariance\", "
+               "Commun. Appl. Math. Comput. Sci. 5, 65 (2010).",
+    "de": "C. J. F. ter Braak, Stat. Comput. 16, 239 (2006); C. J. F. ter Braak and "
+          "J. A. Vrugt, Stat. Comput. 18, 435 (2008).",
+    "smc": "P. Del Moral, A. Doucet and A. Jasra, \"Sequential Monte Carlo samplers\", "
+           "J. R. Stat. Soc. B 68, 411 (2006).",
+    "adaptive": "Y. Zhou, A. M. Johansen and J. A. D. Aston, J. Comput. Graph. Stat. 25, 701 "
+                "(2016).",
+    "independent": "L. F. South, A. N. Pettitt and C. C. Drovandi, Bayesian Analysis 14, 753 "
+                   "(2019).",
+    "resampling": "G. Kitagawa, J. Comput. Graph. Stat. 5, 1 (1996).",
+    "stepping": "W. Xie, P. O. Lewis, Y. Fan, L. Kuo and M.-H. Chen, Syst. Biol. 60, 150 "
+                "(2011).",
+    "rhat": "A. Vehtari, A. Gelman, D. Simpson, B. Carpenter and P.-C. Bürkner, Bayesian "
+            "Analysis 16, 667 (2021).",
+    "arviz": "R. Kumar, C. Carroll, A. Hartikainen and O. Martin, J. Open Source Softw. 4, "
+             "1143 (2019).",
+    "kass": "R. E. Kass and A. E. Raftery, \"Bayes factors\", J. Am. Stat. Assoc. 90, 773 "
+            "(1995).",
+    "laplace": "L. Tierney and J. B. Kadane, J. Am. Stat. Assoc. 81, 82 (1986).",
+    "dickey": "J. M. Dickey, Ann. Math. Stat. 42, 204 (1971); I. Verdinelli and "
+              "L. Wasserman, J. Am. Stat. Assoc. 90, 614 (1995).",
+    "loo": "A. Vehtari, A. Gelman and J. Gabry, Stat. Comput. 27, 1413 (2017).",
+    "fisher": "M. Tegmark, A. N. Taylor and A. F. Heavens, ApJ 480, 22 (1997).",
+}
+
+#: posterior-to-prior 68 % width ratios: below the first "constrained", below the second
+#: "partly constrained", else "prior-dominated" (a reporting choice of this package)
+WIDTH_LEVELS = (0.5, 0.9)
+#: a dataset is named as constraining a parameter when it carries at least this share of
+#: the parameter's diagonal Fisher information (a reporting choice of this package)
+SHARE_MIN = 0.1
+
+
+def report_context(results, case) -> dict:
+    """The facts report.md states besides the numbers: cards, datasets, settings.
+
+    Parameters
+    ----------
+    results : RunResults
+    case : Case
+
+    Returns
+    -------
+    dict
+        ``cards`` (model -> assumptions, limitations, references, latex symbols),
+        ``datasets`` (name, kind, points, units), ``settings``, ``seed``,
+        ``evidence_settings`` and ``burn_in_rule`` per model.
+
+    References
+    ----------
+    .. [1] Foreman-Mackey et al., PASP 125, 306 (2013).
+    """
+    cards = {}
+    for name in results.models:
+        card = case.models[name].card
+        cards[name] = {"assumptions": list(card.assumptions),
+                       "limitations": list(card.limitations),
+                       "references": list(card.references),
+                       "latex": {p: v.get("latex") for p, v in card.parameters.items()}}
+    return {
+        "cards": cards,
+        "datasets": [{"name": ds.name, "kind": ds.kind, "n": ds.n, "units": dict(ds.units)}
+                     for ds in case.datasets],
+        "settings": dict(results.settings), "seed": int(results.seed),
+        "evidence_settings": {n: dict(m.evidence.settings) for n, m in results.models.items()},
+        "burn_in_rule": {n: m.posterior.burn_in_rule for n, m in results.models.items()},
+    }
+
+
+def _f(x, fmt=".2f"):
+    return "—" if x is None else format(x, fmt)
+
+
+def _table(header, rows) -> list:
+    out = ["| " + " | ".join(header) + " |", "|" + "---|" * len(header)]
+    out += ["| " + " | ".join(str(c).replace("|", "\\|") for c in r) + " |" for r in rows]
+    return out + [""]
+
+
+def _width_word(r):
+    if r is None:
+        return "—"
+    return ("constrained" if r < WIDTH_LEVELS[0] else
+            "partly constrained" if r < WIDTH_LEVELS[1] else "prior-dominated")
+
+
+def _comparison(s) -> list:
+    c = s["comparison"]
+    best_lz = max(m["log_evidence"] for m in s["models"].values())
+    rows = []
+    for n, m in s["models"].items():
+        lap = m["laplace"]["log_evidence"] if m["laplace"] else None
+        rows.append([f"`{n}`", "yes" if m["one_dimensional"] else "no",
+                     f"{m['log_evidence']:.2f} ± {m['log_evidence_err']:.2f}",
+                     f"{m['log_evidence'] - best_lz:.2f}",
+                     f"{c['model_probabilities'][n]:.3g}", f"{c['prior_probabilities'][n]:.3g}",
+                     _f(lap)])
+    out = ["## Model comparison", ""]
+    out += _table(["family", "1D", "ln Z (nats)", "ln Z − ln Z_best", "P(model | data)",
+                   "prior P", "Laplace ln Z (approximate)"], rows)
+    out += _table(["pair a / b", "ln K (nats)", "2 ln K", "Kass–Raftery wording"],
+                  [[f"`{p['a']}` / `{p['b']}`", f"{p['ln_k']:.2f} ± {p['ln_k_err']:.2f}",
+                    f"{p['two_ln_k']:.1f}", p["wording"]] for p in c["pairs"]])
+    out += [f"P(one-dimensional | data) = {c['p_one_dimensional']:.3g} ± "
+            f"{c['p_one_dimensional_err']:.2g}, with {c['prior_odds']}.", ""]
+    sd = [(n, m["savage_dickey"]) for n, m in s["models"].items() if m["savage_dickey"]]
+    if sd:
+        out += ["Savage–Dickey density ratio of each family's nested one-dimensional limit "
+                "(positive ln BF favours the limit):", ""]
+        out += _table(["family", "limit", "ln BF (limit / full, nats)"],
+                      [[f"`{n}`", f"{d['parameter']} = {d['value']:g}",
+                        f"{_f(d['ln_bf_nested_vs_full'])} ± {_f(d['ln_bf_err'])}"
+                        if d["ln_bf_nested_vs_full"] is not None else
+                        "−∞ (no posterior mass at the limit)"] for n, d in sd])
+    loo = [(n, m["loo"]) for n, m in s["models"].items() if m["loo"]]
+    if loo:
+        out += ["PSIS-LOO predictive check (a cross-check, not the comparison itself):", ""]
+        out += _table(["family", "elpd_loo (nats)", "points with Pareto k > 0.7"],
+                      [[f"`{n}`", f"{_f(d.get('elpd_loo'))} ± {_f(d.get('se'))}",
+                        f"{d.get('n_bad_k', '—')} of {d.get('n_points', '—')}"]
+                       if "error" not in d else [f"`{n}`", f"not computed: {d['error']}", "—"]
+                       for n, d in loo])
+    return out
+
+
+def _parameters(s) -> list:
+    out = ["## Parameters", "", "Posterior medians with the central 68 % interval "
+           "(16 % and 84 % quantiles); the width ratio is the posterior 68 % width over the "
+           "prior's.", ""]
+    for n, m in s["models"].items():
+        rows = []
+        for p, v in m["parameters"].items():
+            med, plus, minus, exp = round_interval(v["median"], v["q16"], v["q84"])
+            text = f"{med} +{plus} −{minus}"
+            if exp:
+                text = f"({text}) × 10^{exp}"
+            rows.append([f"`{p}`", v["role"], text, v["unit"], v["prior"],
+                         _f(v["width_ratio"])])
+        out += [f"### {m['title']} (`{n}`)", ""]
+        out += _table(["parameter", "role", "median (68 %)", "unit", "prior", "width ratio"],
+                      rows)
+        if m["fixed_parameters"]:
+            out += ["Fixed: " + ", ".join(f"`{p}` = {v['value']:g} {v['unit']}"
+                                          for p, v in m["fixed_parameters"].items()) + ".", ""]
+    return out
+
+
+def _diagnostics(s) -> list:
+    out = ["## Diagnostics", ""]
+    for n, m in s["models"].items():
+        d = m["diagnostics"]
+        state = "passed" if d["ok"] else "**FAILED**"
+        out += [f"### `{n}`: {state}", "",
+                f"{d['n_walkers']} walkers, {d['n_steps']} steps; burn-in {d['burn_in']} steps, "
+                f"thinning {d['thin']}, {d['n_samples']} samples kept; mean acceptance "
+                f"{_f(d['acceptance'])}.", ""]
+        out += _table(["parameter", "R-hat", "bulk ESS", "tail ESS", "τ (steps)"],
+                      [[f"`{p}`", _f(d["rhat"].get(p), ".3f"), _f(d["ess_bulk"].get(p), ".0f"),
+                        _f(d["ess_tail"].get(p), ".0f"), _f(d["tau"].get(p), ".1f")]
+                       for p in m["parameters"]])
+        warns = list(d["warnings"]) + list(m["evidence_warnings"])
+        if warns:
+            out += ["Warnings:", ""] + [f"- {w}" for w in warns] + [""]
+    return out
+
+
+def _constraints(s, ctx) -> list:
+    names = [d["name"] for d in ctx["datasets"]]
+    out = ["## Which datasets constrain which parameters", "",
+           "Method: at the posterior median the derivative of every dataset's prediction with "
+           "respect to each parameter is taken by central finite differences (step 1 % of the "
+           "posterior standard deviation). Each cell gives the share of the parameter's "
+           "diagonal Fisher information Σ (∂μ/∂θ)²/σ² carried by the dataset (Tegmark, Taylor "
+           "& Heavens 1997) and, in brackets, how far the dataset's prediction moves, in units "
+           "of its errors (root sum of squares), when the parameter moves by one posterior "
+           "standard deviation. A dataset is listed as constraining a parameter when its share "
+           f"is at least {SHARE_MIN:.0%}; the parameter is called constrained when its "
+           f"posterior 68 % width is below {WIDTH_LEVELS[0]:g} of the prior's, prior-dominated "
+           f"above {WIDTH_LEVELS[1]:g}. Error inflation is not included.", ""]
+    for n, m in s["models"].items():
+        rows = []
+        for p, by in m["constraints"].items():
+            cells, names_ok = [], []
+            for d in names:
+                v = by.get(d)
+                share = None if v is None else v["information_share"]
+                cells.append("—" if share is None else f"{share:.2f} ({v['shift']:.2g})")
+                if share is not None and share >= SHARE_MIN:
+                    names_ok.append(d)
+            wr = m["parameters"][p]["width_ratio"]
+            rows.append([f"`{p}`", f"{_f(wr)} ({_width_word(wr)})"] + cells
+                        + [", ".join(names_ok) or "none"])
+        out += [f"### `{n}`", ""]
+        out += _table(["parameter", "width ratio"] + [f"`{d}`" for d in names]
+                      + ["constrained by"], rows)
+    return out
+
+
+def _cards(s, ctx) -> list:
+    out = ["## Assumptions and limitations", ""]
+    for n, m in s["models"].items():
+        c = ctx["cards"][n]
+        out += [f"### {m['title']} (`{n}`)", "", "Assumptions:", ""]
+        out += [f"- {a}" for a in c["assumptions"]] or ["- (none stated)"]
+        out += ["", "Known limitations:", ""]
+        out += [f"- {a}" for a in c["limitations"]] or ["- (none stated)"]
+        if c["references"]:
+            out += ["", "Model references: " + "; ".join(c["references"])]
+        out.append("")
+    return out
+
+
+def _methods(s, ctx) -> tuple:
+    keys = ["emcee", "goodman", "de"]
+    methods = {m["evidence_method"] for m in s["models"].values()}
+    smc = any("sequential Monte Carlo" in t for t in methods)
+    if smc:
+        keys += ["smc", "adaptive", "independent", "resampling"]
+    if any("stepping" in t for t in methods):
+        keys.append("stepping")
+    keys += ["rhat", "arviz", "kass"]
+    has_lap = any(m["laplace"] for m in s["models"].values())
+    has_sd = any(m["savage_dickey"] for m in s["models"].values())
+    has_loo = any(m["loo"] and "error" not in m["loo"] for m in s["models"].values())
+    keys += (["laplace"] if has_lap else []) + (["dickey"] if has_sd else []) \
+        + (["loo"] if has_loo else []) + ["fisher"]
+    ref = {k: i + 1 for i, k in enumerate(keys)}
+    st = ctx["settings"]
+    ev = next(iter(ctx["evidence_settings"].values()))
+    rule = next(iter(ctx["burn_in_rule"].values()))
+    parts = [f"Posteriors were sampled with the affine-invariant ensemble sampler emcee "
+             f"[{ref['emcee']}, {ref['goodman']}] with a mixture of differential-evolution, "
+             f"snooker and stretch moves [{ref['de']}], {st.get('steps')} steps per walker "
+             f"({rule}). "]
+    if smc:
+        parts.append(f"Evidences ln Z were computed by sequential Monte Carlo with adaptive "
+                     f"tempering from the prior to the posterior [{ref['smc']}, "
+                     f"{ref['adaptive']}], independent-proposal and random-walk moves "
+                     f"[{ref['independent']}] and systematic resampling "
+                     f"[{ref['resampling']}], with {ev.get('n_particles')} particles in each "
+                     f"of {ev.get('n_islands')} independent islands; the error of ln Z is the "
+                     "standard error across islands. ")
+    else:
+        parts.append("Evidences ln Z were computed by: " + "; ".join(sorted(methods)) + ". ")
+    parts.append(f"Convergence was checked with the rank-normalised split R-hat and bulk and "
+                 f"tail effective sample sizes [{ref['rhat']}] computed with ArviZ "
+                 f"[{ref['arviz']}], and the integrated autocorrelation time "
+                 f"[{ref['goodman']}]. Bayes factors are worded on the Kass–Raftery scale of "
+                 f"2 ln K [{ref['kass']}]. ")
+    if has_lap:
+        parts.append(f"A Laplace approximation of ln Z [{ref['laplace']}] is shown as an "
+                     "approximate cross-check. ")
+    if has_sd:
+        parts.append(f"For families that contain their one-dimensional limit, the "
+                     f"Savage–Dickey density ratio [{ref['dickey']}] gives the Bayes factor "
+                     "of the limit. ")
+    if has_loo:
+        parts.append(f"Predictive accuracy was checked by PSIS-LOO [{ref['loo']}]. ")
+    parts.append(f"Dataset sensitivities use the Fisher information of Gaussian data "
+                 f"[{ref['fisher']}].")
+    refs = [f"{ref[k]}. {METHOD_REFERENCES[k]}" for k in keys]
+    return ["## Methods", "", "".join(parts), "", "References:", ""] + refs + [""], smc
+
+
+def _referee(s, ctx, smc) -> list:
+    c = s["comparison"]
+    ev = next(iter(ctx["evidence_settings"].values()))
+    checks = [f"ln Z from {ev.get('n_islands')} independent runs (the quoted error is their "
+              "spread)"]
+    if any(m["laplace"] for m in s["models"].values()):
+        checks.append("an approximate Laplace evidence for comparison")
+    if any(m["savage_dickey"] for m in s["models"].values()):
+        checks.append("Savage–Dickey ratios for the nested one-dimensional limits")
+    if any(m["loo"] and "error" not in m["loo"] for m in s["models"].values()):
+        checks.append("PSIS-LOO predictive checks")
+    checks.append("R-hat, effective sample sizes and autocorrelation times of every parameter")
+    text = ("Each model family was fitted jointly to all datasets ("
+            + "; ".join(f"{d['name']}: {d['kind'].replace('_', ' ')}, {d['n']} points"
+                        for d in ctx["datasets"])
+            + ") with one set of physical parameters and per-dataset nuisance parameters "
+            "(scales, backgrounds). Priors were stated before the fit (listed with every "
+            "parameter in the tables; physical parameters from the model cards, nuisance "
+            "priors scaled to the data). The Bayesian evidence of each family was computed "
+            + ("by adaptive-tempering sequential Monte Carlo" if smc else "as stated above")
+            + f", with {c['prior_odds']}. Robustness checks done: " + "; ".join(checks)
+            + ". Prior sensitivity of ln Z was not re-run here; widening the physical priors "
+            "by a factor of two and repeating the run is the usual check (for a parameter the "
+            "data constrain well, ln Z then falls by about ln 2, the Occam factor, while the "
+            "posterior stays put).")
+    return ["## For a referee response", "", "A paragraph to adapt:", "", "> " + text, ""]
+
+
+def render_markdown(summary: dict, context: dict) -> str:
+    """The text of report.md.
+
+    Parameters
+    ----------
+    summary : dict
+        The document of :func:`~evidence1d.report.summary.build_summary`.
+    context : dict
+        From :func:`report_context`.
+
+    Returns
+    -------
+    str
+        Markdown; it starts with an UNRELIABLE banner when ``summary["reliable"]`` is false.
+
+    References
+    ----------
+    .. [1] Kass & Raftery, JASA 90, 773 (1995).
+    """
+    s, c = summary, summary["comparison"]
+    out = [f"# {s['title']}: which model family explains the data?", ""]
+    if not s["reliable"]:
+        bad = [n for n, m in s["models"].items() if not m["diagnostics"]["ok"]]
+        noerr = [n for n, m in s["models"].items() if m["log_evidence_err"] is None]
+        why = []
+        if bad:
+            why.append("the convergence diagnostics failed for " + ", ".join(bad))
+        if noerr:
+            why.append("ln Z has no finite error for " + ", ".join(noerr))
+        out += ["> **UNRELIABLE**: " + "; ".join(why or ["see the diagnostics"]) + ". Do not "
+                "quote these numbers; run longer (more steps, particles and islands) and "
+                "check the warnings under Diagnostics.", ""]
+    out += [f"**Verdict** ({c['strength']}): {c['verdict']}", ""]
+    out += _comparison(s) + _parameters(s) + _diagnostics(s) + _constraints(s, context)
+    out += _cards(s, context)
+    methods, smc = _methods(s, context)
+    out += methods + _referee(s, context, smc)
+    p = s["provenance"]
+    out += ["## Provenance", "",
+            f"Seed {p.get('seed')}; case file `{p.get('case_file')}` (SHA-256 "
+            f"{str(p.get('case_sha256'))[:12]}…); started {p.get('start')}, run time "
+            f"{_f(p.get('run_time_s'), '.0f')} s; evidence1d "
+            f"{(p.get('versions') or {}).get('evidence1d')}. Full record in summary.json.", ""]
+    return "\n".join(out)

@@ -1,0 +1,498 @@
+"""The numbers of the report: posterior summaries, dataset sensitivities, predictive bands.
+
+Everything the report layers print or draw is computed here from the run's results and the
+case, deterministically (no random numbers), so that rebuilding from saved results gives
+the same numbers.  :func:`build_summary` gives the ``summary.json`` document (schema in
+:mod:`evidence1d.report.schema`); :func:`predictive_data` the arrays the figures draw.
+
+Which datasets constrain which parameter
+----------------------------------------
+At the posterior median θ̂ the derivative of every dataset's prediction μ_i with respect to
+each parameter θ_j is taken by central finite differences (step 1 % of the posterior
+standard deviation, one-sided at a prior bound).  For Gaussian errors σ_i the diagonal
+Fisher information a dataset d carries about θ_j is F_dj = Σ_{i∈d} (∂μ_i/∂θ_j)² / σ_i²
+(Tegmark, Taylor & Heavens 1997).  The report gives its share F_dj / Σ_d F_dj and the shift
+√F_dj · sd_j: the root-sum-square change of dataset d, in units of its errors, when θ_j moves
+by one posterior standard deviation.  Error inflation and Student-t noise are ignored in
+this measure.
+
+References
+----------
+.. [1] M. Tegmark, A. N. Taylor and A. F. Heavens, "Karhunen–Loève eigenvalue problems in
+   cosmology: how should we tackle large data sets?", ApJ 480, 22 (1997), eq. 15 (Fisher
+   matrix of Gaussian data; from memory).
+.. [2] R. E. Kass and A. E. Raftery, J. Am. Stat. Assoc. 90, 773 (1995): wording of 2 ln K.
+"""
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import numpy as np
+
+from .schema import SCHEMA_VERSION
+
+__all__ = ["QUANTILES", "BAND_QUANTILES", "parameter_role", "quantile_summary",
+           "prior_interval", "dataset_sensitivity", "build_summary", "json_ready",
+           "round_interval", "draw_indices", "predictive_data", "corner_inputs", "MAX_DRAWS"]
+
+#: quantiles quoted for every parameter (median and the central 68 % interval)
+QUANTILES = (0.16, 0.5, 0.84)
+#: quantiles of the predictive bands: 95 % and 68 % central intervals and the median
+BAND_QUANTILES = (0.025, 0.16, 0.5, 0.84, 0.975)
+#: posterior draws used for predictive bands (bounds the drawing time)
+MAX_DRAWS = 200
+_DENSE = 60                      # points of a smooth model curve
+_MAX_CUTS = 6                    # cuts drawn per spectrum
+
+
+def json_ready(obj):
+    """A copy with numpy types as Python types and non-finite numbers as ``None``.
+
+    Parameters
+    ----------
+    obj : object
+        Nested dicts, lists, tuples, numpy scalars and arrays.
+
+    Returns
+    -------
+    object
+        Valid JSON content (RFC 8259 has no infinity or NaN).
+
+    References
+    ----------
+    .. [1] RFC 8259 (IETF, 2017), §6.
+    """
+    if isinstance(obj, dict):
+        return {str(k): json_ready(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [json_ready(v) for v in obj]
+    if isinstance(obj, np.ndarray):
+        return json_ready(obj.tolist())
+    if isinstance(obj, (bool, np.bool_)):
+        return bool(obj)
+    if isinstance(obj, (int, np.integer)):
+        return int(obj)
+    if isinstance(obj, (float, np.floating)):
+        return float(obj) if math.isfinite(obj) else None
+    return obj
+
+
+def parameter_role(name: str, card) -> str:
+    """``"physical"`` (a model-card parameter), ``"nuisance"`` (``dataset:what``) or ``"extra"``."""
+    if name in card.parameters:
+        return "physical"
+    return "nuisance" if ":" in name else "extra"
+
+
+def quantile_summary(samples, names, units) -> dict:
+    """Median and 16/84 % quantiles of every parameter.
+
+    Parameters
+    ----------
+    samples : ndarray, shape (n_samples, m)
+        Posterior samples, parameter units.
+    names : sequence of str
+        The m parameter names.
+    units : dict of str to str
+
+    Returns
+    -------
+    dict
+        name -> {"median", "q16", "q84", "unit"} (parameter units).
+
+    References
+    ----------
+    .. [1] R. J. Hyndman and Y. Fan, Am. Stat. 50, 361 (1996): sample quantiles (numpy's
+       default, their definition 7).
+    """
+    q = np.quantile(np.asarray(samples, dtype=float), QUANTILES, axis=0)
+    return {n: {"median": float(q[1, j]), "q16": float(q[0, j]), "q84": float(q[2, j]),
+                "unit": units.get(n, "") or "1"} for j, n in enumerate(names)}
+
+
+def prior_interval(prior) -> tuple:
+    """16 % and 84 % quantiles of a one-parameter prior (inverse CDF), parameter units.
+
+    References
+    ----------
+    .. [1] Johnson, Kotz & Balakrishnan, *Continuous Univariate Distributions* (1994).
+    """
+    lo, hi = prior.transform(np.array([0.16, 0.84]))
+    return float(lo), float(hi)
+
+
+def _steps(theta, sd, support):
+    lo = np.array([s[0] for s in support])
+    hi = np.array([s[1] for s in support])
+    h = 0.01 * np.where(sd > 0, sd, 1e-6 * (np.abs(theta) + 1.0))
+    up = np.minimum(theta + h, hi)
+    dn = np.maximum(theta - h, lo)
+    return up, dn
+
+
+def dataset_sensitivity(problem, theta, sd) -> dict:
+    """Fisher-information share and shift of every dataset for every parameter.
+
+    Parameters
+    ----------
+    problem : JointProblem
+    theta : ndarray, shape (m,)
+        The point (posterior median), parameter units.
+    sd : ndarray, shape (m,)
+        Posterior standard deviations, parameter units.
+
+    Returns
+    -------
+    dict
+        parameter -> dataset -> {"information_share", "shift"}; the share is None when no
+        dataset's prediction depends on the parameter (e.g. an error inflation factor).
+
+    References
+    ----------
+    .. [1] Tegmark, Taylor & Heavens, ApJ 480, 22 (1997): F = Σ (∂μ/∂θ)² / σ² (from memory).
+    """
+    theta = np.asarray(theta, dtype=float)
+    sd = np.asarray(sd, dtype=float)
+    m = theta.size
+    support = [problem.prior.priors[problem.prior.names.index(n)].support
+               for n in problem.names]
+    up, dn = _steps(theta, sd, support)
+    batch = np.repeat(theta[None, :], 2 * m, axis=0)
+    batch[np.arange(m), np.arange(m)] = up
+    batch[m + np.arange(m), np.arange(m)] = dn
+    pred = problem.predict(batch)
+    errs = {pr.dataset.name: pr.dataset.err for pr in problem.predictors}
+    fisher = {}
+    for ds, f in pred.items():
+        deriv = (f[:m] - f[m:]) / np.where(up > dn, up - dn, np.inf)[:, None]
+        fisher[ds] = np.nansum((deriv / errs[ds][None, :]) ** 2, axis=1)
+    out = {}
+    for j, name in enumerate(problem.names):
+        total = sum(float(fisher[d][j]) for d in fisher)
+        out[name] = {d: {"information_share": float(fisher[d][j]) / total if total > 0
+                         else None,
+                         "shift": float(math.sqrt(fisher[d][j]) * sd[j])} for d in fisher}
+    return out
+
+
+def _diagnostics_block(diag, post) -> dict:
+    d = diag.to_dict()
+    return {"ok": bool(d["ok"]), "rhat": d["rhat"], "ess_bulk": d["ess_bulk"],
+            "ess_tail": d["ess_tail"], "tau": d["tau"], "acceptance": d["acceptance"],
+            "n_steps": int(d["n_steps"]), "n_walkers": int(d["n_walkers"]),
+            "burn_in": int(post.burn_in), "thin": int(post.thin),
+            "n_samples": int(post.samples.shape[0]), "thresholds": d["thresholds"],
+            "warnings": list(d["warnings"]) + list(post.warnings)}
+
+
+def _model_block(mr, problem) -> dict:
+    post = mr.posterior
+    samples = np.asarray(post.samples)
+    params = quantile_summary(samples, mr.names, mr.units)
+    for n in mr.names:
+        pr = problem.prior.priors[problem.prior.names.index(n)]
+        lo, hi = prior_interval(pr)
+        p = params[n]
+        width = hi - lo
+        p.update(role=parameter_role(n, problem.card), prior=pr.describe(), prior_q16=lo,
+                 prior_q84=hi,
+                 width_ratio=(p["q84"] - p["q16"]) / width if width > 0 else math.nan)
+    fixed = {n: {"value": float(pr.value), "unit": mr.units.get(n, "") or "1"}
+             for n, pr in zip(problem.prior.names, problem.prior.priors)
+             if n not in mr.names and hasattr(pr, "value")}
+    theta = np.array([params[n]["median"] for n in mr.names])
+    sd = np.std(samples, axis=0, ddof=1) if samples.shape[0] > 1 else np.zeros(theta.size)
+    lap = None
+    if mr.laplace is not None:
+        lap = {"log_evidence": float(mr.laplace.log_z), "approximate": True,
+               "label": mr.laplace.label, "method": mr.laplace.method}
+    sdk = None
+    if mr.savage_dickey is not None:
+        s = mr.savage_dickey
+        sdk = {"parameter": s["parameter"], "value": s["value"],
+               "ln_bf_nested_vs_full": s["ln_bf_nested_vs_full"], "ln_bf_err": s["ln_bf_err"],
+               "reflected": bool(s["reflected"])}
+    loo = None
+    if mr.loo is not None:
+        keys = ("elpd_loo", "se", "pareto_k_max", "n_bad_k", "n_points", "error")
+        loo = {k: mr.loo[k] for k in keys if k in mr.loo}
+    ev = mr.evidence
+    return {
+        "title": mr.title, "one_dimensional": bool(mr.one_dimensional),
+        "log_evidence": float(ev.log_z), "log_evidence_err": float(ev.log_z_err),
+        "island_log_evidence": [float(v) for v in ev.island_log_z],
+        "evidence_method": ev.method, "evidence_warnings": list(ev.warnings),
+        "n_likelihood_evaluations": int(ev.n_evaluations + post.n_evaluations),
+        "parameters": params, "fixed_parameters": fixed,
+        "constraints": dataset_sensitivity(problem, theta, sd),
+        "diagnostics": _diagnostics_block(mr.diagnostics, post),
+        "laplace": lap, "savage_dickey": sdk, "loo": loo,
+    }
+
+
+def _comparison_block(cmp_) -> dict:
+    order = sorted(cmp_.names, key=lambda n: -cmp_.log_z[n])
+    strength = next(p.wording for p in cmp_.pairs if {p.a, p.b} == set(order[:2]))
+    return {"best": cmp_.best, "strength": strength, "verdict": cmp_.verdict,
+            "pairs": [p.to_dict() for p in cmp_.pairs],
+            "prior_probabilities": dict(cmp_.prior_probability),
+            "model_probabilities": dict(cmp_.posterior_probability),
+            "prior_odds": cmp_.prior_odds_stated,
+            "p_one_dimensional": float(cmp_.p_one_dimensional),
+            "p_one_dimensional_err": float(cmp_.p_one_dimensional_err),
+            "unreliable": list(cmp_.unreliable)}
+
+
+def build_summary(results, case) -> dict:
+    """The ``summary.json`` document of a run.
+
+    Parameters
+    ----------
+    results : RunResults
+        Results of :func:`evidence1d.runner.run` (or rebuilt from a saved run).
+    case : Case
+        The case the run used (its problems give priors, units and predictions).
+
+    Returns
+    -------
+    dict
+        JSON-ready (see :func:`json_ready`), laid out as :data:`~.schema.SUMMARY_FIELDS`.
+
+    References
+    ----------
+    .. [1] Kass & Raftery, JASA 90, 773 (1995), §3.2.
+    """
+    models = {n: _model_block(mr, case.problem(n)) for n, mr in results.models.items()}
+    doc = {"schema_version": SCHEMA_VERSION, "title": case.title,
+           "reliable": bool(results.reliable), "models": models,
+           "comparison": _comparison_block(results.comparison),
+           "provenance": dict(results.provenance)}
+    return json_ready(doc)
+
+
+def round_interval(median: float, lo: float, hi: float) -> tuple:
+    """Median and its errors as strings, rounded to two significant digits of the smaller error.
+
+    Values below 10⁻³ or from 10⁵ in magnitude are given as mantissas with a common power of
+    ten.
+
+    Parameters
+    ----------
+    median, lo, hi : float
+        Median and the 16 % and 84 % quantiles.
+
+    Returns
+    -------
+    tuple
+        (median, plus, minus, exponent): three strings, with plus = hi − median and
+        minus = median − lo (no signs), all to be multiplied by 10**exponent (an int).
+
+    References
+    ----------
+    .. [1] Particle Data Group, "Introduction" to the Review of Particle Physics (errors
+       quoted to two significant digits; common practice).
+    """
+    exp = 0
+    if median != 0 and math.isfinite(median) and not 1e-3 <= abs(median) < 1e5:
+        exp = math.floor(math.log10(abs(median)))
+    scale = 10.0 ** -exp
+    m, plus, minus = median * scale, (hi - median) * scale, (median - lo) * scale
+    errs = [e for e in (plus, minus) if e > 0 and math.isfinite(e)]
+    digits = 3 if not errs else max(0, 1 - math.floor(math.log10(min(errs))))
+    digits = min(digits, 15)
+    return f"{m:.{digits}f}", f"{plus:.{digits}f}", f"{minus:.{digits}f}", exp
+
+
+def draw_indices(n_samples: int, n_max: int = MAX_DRAWS) -> np.ndarray:
+    """Evenly spaced indices of at most ``n_max`` samples (deterministic)."""
+    return np.unique(np.linspace(0, n_samples - 1, min(n_max, n_samples)).astype(int))
+
+
+# ------------------------------------------------------------------ predictive data
+def _bands(pred) -> np.ndarray:
+    return np.quantile(pred, BAND_QUANTILES, axis=0)
+
+
+def _predict_at(problem, case, ds, x, params) -> np.ndarray:
+    """Predictions of one dataset's model at other points ``x`` (same kind and options)."""
+    from ..families.predict import DatasetPredictor
+    n = len(next(iter(x.values())))
+    other = dataclasses.replace(ds, x=x, y=np.zeros(n), err=np.ones(n),
+                                lines=np.zeros(n, dtype=int))
+    pr = DatasetPredictor(problem.family, other, case.sample)
+    with np.errstate(all="ignore"):
+        return pr.predict(params)
+
+
+def _groups(keys: np.ndarray) -> list:
+    """Indices of points sharing a key row (rounded), in order of first appearance."""
+    _, first, inv = np.unique(np.round(keys, 6), axis=0, return_index=True,
+                              return_inverse=True)
+    order = np.argsort(first)
+    return [np.flatnonzero(inv.reshape(-1) == g) for g in order]
+
+
+def _grid(qx, E):
+    """(x values, E values, index map (nE, nx)) if the points form a full grid, else None."""
+    ux, uE = np.unique(np.round(qx, 6)), np.unique(np.round(E, 6))
+    if ux.size < 3 or uE.size < 3 or ux.size * uE.size != qx.size:
+        return None
+    ix = np.searchsorted(ux, np.round(qx, 6))
+    iE = np.searchsorted(uE, np.round(E, 6))
+    idx = np.full((uE.size, ux.size), -1)
+    idx[iE, ix] = np.arange(qx.size)
+    return None if np.any(idx < 0) else (ux, uE, idx)
+
+
+def _spectrum_data(problem, case, ds, params, point_bands, median_params, one_d):
+    x = ds.x
+    E = x["energy"]
+    crystal = ds.kind == "crystal_spectrum"
+    wave = np.stack([x["Q_par"], x["Q_perp"]], axis=1) if crystal else x["Q"][:, None]
+    out = {"cuts": [], "map": None}
+    groups = _groups(wave)
+    if len(groups) <= ds.n / 3:
+        pick = [groups[i] for i in draw_indices(len(groups), _MAX_CUTS)]
+        dense = {k: [] for k in x}
+        for g in pick:
+            e = np.linspace(E[g].min(), E[g].max(), _DENSE)
+            for k in x:
+                dense[k].append(e if k == "energy" else np.full(_DENSE, x[k][g[0]]))
+        dense = {k: np.concatenate(v) for k, v in dense.items()}
+        bands = _bands(_predict_at(problem, case, ds, dense, params))
+        for c, g in enumerate(pick):
+            s = slice(c * _DENSE, (c + 1) * _DENSE)
+            label = (f"Q_par = {x['Q_par'][g[0]]:.3g}, Q_perp = {x['Q_perp'][g[0]]:.3g} Å⁻¹"
+                     if crystal else f"|Q| = {x['Q'][g[0]]:.3g} Å⁻¹")
+            order = g[np.argsort(E[g])]
+            out["cuts"].append({"label": label, "axis": "energy", "x": E[order],
+                                "y": ds.y[order], "err": ds.err[order],
+                                "model_x": dense["energy"][s], "bands": bands[:, s]})
+    else:
+        e_groups = _groups(E[:, None])
+        for g in (e_groups[i] for i in draw_indices(len(e_groups), _MAX_CUTS)):
+            if g.size < 3:
+                continue
+            axis = "Q" if not crystal else ("Q_par" if np.ptp(x["Q_par"][g]) >=
+                                            np.ptp(x["Q_perp"][g]) else "Q_perp")
+            order = g[np.argsort(x[axis][g])]
+            out["cuts"].append({"label": f"E = {E[g[0]]:.3g} meV", "axis": axis,
+                                "x": x[axis][order], "y": ds.y[order], "err": ds.err[order],
+                                "model_x": x[axis][order], "bands": point_bands[:, order]})
+    axis = None
+    if crystal:
+        if np.unique(np.round(x["Q_perp"], 6)).size == 1:
+            axis = "Q_par"
+        elif np.unique(np.round(x["Q_par"], 6)).size == 1:
+            axis = "Q_perp"
+    else:
+        axis = "Q"
+    grid = _grid(x[axis], E) if axis else None
+    if grid is not None:
+        ux, uE, idx = grid
+        med = point_bands[2]
+        out["map"] = {"axis": axis, "x": ux, "energy": uE, "data": ds.y[idx],
+                      "model": med[idx], "residual": (ds.y[idx] - med[idx]) / ds.err[idx],
+                      "bounds": None}
+        if one_d and axis == "Q_par" and {"J", "delta"} <= set(median_params):
+            from ..physics.chain import spinon_bounds
+            qd = np.linspace(ux.min(), ux.max(), 200)
+            lo, hi = spinon_bounds(qd * case.sample.spin_spacing,
+                                   np.array([[median_params["J"]]]),
+                                   np.array([[median_params["delta"]]]))
+            out["map"]["bounds"] = {"x": qd, "lower": lo[0], "upper": hi[0],
+                                    "J": median_params["J"],
+                                    "delta": median_params["delta"]}
+    return out
+
+
+def predictive_data(results, case, summary, n_draws: int = MAX_DRAWS) -> dict:
+    """Arrays for the posterior-predictive figures of every family and dataset.
+
+    Parameters
+    ----------
+    results : RunResults
+    case : Case
+    summary : dict
+        The document of :func:`build_summary` (posterior medians).
+    n_draws : int
+        Posterior draws used for the bands (evenly spaced over the samples).
+
+    Returns
+    -------
+    dict
+        model -> dataset -> {"kind", "units", "x", "y", "err", "model_x", "bands" (5, n)
+        at :data:`BAND_QUANTILES`, "residual"} for thermodynamic data; spectra carry
+        "cuts" (list of such blocks) and "map" (data, model, normalised residual on the
+        grid and, for a one-dimensional family with J and Δ, the spinon continuum bounds
+        at the posterior median) instead.
+
+    References
+    ----------
+    .. [1] A. Gelman, X.-L. Meng and H. Stern, Statistica Sinica 6, 733 (1996): posterior
+       predictive assessment.
+    .. [2] des Cloizeaux & Pearson, Phys. Rev. 128, 2131 (1962); Johnson, Krinsky & McCoy,
+       Phys. Rev. A 8, 2526 (1973): the continuum bounds.
+    """
+    out = {}
+    for name, mr in results.models.items():
+        problem = case.problem(name)
+        samples = np.asarray(mr.posterior.samples)
+        draws = samples[draw_indices(samples.shape[0], n_draws)]
+        params = problem.params(draws)
+        at_points = problem.predict(draws)
+        medians = {n: v["median"] for n, v in summary["models"][name]["parameters"].items()}
+        medians.update({n: v["value"] for n, v in
+                        summary["models"][name]["fixed_parameters"].items()})
+        per = {}
+        for pr in problem.predictors:
+            ds = pr.dataset
+            pb = _bands(at_points[ds.name])
+            block = {"kind": ds.kind, "units": dict(ds.units),
+                     "residual": (ds.y - pb[2]) / ds.err}
+            if ds.kind in ("crystal_spectrum", "powder_spectrum"):
+                block.update(_spectrum_data(problem, case, ds, params, pb, medians,
+                                            mr.one_dimensional))
+            else:
+                T = ds.x["T"]
+                dense = {"T": np.linspace(T.min(), T.max(), 2 * _DENSE)}
+                block.update(x=T, y=ds.y, err=ds.err, model_x=dense["T"],
+                             bands=_bands(_predict_at(problem, case, ds, dense, params)))
+            per[ds.name] = block
+        out[name] = per
+    return out
+
+
+def corner_inputs(results, case) -> dict:
+    """Samples and axis labels of each family's corner plot: its free physical parameters.
+
+    Nuisance and sample-level parameters are left out (they are in the tables); a family
+    with fewer than two free physical parameters shows all its parameters.
+
+    Parameters
+    ----------
+    results : RunResults
+    case : Case
+
+    Returns
+    -------
+    dict
+        model -> {"samples": (n, k) array, "labels": list of "symbol (unit)"}.
+
+    References
+    ----------
+    .. [1] Foreman-Mackey, J. Open Source Softw. 1, 24 (2016).
+    """
+    from .figures import axis_label
+    out = {}
+    for name, mr in results.models.items():
+        card = case.models[name].card
+        cols = [j for j, n in enumerate(mr.names) if n in card.parameters]
+        if len(cols) < 2:
+            cols = list(range(len(mr.names)))
+        labels = [axis_label(mr.names[j], mr.units.get(mr.names[j], ""),
+                             card.parameters.get(mr.names[j], {}).get("latex"))
+                  for j in cols]
+        out[name] = {"samples": np.asarray(mr.posterior.samples)[:, cols], "labels": labels}
+    return out

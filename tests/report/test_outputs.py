@@ -1,0 +1,136 @@
+"""The output folder of a run: files, schema, rebuild without sampling, command line."""
+from __future__ import annotations
+
+import json
+import shutil
+
+import h5py
+import numpy as np
+import pytest
+
+from evidence1d.errors import InputError
+from evidence1d.provenance import file_hash
+from evidence1d.report import rebuild_report
+from evidence1d.report.schema import validate_summary
+from evidence1d.report.store import load_results
+
+
+def test_summary_validates_and_holds_every_sampled_parameter(run_dir, summary):
+    out, _ = run_dir
+    validate_summary(summary)
+    res = load_results(out)
+    assert set(summary["models"]) == set(res.models)
+    for name, mr in res.models.items():
+        params = summary["models"][name]["parameters"]
+        assert list(params) == list(mr.names)          # nuisances included, in order
+        for p, v in params.items():
+            assert v["q16"] <= v["median"] <= v["q84"]
+            assert v["unit"]
+        # medians are those of the saved samples (numpy quantiles, Hyndman & Fan 1996 def. 7)
+        med = np.quantile(mr.posterior.samples, 0.5, axis=0)
+        assert np.allclose([params[p]["median"] for p in mr.names], med, rtol=0, atol=0)
+        lap = summary["models"][name]["laplace"]
+        assert lap is None or lap["approximate"] is True
+    c = summary["comparison"]
+    assert abs(sum(c["model_probabilities"].values()) - 1.0) < 1e-12
+    n = len(summary["models"])
+    assert len(c["pairs"]) == n * (n - 1) // 2
+    for p in c["pairs"]:                              # ln K = ln Z_a − ln Z_b (Kass & Raftery 1995)
+        za = summary["models"][p["a"]]["log_evidence"]
+        zb = summary["models"][p["b"]]["log_evidence"]
+        assert p["ln_k"] == pytest.approx(za - zb, abs=1e-9)
+    assert summary["provenance"]["seed"] == 7
+
+
+def test_every_output_file_is_written_and_not_empty(run_dir, summary):
+    out, _ = run_dir
+    names = list(summary["models"])
+    expected = ["summary.json", "report.md", "tables.tex", "figures/comparison.png",
+                "figures/comparison.pdf"]
+    for m in names:
+        expected += [f"figures/corner_{m}.png", f"figures/corner_{m}.pdf",
+                     f"samples/{m}.nc", f"samples/{m}.csv", f"saved/{m}.npz"]
+        for ds in ("map", "chi", "heat"):
+            expected += [f"figures/predictive_{m}_{ds}.png", f"figures/predictive_{m}_{ds}.pdf"]
+        expected += [f"figures/map_{m}_map.png", f"figures/map_{m}_map.pdf"]
+    for rel in expected:
+        p = out / rel
+        assert p.is_file() and p.stat().st_size > 0, rel
+    assert (out / "figures/comparison.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert (out / "figures/comparison.pdf").read_bytes()[:5] == b"%PDF-"
+    assert not list(out.rglob("*.tmp")), "temporary files left behind"
+
+
+def test_summary_json_is_written_last(run_dir):
+    out, _ = run_dir
+    t = (out / "summary.json").stat().st_mtime_ns
+    others = [p for p in out.rglob("*") if p.is_file() and p.name != "summary.json"
+              and "chains" not in p.parts]
+    assert all(p.stat().st_mtime_ns <= t for p in others)
+
+
+def test_samples_files_hold_the_posterior(run_dir):
+    out, _ = run_dir
+    res = load_results(out)
+    for name, mr in res.models.items():
+        lines = (out / "samples" / f"{name}.csv").read_text().splitlines()
+        assert lines[0].split(",") == list(mr.names)
+        table = np.array([[float(v) for v in ln.split(",")] for ln in lines[1:]])
+        assert np.array_equal(table, mr.posterior.samples)
+        with h5py.File(out / "samples" / f"{name}.nc", "r") as f:   # NetCDF-4 is HDF5
+            post = f["posterior"]
+            for j, p in enumerate(mr.names):
+                arr = post[p][()]                        # (chain = walker, draw)
+                chain = mr.posterior.chain[mr.posterior.burn_in:, :, j]
+                assert np.array_equal(arr, chain.T)
+
+
+def test_inputs_are_copied_with_matching_hashes(run_dir, summary):
+    import evidence1d
+    out, _ = run_dir
+    case = evidence1d.load_case(out / "inputs" / "case.yaml")
+    for ds in case.datasets:
+        assert out / "inputs" in ds.path.parents
+        assert file_hash(ds.path) == summary["provenance"]["data_sha256"][ds.name]
+    assert file_hash(out / "inputs" / "case.yaml") == summary["provenance"]["case_sha256"]
+
+
+def test_rebuild_gives_identical_numbers_and_text(run_dir, tmp_path):
+    out, first = run_dir
+    moved = tmp_path / "moved"                        # no dependence on the original paths
+    shutil.copytree(out, moved)
+    shutil.rmtree(out.parent / "case")
+    for p in ("summary.json", "report.md", "tables.tex"):
+        (moved / p).unlink()
+    assert rebuild_report(moved, figures=False) == moved
+    for name, text in first.items():
+        assert (moved / name).read_text(encoding="utf-8") == text, name
+    assert json.loads((moved / "summary.json").read_text()) == json.loads(first["summary.json"])
+
+
+def test_rebuild_refuses_a_folder_without_saved_results(tmp_path):
+    with pytest.raises(InputError, match="saved results"):
+        rebuild_report(tmp_path)
+    with pytest.raises(InputError, match="no such folder"):
+        rebuild_report(tmp_path / "missing")
+
+
+def test_rebuild_refuses_changed_inputs(run_dir, tmp_path):
+    out, _ = run_dir
+    moved = tmp_path / "changed"
+    shutil.copytree(out, moved, ignore=shutil.ignore_patterns("figures", "samples"))
+    with open(moved / "inputs" / "chi.csv", "a") as fh:
+        fh.write("# edited after the run\n")
+    with pytest.raises(InputError, match="SHA-256"):
+        rebuild_report(moved, figures=False)
+
+
+def test_report_command_rebuilds(run_dir, tmp_path, capsys):
+    from evidence1d.cli import main
+    out, first = run_dir
+    moved = tmp_path / "cli"
+    shutil.copytree(out, moved, ignore=shutil.ignore_patterns("figures"))
+    assert main(["report", str(moved), "--no-figures"]) == 0
+    assert "report rebuilt" in capsys.readouterr().out
+    assert (moved / "report.md").read_text(encoding="utf-8") == first["report.md"]
+    assert main(["report", str(tmp_path / "nothing")]) == 2

@@ -1,0 +1,85 @@
+"""summary.json schema: one list drives validation and documentation."""
+from __future__ import annotations
+
+import copy
+import math
+
+import pytest
+
+from evidence1d.errors import InputError
+from evidence1d.report.schema import (SUMMARY_FIELDS, schema_markdown, validate_summary)
+
+
+def test_run_summary_is_valid(summary):
+    validate_summary(summary)
+
+
+def test_every_required_field_appears_in_a_real_summary(summary):
+    """No stale documentation: each required path resolves somewhere in a run's summary."""
+    from evidence1d.report.schema import _nodes
+    for f in SUMMARY_FIELDS:
+        if not f.required:
+            continue
+        hits = [1 for _, parent, key in _nodes(summary, f.path) if key in parent]
+        assert hits or ".savage_dickey." in f.path or ".laplace." in f.path, f.path
+
+
+@pytest.mark.parametrize("path, value, match", [
+    (("models", 0, "log_evidence"), "12", "type number"),
+    (("models", 0, "one_dimensional"), 1, "type boolean"),
+    (("comparison", "p_one_dimensional"), math.inf, "type number"),   # JSON has no infinity
+    (("models", 0, "parameters", 0, "unit"), None, "type string"),
+    (("reliable",), None, "type boolean"),
+])
+def test_wrong_types_are_named(summary, path, value, match):
+    doc = copy.deepcopy(summary)
+    node, where = doc, []
+    for p in path[:-1]:
+        key = list(node)[p] if isinstance(p, int) else p
+        node, where = node[key], where + [key]
+    last = path[-1]
+    node[last] = value
+    with pytest.raises(InputError, match=match) as exc:
+        validate_summary(doc)
+    assert ".".join(where + [last]) in str(exc.value)
+
+
+def test_missing_and_undocumented_fields_are_named(summary):
+    doc = copy.deepcopy(summary)
+    name = next(iter(doc["models"]))
+    del doc["models"][name]["log_evidence_err"]
+    with pytest.raises(InputError, match=f"models.{name}.log_evidence_err"):
+        validate_summary(doc)
+    doc = copy.deepcopy(summary)
+    first = next(iter(doc["models"][name]["parameters"]))
+    doc["models"][name]["parameters"][first]["mean"] = 1.0
+    with pytest.raises(InputError, match="'mean'"):
+        validate_summary(doc)
+    doc = copy.deepcopy(summary)
+    doc["comparison"]["pairs"][0]["extra"] = 1
+    with pytest.raises(InputError, match=r"pairs\[0\]"):
+        validate_summary(doc)
+    with pytest.raises(InputError, match="JSON object"):
+        validate_summary([])
+
+
+def test_nullable_blocks_and_optional_fields(summary):
+    doc = copy.deepcopy(summary)
+    for m in doc["models"].values():
+        m["laplace"] = None
+        m["savage_dickey"] = None
+        m["loo"] = {"error": "ValueError: no pointwise log-likelihood"}
+    validate_summary(doc)
+    doc["models"][next(iter(doc["models"]))]["diagnostics"] = None
+    with pytest.raises(InputError, match="diagnostics"):
+        validate_summary(doc)
+
+
+def test_schema_markdown_documents_every_field():
+    text = schema_markdown()
+    rows = [ln for ln in text.splitlines() if ln.startswith("| `")]
+    assert len(rows) == len(SUMMARY_FIELDS)
+    for f in SUMMARY_FIELDS:
+        assert f"`{f.path}`" in text
+        assert f.meaning.split()[0] in text
+    assert "| field | type | unit | meaning |" in text
