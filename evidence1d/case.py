@@ -79,7 +79,8 @@ _MODEL = Spec({"name": Field(as_str, default=None, help="bundled model name"),
 
 #: sampler settings and their defaults (``--quick`` scales them down)
 SAMPLER_DEFAULTS = {"walkers": 0, "steps": 2000, "particles": 400, "islands": 4,
-                    "mcmc_steps": 0, "ess_fraction": 0.5, "checkpoint_every": 200}
+                    "mcmc_steps": 0, "ess_fraction": 0.5, "checkpoint_every": 200,
+                    "marginalise": True}
 _SAMPLER = Spec({
     "walkers": Field(as_int, default=0, help="emcee walkers (0: automatic)"),
     "steps": Field(as_positive_int, default=2000, help="emcee steps per walker"),
@@ -88,6 +89,8 @@ _SAMPLER = Spec({
     "mcmc_steps": Field(as_int, default=0, help="rejuvenation steps per temperature (0: auto)"),
     "ess_fraction": Field(as_positive_float, default=0.5, help="target conditional ESS"),
     "checkpoint_every": Field(as_positive_int, default=200, help="steps between checkpoints"),
+    "marginalise": Field(as_bool, default=True,
+                         help="integrate linear nuisances out analytically"),
 }, what="the sampler block")
 
 _CASE = Spec({
@@ -180,12 +183,21 @@ class Case:
             hint = closest_key(model, self.models).replace("valid keys", "models in this case")
             raise InputError(f"unknown model '{model}'; {hint}")
         if model not in self._problems:
-            self._problems[model] = JointProblem(self, self.models[model])
+            self._problems[model] = JointProblem(
+                self, self.models[model], marginalise=self.sampler.get("marginalise", True))
         return self._problems[model]
 
     def parameter_names(self, model: str) -> list:
-        """Every sampled parameter of ``model``, physical then nuisance, in sampling order."""
+        """Every sampled parameter of ``model``, physical then nuisance, in sampling order.
+
+        Linear nuisances that are integrated out analytically (``sampler: {marginalise:
+        true}``, the default) are not sampled; :meth:`marginalised_names` lists them.
+        """
         return list(self.problem(model).names)
+
+    def marginalised_names(self, model: str) -> list:
+        """Linear nuisances of ``model`` integrated out analytically (not sampled)."""
+        return list(self.problem(model).marginalised)
 
     def log_likelihood(self, model: str, theta):
         """Joint log-likelihood of all datasets.

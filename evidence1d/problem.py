@@ -39,12 +39,15 @@ class JointProblem:
     units : dict of str to str
         Unit of every parameter.
     one_dimensional : bool
+    marginalised : list of str
+        Linear nuisances integrated out analytically (see :class:`LinearBlock`); they are not
+        sampled, and :meth:`draw_marginalised` draws them from their conditional posterior.
     """
 
     #: parameter sets evaluated at once (bounds memory for powder data)
     chunk = 256
 
-    def __init__(self, case, choice):
+    def __init__(self, case, choice, marginalise: bool = True):
         card = choice.card
         cls = FAMILY_CLASSES[card.family]
         self.card = card
@@ -76,10 +79,15 @@ class JointProblem:
                 short = nname.split(":", 1)[1]
                 priors[nname] = own.get(short) or prior_from_spec(defaults[nname], nname)
                 units[nname] = _nuisance_unit(short, ds)
-        self.prior = JointPrior(list(priors), list(priors.values()))
-        self.names = list(self.prior.free_names)
         self.all_names = list(priors)
         self.units = units
+        self.declared_priors = dict(priors)
+        self.blocks = _linear_blocks(self.predictors, priors) if marginalise else []
+        self.marginalised = [nm for b in self.blocks for nm in b.names]
+        sampled = [nm for nm in priors if nm not in self.marginalised]
+        self.prior = JointPrior(sampled, [priors[nm] for nm in sampled])
+        self.names = list(self.prior.free_names)
+        self._in_block = {id(pr) for b in self.blocks for pr in b.predictors}
 
     # ----------------------------------------------------------------- helpers
     def __getstate__(self):
@@ -92,36 +100,102 @@ class JointProblem:
         return np.atleast_2d(theta), single
 
     def params(self, theta) -> dict:
-        """Dict of every parameter (fixed included) as (k, 1) arrays."""
-        theta, _ = self._as_batch(theta)
-        return self.prior.expand(theta)
+        """Dict of every parameter (fixed included) as (k, 1) arrays.
 
-    def _per_dataset(self, theta, pointwise=False):
+        ``theta`` holds the sampled parameters (:attr:`names`) or, with the marginalised
+        nuisances appended, :attr:`full_names`; without them the marginalised nuisances are
+        set to their conditional posterior means.
+        """
+        theta, _ = self._as_batch(theta)
+        m = len(self.names)
+        p = self.prior.expand(theta[:, :m])
+        if theta.shape[1] > m:
+            for j, nm in enumerate(self.marginalised):
+                p[nm] = theta[:, m + j:m + j + 1]
+        else:
+            with np.errstate(all="ignore"):
+                for b in self.blocks:
+                    p.update(b.conditional_mean(p))
+        return p
+
+    def _per_dataset(self, theta, pointwise=False, rng=None):
         theta, _ = self._as_batch(theta)
         k = theta.shape[0]
         ok = self.prior.in_support(theta) & np.all(np.isfinite(theta), axis=1)
         out = {}
-        for pr in self.predictors:
-            n = pr.dataset.n
-            out[pr.dataset.name] = np.full((k, n) if pointwise else k, -np.inf)
+        for label, n in self.term_sizes().items():
+            out[label] = np.full((k, n) if pointwise else k, -np.inf)
         idx = np.flatnonzero(ok)
         for start in range(0, idx.size, self.chunk):
             sel = idx[start:start + self.chunk]
             p = self.prior.expand(theta[sel])
-            for pr in self.predictors:
-                ds = pr.dataset
-                with np.errstate(all="ignore"):
+            with np.errstate(all="ignore"):
+                if pointwise:
+                    p.update(self._draw(p, rng))
+                for pr in self.predictors:
+                    if id(pr) in self._in_block and not pointwise:
+                        continue
+                    ds = pr.dataset
                     model = pr.predict(p)
-                infl = p.get(f"{ds.name}:inflate")
-                if ds.options.get("noise") == "student_t":
-                    f = student_t_pointwise if pointwise else student_t_loglike
-                    ll = f(model, ds.y, ds.err, ds.options.get("nu", 4.0), inflation=infl)
-                else:
-                    f = gaussian_pointwise if pointwise else gaussian_loglike
-                    ll = f(model, ds.y, ds.err, inflation=infl)
-                ll = np.where(np.isfinite(ll), ll, -np.inf)
-                out[ds.name][sel] = ll
+                    infl = p.get(f"{ds.name}:inflate")
+                    if ds.options.get("noise") == "student_t":
+                        f = student_t_pointwise if pointwise else student_t_loglike
+                        ll = f(model, ds.y, ds.err, ds.options.get("nu", 4.0), inflation=infl)
+                    else:
+                        f = gaussian_pointwise if pointwise else gaussian_loglike
+                        ll = f(model, ds.y, ds.err, inflation=infl)
+                    out[ds.name][sel] = np.where(np.isfinite(ll), ll, -np.inf)
+                if not pointwise:
+                    for b in self.blocks:
+                        ll = b.log_likelihood(p)
+                        out[b.label][sel] = np.where(np.isfinite(ll), ll, -np.inf)
         return out
+
+    def _draw(self, p, rng):
+        rng = np.random.default_rng(0) if rng is None else rng
+        drawn = {}
+        for b in self.blocks:
+            drawn.update(b.draw(p, rng))
+        return drawn
+
+    def term_sizes(self) -> dict:
+        """Labels of the log-likelihood terms and their number of points: one term per
+        dataset whose nuisances are sampled, one per block of marginalised datasets."""
+        sizes = {pr.dataset.name: pr.dataset.n for pr in self.predictors
+                 if id(pr) not in self._in_block}
+        for b in self.blocks:
+            sizes[b.label] = sum(pr.dataset.n for pr in b.predictors)
+        return sizes
+
+    def draw_marginalised(self, theta, rng) -> np.ndarray:
+        """Draw the marginalised nuisances from their conditional posterior given theta.
+
+        Parameters
+        ----------
+        theta : ndarray, shape (k, len(names))
+        rng : numpy.random.Generator
+
+        Returns
+        -------
+        ndarray, shape (k, len(marginalised)), columns in :attr:`marginalised` order.
+        """
+        theta, _ = self._as_batch(theta)
+        if not self.marginalised:
+            return np.zeros((theta.shape[0], 0))
+        p = self.prior.expand(theta)
+        with np.errstate(all="ignore"):
+            d = self._draw(p, rng)
+        return np.column_stack([d[nm][:, 0] for nm in self.marginalised])
+
+    def full_theta(self, theta, rng) -> np.ndarray:
+        """Sampled parameters plus drawn marginalised nuisances, columns :attr:`full_names`."""
+        theta, _ = self._as_batch(theta)
+        return np.hstack([theta, self.draw_marginalised(theta, rng)])
+
+    @property
+    def full_names(self) -> list:
+        """Sampled parameter names followed by the marginalised ones."""
+        return list(self.names) + list(self.marginalised)
 
     # ----------------------------------------------------------------- public API
     def log_likelihood(self, theta):
@@ -138,9 +212,32 @@ class JointProblem:
         """Per-dataset log-likelihoods {dataset name: (k,)} (evidence budgets)."""
         return self._per_dataset(theta)
 
-    def log_likelihood_pointwise(self, theta) -> dict:
-        """Per-point log-likelihoods {dataset name: (k, n_points)} (for PSIS-LOO)."""
-        return self._per_dataset(theta, pointwise=True)
+    def log_likelihood_pointwise(self, theta, rng=None) -> dict:
+        """Per-point log-likelihoods {dataset name: (k, n_points)} (for PSIS-LOO), with any
+        marginalised nuisances drawn from their conditional posterior (``rng``)."""
+        theta, _ = self._as_batch(theta)
+        p_ok = self.prior.in_support(theta)
+        out = {}
+        for pr in self.predictors:
+            out[pr.dataset.name] = np.full((theta.shape[0], pr.dataset.n), -np.inf)
+        idx = np.flatnonzero(p_ok)
+        rng = np.random.default_rng(0) if rng is None else rng
+        for start in range(0, idx.size, self.chunk):
+            sel = idx[start:start + self.chunk]
+            p = self.prior.expand(theta[sel])
+            with np.errstate(all="ignore"):
+                p.update(self._draw(p, rng))
+                for pr in self.predictors:
+                    ds = pr.dataset
+                    model = pr.predict(p)
+                    infl = p.get(f"{ds.name}:inflate")
+                    if ds.options.get("noise") == "student_t":
+                        ll = student_t_pointwise(model, ds.y, ds.err, ds.options.get("nu", 4.0),
+                                                 inflation=infl)
+                    else:
+                        ll = gaussian_pointwise(model, ds.y, ds.err, inflation=infl)
+                    out[ds.name][sel] = np.where(np.isfinite(ll), ll, -np.inf)
+        return out
 
     def log_prior(self, theta):
         """Log prior density; same shapes as :meth:`log_likelihood`."""
@@ -175,6 +272,97 @@ class JointProblem:
         p = self.params(theta)
         with np.errstate(all="ignore"):
             return {pr.dataset.name: pr.magnetic(p) for pr in self.predictors}
+
+
+class LinearBlock:
+    """Datasets whose linear nuisances are integrated out together.
+
+    A block holds the datasets that share linear parameters (all susceptibility datasets
+    share χ₀ and C_imp; all heat-capacity datasets share γ_e and β; each spectrum has its own
+    scale, background, slope and elastic line).  Its prior on those parameters is Gaussian:
+    a declared normal prior is used as it is; any other prior is replaced by the Gaussian of
+    the same mean and standard deviation, so the marginal likelihood is exact
+    (:mod:`evidence1d.inference.linear`).
+
+    Parameters
+    ----------
+    predictors : list of DatasetPredictor
+    names : list of str
+        The linear parameters, in order.
+    priors : dict of str to Prior
+        Their declared priors.
+    """
+
+    def __init__(self, predictors, names, priors):
+        from .inference.linear import gaussian_moments
+        self.predictors = list(predictors)
+        self.names = list(names)
+        self.label = "+".join(pr.dataset.name for pr in self.predictors)
+        mom = [gaussian_moments(priors[nm]) for nm in self.names]
+        self.mu = np.array([m for m, _ in mom])
+        self.tau = np.array([max(s, 1e-300) for _, s in mom])
+        self._y = np.concatenate([pr.dataset.y for pr in self.predictors])
+        self._err = np.concatenate([pr.dataset.err for pr in self.predictors])
+
+    def _whitened(self, p):
+        offs, des = [], []
+        for pr in self.predictors:
+            own = [nm for nm in self.names if nm in pr.linear]
+            off, d = pr.linear_design(p, own)
+            full = np.zeros(d.shape[:2] + (len(self.names),))
+            for j, nm in enumerate(own):
+                full[..., self.names.index(nm)] = d[..., j]
+            offs.append(off)
+            des.append(full)
+        off = np.concatenate(offs, axis=1)
+        design = np.concatenate(des, axis=1)
+        resid = self._y - off - design @ self.mu
+        return resid / self._err, design / self._err[:, None]
+
+    def log_likelihood(self, p) -> np.ndarray:
+        """Marginal log-likelihood of the block's data, (k,)."""
+        from .inference.linear import marginal_loglike
+        r, d = self._whitened(p)
+        return marginal_loglike(r, d, self._err, self.tau)
+
+    def draw(self, p, rng) -> dict:
+        """Conditional-posterior draws {name: (k, 1)} of the block's linear parameters."""
+        from .inference.linear import conditional_draw
+        r, d = self._whitened(p)
+        a = conditional_draw(r, d, self.tau, self.mu, rng)
+        return {nm: a[:, j:j + 1] for j, nm in enumerate(self.names)}
+
+    def conditional_mean(self, p) -> dict:
+        """Conditional-posterior means {name: (k, 1)}."""
+        r, d = self._whitened(p)
+        A = np.einsum("kni,knj->kij", d, d) + np.diag(1.0 / self.tau ** 2)
+        b = np.einsum("kni,kn->ki", d, r)
+        a = self.mu + np.linalg.solve(A, b[..., None])[..., 0]
+        return {nm: a[:, j:j + 1] for j, nm in enumerate(self.names)}
+
+
+def _linear_blocks(predictors, priors) -> list:
+    """Group datasets sharing linear nuisances; keep only blocks that can be marginalised
+    (Gaussian noise without error inflation, no fixed linear parameter)."""
+    from .inference.priors import Fixed
+    groups = []                       # list of (set of predictor ids, set of names)
+    for pr in predictors:
+        ids, names = {id(pr)}, set(pr.linear)
+        for g in [g for g in groups if g[1] & names]:
+            groups.remove(g)
+            ids |= g[0]
+            names |= g[1]
+        groups.append((ids, names))
+    blocks = []
+    for ids, names in groups:
+        members = [pr for pr in predictors if id(pr) in ids]
+        ok = all(pr.dataset.options.get("noise", "gaussian") == "gaussian"
+                 and not pr.dataset.options.get("inflate_errors", False) for pr in members)
+        ok = ok and names and not any(isinstance(priors[nm], Fixed) for nm in names)
+        if ok:
+            order = [nm for nm in priors if nm in names]
+            blocks.append(LinearBlock(members, order, priors))
+    return blocks
 
 
 def _make_family(cls, card, sample):

@@ -59,7 +59,7 @@ def _truth_vector(problem, truth: dict) -> np.ndarray:
         raise InputError(f"unknown parameter '{unknown[0]}' for model '{problem.model}'; "
                          f"{closest_key(unknown[0], problem.all_names)}")
     vec = []
-    for name in problem.names:
+    for name in problem.full_names:
         if name in truth:
             vec.append(float(truth[name]))
             continue

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 import evidence1d
-from conftest import CASE_YAML, write_valid_case
+from casefactory import CASE_YAML, write_valid_case
 from evidence1d.simulate import NoiseModel, simulate_case
 
 MODELS = "  - gapped_spin_wave\n  - paramagnon"
@@ -20,12 +20,24 @@ def case(tmp_path):
                                                  CASE_YAML.replace("  - spinon_continuum", MODELS)))
 
 
-def test_parameter_names_physical_then_nuisance(case):
+NUISANCES = ["chi0", "c_imp", "gamma_e", "beta_lattice", "map:scale", "map:background",
+             "map:slope"]
+
+
+def test_parameter_names_physical_then_nuisance(tmp_path):
+    text = CASE_YAML.replace("  - spinon_continuum", MODELS).replace(
+        "sampler: {", "sampler: {marginalise: false, ")
+    case = evidence1d.load_case(write_valid_case(tmp_path / "c", text))
     names = case.parameter_names("gapped_spin_wave")
     # damping is fixed at 0 by the card's default prior, so it is not sampled
     assert names[:4] == ["J", "J_perp", "delta", "g"]
-    assert names[4:] == ["chi0", "c_imp", "gamma_e", "beta_lattice", "map:scale",
-                         "map:background", "map:slope"]
+    assert names[4:] == NUISANCES
+    assert case.marginalised_names("gapped_spin_wave") == []
+
+
+def test_marginalised_nuisances_are_not_sampled(case):
+    assert case.parameter_names("gapped_spin_wave") == ["J", "J_perp", "delta", "g"]
+    assert sorted(case.marginalised_names("gapped_spin_wave")) == sorted(NUISANCES)
 
 
 def test_shapes(case, rng):
@@ -57,9 +69,12 @@ def test_case_pickles(case, rng):
     np.testing.assert_array_equal(case.log_likelihood(m, th), case2.log_likelihood(m, th))
 
 
-def test_gaussian_likelihood_normalisation(case):
+def test_gaussian_likelihood_normalisation(tmp_path):
     # Gaussian log-likelihood with full normalisation: at the truth with zero noise the
-    # value is −Σ ln(σ √(2π)) (analytic)
+    # value is −Σ ln(σ √(2π)) (analytic); nuisances sampled, not marginalised
+    text = CASE_YAML.replace("  - spinon_continuum", MODELS).replace(
+        "sampler: {", "sampler: {marginalise: false, ")
+    case = evidence1d.load_case(write_valid_case(tmp_path / "c", text))
     m = "paramagnon"
     prob = case.problem(m)
     th = prob.prior_transform(np.full(len(prob.names), 0.5))
@@ -77,7 +92,7 @@ def test_simulate_recovers_truth_at_high_signal(case, rng):
                          rng)
     prob = case.problem("paramagnon")
     vec = np.array([truth.get(n, 0.0) if not n.endswith("scale") else truth[n]
-                    for n in prob.names])
+                    for n in prob.full_names])
     pred = prob.predict(vec[None])
     for ds in case.datasets:
         y, err = sims[ds.name]

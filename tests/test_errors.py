@@ -4,7 +4,7 @@ from __future__ import annotations
 import pytest
 
 from evidence1d.cli import main
-from conftest import CASE_YAML, write_valid_case
+from casefactory import CASE_YAML, write_valid_case
 
 
 def _edit(path, old, new):

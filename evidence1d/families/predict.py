@@ -170,6 +170,45 @@ class DatasetPredictor:
             out[f"{ds.name}:inflate"] = {"kind": "log_uniform", "lower": 1.0, "upper": 10.0}
         return out
 
+    # ------------------------------------------------------------------ linear parts
+    @property
+    def linear(self) -> list:
+        """Names of the parameters that enter this dataset's prediction linearly."""
+        return [n for n in self.nuisance if not n.endswith(":inflate")] + list(self.extras)
+
+    def linear_design(self, p: dict, names) -> tuple:
+        """The prediction as offset + design · a for the linear parameters ``names``.
+
+        Parameters
+        ----------
+        p : dict of str to ndarray (k, 1)
+            Physical parameters (and any non-linear nuisances).
+        names : list of str
+            Linear parameters to expose (a subset of :attr:`linear`).
+
+        Returns
+        -------
+        offset : ndarray, shape (k, n)
+            The part that does not depend on ``names``.
+        design : ndarray, shape (k, n, len(names))
+            The column multiplying each of ``names``.
+        """
+        ds = self.dataset
+        m = self.magnetic(p)
+        k, n = m.shape
+        if ds.kind in ("crystal_spectrum", "powder_spectrum"):
+            column = {f"{ds.name}:scale": m, f"{ds.name}:background": np.ones(n),
+                      f"{ds.name}:slope": self._E, f"{ds.name}:elastic": self._elastic_shape}
+        else:
+            T = ds.x["T"]
+            column = {"chi0": np.ones(n), "c_imp": 1.0 / T, "gamma_e": T,
+                      "beta_lattice": T ** 3}
+        design = np.stack([np.broadcast_to(column[nm], (k, n)) for nm in names], axis=-1) \
+            if names else np.zeros((k, n, 0))
+        zero = np.zeros((k, 1))
+        offset = self.predict({**p, **{nm: zero for nm in names}}, magnetic=m)
+        return offset, design
+
     # ------------------------------------------------------------------ predictions
     def magnetic(self, p: dict) -> np.ndarray:
         """The family's model part at the dataset's points (before nuisances), (k, n)."""
@@ -189,20 +228,22 @@ class DatasetPredictor:
             return fam.heat_capacity(p, T)
         return fam.entropy(p, T)
 
-    def predict(self, p: dict) -> np.ndarray:
+    def predict(self, p: dict, magnetic: np.ndarray | None = None) -> np.ndarray:
         """Predicted values at the dataset's points, in the dataset's internal units.
 
         Parameters
         ----------
         p : dict of str to ndarray (k, 1)
             Physical parameters, this dataset's nuisances and the sample extras.
+        magnetic : ndarray (k, n), optional
+            The family's model part if already computed (:meth:`magnetic`).
 
         Returns
         -------
         ndarray, shape (k, n)
         """
         ds, name = self.dataset, self.dataset.name
-        m = self.magnetic(p)
+        m = self.magnetic(p) if magnetic is None else magnetic
         if ds.kind in ("crystal_spectrum", "powder_spectrum"):
             out = p[f"{name}:scale"] * m
             if f"{name}:background" in p:

@@ -57,7 +57,7 @@ def verdict_lines(results) -> str:
     lines = ["", "model                     ln Z              P(model)  1D"]
     for name, m in results.models.items():
         lines.append(f"{name:<25} {m.evidence.log_z:9.2f} ± {m.evidence.log_z_err:<5.2f} "
-                     f"{cmp_.probabilities[name]:8.3f}  {'yes' if m.one_dimensional else 'no'}")
+                     f"{cmp_.posterior_probability[name]:8.3f}  {'yes' if m.one_dimensional else 'no'}")
     lines += ["", f"P(one-dimensional | data) = {cmp_.p_one_dimensional:.3g}",
               "verdict: " + cmp_.verdict]
     if not results.reliable:

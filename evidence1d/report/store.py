@@ -137,7 +137,17 @@ def save_inputs(case, out) -> Path:
 
 
 def saved_case_path(out) -> Path:
-    """The copied case file of a saved run (``out/inputs/...``), from ``saved/run.json``."""
+    """The copied case file of a saved run (``out/inputs/...``), from ``saved/run.json``.
+
+    Raises
+    ------
+    InputError
+        ``out`` holds no saved results of this version.
+
+    References
+    ----------
+    .. [1] The layout in the module notes.
+    """
     return Path(out) / _read_run_json(out)["case_file"]
 
 

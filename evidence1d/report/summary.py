@@ -79,7 +79,12 @@ def json_ready(obj):
 
 
 def parameter_role(name: str, card) -> str:
-    """``"physical"`` (a model-card parameter), ``"nuisance"`` (``dataset:what``) or ``"extra"``."""
+    """``"physical"`` (a model-card parameter), ``"nuisance"`` (``dataset:what``) or ``"extra"``.
+
+    References
+    ----------
+    .. [1] The naming of :mod:`evidence1d.families.predict` (``<dataset>:<what>`` nuisances).
+    """
     if name in card.parameters:
         return "physical"
     return "nuisance" if ":" in name else "extra"
@@ -305,7 +310,12 @@ def round_interval(median: float, lo: float, hi: float) -> tuple:
 
 
 def draw_indices(n_samples: int, n_max: int = MAX_DRAWS) -> np.ndarray:
-    """Evenly spaced indices of at most ``n_max`` samples (deterministic)."""
+    """Evenly spaced indices of at most ``n_max`` samples (deterministic, no random numbers).
+
+    References
+    ----------
+    .. [1] Gelman, Meng & Stern, Statistica Sinica 6, 733 (1996): predictive draws.
+    """
     return np.unique(np.linspace(0, n_samples - 1, min(n_max, n_samples)).astype(int))
 
 
