@@ -40,6 +40,21 @@ class ModelResult:
     savage_dickey: dict | None = None
     loo: dict | None = None
     run_time: float = 0.0
+    nuisance_names: list = field(default_factory=list)
+    nuisance_samples: object = None
+
+    @property
+    def full_names(self) -> list:
+        """Sampled parameters followed by the analytically marginalised nuisances."""
+        return list(self.names) + list(self.nuisance_names)
+
+    @property
+    def full_samples(self):
+        """Posterior samples of :attr:`full_names` (marginalised nuisances drawn from their
+        conditional posterior given each sample)."""
+        if not self.nuisance_names:
+            return np.asarray(self.posterior.samples)
+        return np.hstack([np.asarray(self.posterior.samples), np.asarray(self.nuisance_samples)])
 
 
 @dataclass(frozen=True)
@@ -89,7 +104,8 @@ def _model_seeds(seed: int, names):
     return {n: c for n, c in zip(names, children)}
 
 
-def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, progress: bool):
+def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, progress,
+               position=None):
     from .inference.compare import savage_dickey
     from .inference.diagnostics import diagnose, psis_loo
     from .inference.evidence import tempered_evidence
@@ -98,7 +114,9 @@ def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, pr
 
     t0 = time.perf_counter()
     problem = case.problem(name)
-    ev_seed, post_seed, sd_seed = seedseq.spawn(3)
+    if progress:
+        progress = {"label": name, "position": position}
+    ev_seed, post_seed, sd_seed, nu_seed = seedseq.spawn(4)
     sweeps = {"min_sweeps": settings["mcmc_steps"]} if settings["mcmc_steps"] else {}
     ev = tempered_evidence(problem.log_likelihood, problem.prior,
                            rng=np.random.default_rng(ev_seed),
@@ -134,16 +152,18 @@ def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, pr
     loo = None
     try:
         draws = samples[np.linspace(0, len(samples) - 1, min(400, len(samples))).astype(int)]
-        pw = problem.log_likelihood_pointwise(draws)
+        pw = problem.log_likelihood_pointwise(draws, rng=np.random.default_rng(sd_seed))
         loo_res = psis_loo(np.concatenate([pw[k] for k in pw], axis=1))
         loo = loo_res.to_dict() if hasattr(loo_res, "to_dict") else dict(loo_res)
     except Exception as exc:  # a predictive cross-check must not sink the run
         loo = {"error": f"{exc.__class__.__name__}: {exc}"}
+    nuis = problem.draw_marginalised(samples, np.random.default_rng(nu_seed))
     return ModelResult(name=name, title=problem.card.title,
                        one_dimensional=problem.one_dimensional, names=list(problem.names),
                        units=dict(problem.units), evidence=ev, posterior=post,
                        diagnostics=diag, laplace=lap, savage_dickey=sd, loo=loo,
-                       run_time=time.perf_counter() - t0)
+                       run_time=time.perf_counter() - t0,
+                       nuisance_names=list(problem.marginalised), nuisance_samples=nuis)
 
 
 def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume: bool = False,
@@ -215,7 +235,7 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
         ctx = mp.get_context("spawn" if os.name == "nt" else "fork")
         with cf.ProcessPoolExecutor(max_workers=workers, mp_context=ctx) as pool:
             futures = {n: pool.submit(_run_model, case, n, settings, seeds[n], target,
-                                      resume, progress) for n in names}
+                                      resume, progress, i) for i, n in enumerate(names)}
             results = {n: futures[n].result() for n in names}
     else:
         results = {n: _run_model(case, n, settings, seeds[n], target, resume, progress)

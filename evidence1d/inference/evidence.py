@@ -64,6 +64,8 @@ import numpy as np
 from scipy import optimize, special
 from tqdm.auto import tqdm
 
+from .progress import bar_options as _bar_options
+
 from evidence1d.errors import InputError
 from evidence1d.inference.priors import LogUniform
 
@@ -424,8 +426,9 @@ def tempered_evidence(log_likelihood, prior, *, rng, n_particles=200, n_islands=
         Bounds on the move sweeps per temperature.
     max_temperatures : int
         Safety limit on the schedule length.
-    progress : bool
-        Show a tqdm progress bar (in units of β per island).
+    progress : bool or dict
+        Show a tqdm progress bar (in units of β per island); a dict ``{"label": str,
+        "position": int}`` names it and gives its line (for several runs at once).
 
     Returns
     -------
@@ -449,8 +452,9 @@ def tempered_evidence(log_likelihood, prior, *, rng, n_particles=200, n_islands=
     seeds = np.random.SeedSequence(int(rng.integers(0, 2**63 - 1))).spawn(int(n_islands))
     start = time.perf_counter()
     islands, warnings = [], []
-    bar = tqdm(total=float(n_islands), disable=not progress, desc="evidence", unit="β",
-               leave=False, bar_format="{l_bar}{bar}| {n:.2f}/{total:.0f} [{elapsed}]")
+    label, position = _bar_options(progress, "evidence")
+    bar = tqdm(total=float(n_islands), disable=not progress, desc=label, unit="β",
+               leave=False, position=position, bar_format="{l_bar}{bar}| {n:.2f}/{total:.0f} [{elapsed}]")
     try:
         for seq in seeds:
             run, warn = _run_island(call, prior, np.random.default_rng(seq), int(n_particles),

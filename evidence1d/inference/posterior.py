@@ -48,6 +48,8 @@ import numpy as np
 from scipy import optimize
 from tqdm.auto import tqdm
 
+from .progress import bar_options as _bar_options
+
 from evidence1d.errors import InputError
 
 __all__ = ["PosteriorResult", "sample_posterior", "default_moves", "LogTarget",
@@ -292,8 +294,9 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
         ``checkpoint_every`` steps with the random state.
     resume : bool
         Continue from ``checkpoint`` if it holds steps (a fresh start otherwise).
-    progress : bool
-        Show a tqdm progress bar.
+    progress : bool or dict
+        Show a tqdm progress bar; a dict ``{"label": str, "position": int}`` names it and
+        gives its line (for several runs at once).
     checkpoint_every : int
         Steps between checkpoint writes.
     add_prior : bool
@@ -362,8 +365,9 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
     remaining = n_steps - start
     warnings = []
     if remaining > 0:
-        bar = tqdm(total=n_steps, initial=start, disable=not progress, desc="posterior",
-                   unit="step", leave=False)
+        label, position = _bar_options(progress, "posterior")
+        bar = tqdm(total=n_steps, initial=start, disable=not progress, desc=label,
+                   unit="step", leave=False, position=position)
         done = written = 0
         acc_saved = np.zeros(n_walkers)
         try:

@@ -79,8 +79,9 @@ SUMMARY_FIELDS = (
     _F(f"{_M}.evidence_warnings", "array[string]", "", "problems noticed by the estimator"),
     _F(f"{_M}.n_likelihood_evaluations", "integer", "", "parameter sets evaluated for ln Z "
        "and the posterior"),
-    _F(f"{_M}.parameters", "mapping[object]", "", "every sampled parameter, nuisances "
-       "included, keyed by name in sampling order"),
+    _F(f"{_M}.parameters", "mapping[object]", "", "every parameter with a posterior, "
+       "nuisances included (sampled ones in sampling order, then those integrated out "
+       "analytically)"),
     _F(f"{_P}.median", "number", "param", "posterior median"),
     _F(f"{_P}.q16", "number", "param", "16 % posterior quantile"),
     _F(f"{_P}.q84", "number", "param", "84 % posterior quantile"),
@@ -88,6 +89,8 @@ SUMMARY_FIELDS = (
     _F(f"{_P}.role", "string", "", "'physical' (model card), 'extra' (sample-level "
        "background term) or 'nuisance' (one dataset's own)"),
     _F(f"{_P}.prior", "string", "", "the prior, in words"),
+    _F(f"{_P}.marginalised", "boolean", "", "true for a linear nuisance integrated out "
+       "analytically; its quantiles come from conditional-posterior draws", required=False),
     _F(f"{_P}.prior_q16", "number", "param", "16 % quantile of the prior"),
     _F(f"{_P}.prior_q84", "number", "param", "84 % quantile of the prior"),
     _F(f"{_P}.width_ratio", "number", "", "posterior 68 % width over prior 68 % width "

@@ -199,6 +199,8 @@ def save_results(results, case_file: Path) -> None:
         arrays = {"island_log_z": ev.island_log_z, "tau": post.tau,
                   "acceptance_fraction": post.acceptance_fraction, "samples": post.samples,
                   "samples_log_prob": post.samples_log_prob}
+        if mr.nuisance_names:
+            arrays["nuisance_samples"] = mr.nuisance_samples
         for i, isl in enumerate(ev.islands):
             for k in _ISLAND_ARRAYS:
                 arrays[f"island{i}_{k}"] = getattr(isl, k)
@@ -214,6 +216,7 @@ def save_results(results, case_file: Path) -> None:
         doc["models"][name] = {
             "title": mr.title, "one_dimensional": bool(mr.one_dimensional),
             "names": list(mr.names), "units": dict(mr.units), "run_time": mr.run_time,
+            "nuisance_names": list(mr.nuisance_names),
             "chain_file": str(ckpt.relative_to(out)) if in_ckpt else None,
             "evidence": {"log_z": ev.log_z, "log_z_err": ev.log_z_err,
                          "names": list(ev.names), "n_evaluations": ev.n_evaluations,
@@ -340,7 +343,10 @@ def load_results(out):
                                    units=m["units"], evidence=ev, posterior=post,
                                    diagnostics=diag, laplace=lap,
                                    savage_dickey=m["savage_dickey"], loo=m["loo"],
-                                   run_time=m["run_time"])
+                                   run_time=m["run_time"],
+                                   nuisance_names=list(m.get("nuisance_names", [])),
+                                   nuisance_samples=a["nuisance_samples"]
+                                   if "nuisance_samples" in a else None)
     c = doc["comparison"]
     cmp_ = Comparison(names=tuple(c["names"]), log_z=c["log_z"], log_z_err=c["log_z_err"],
                       one_dimensional=c["one_dimensional"],
@@ -389,8 +395,8 @@ def export_samples(results) -> list:
         except BaseException:
             Path(tmp).unlink(missing_ok=True)
             raise
-        lines = [",".join(mr.names)]
-        lines += [",".join(repr(float(v)) for v in row) for row in np.asarray(post.samples)]
+        lines = [",".join(mr.full_names)]
+        lines += [",".join(repr(float(v)) for v in row) for row in np.asarray(mr.full_samples)]
         atomic_write(folder / f"{name}.csv", "\n".join(lines) + "\n")
         written += [folder / f"{name}.nc", folder / f"{name}.csv"]
     return written

@@ -203,6 +203,18 @@ def _model_block(mr, problem) -> dict:
         p.update(role=parameter_role(n, problem.card), prior=pr.describe(), prior_q16=lo,
                  prior_q84=hi,
                  width_ratio=(p["q84"] - p["q16"]) / width if width > 0 else math.nan)
+    if mr.nuisance_names:
+        nuis = quantile_summary(np.asarray(mr.nuisance_samples), mr.nuisance_names, mr.units)
+        for n in mr.nuisance_names:
+            pr = problem.declared_priors[n]
+            lo, hi = prior_interval(pr)
+            p = nuis[n]
+            width = hi - lo
+            p.update(role=parameter_role(n, problem.card), marginalised=True,
+                     prior=pr.describe() + " (integrated out analytically under the Gaussian "
+                     "of the same mean and standard deviation)", prior_q16=lo, prior_q84=hi,
+                     width_ratio=(p["q84"] - p["q16"]) / width if width > 0 else math.nan)
+        params.update(nuis)
     fixed = {n: {"value": float(pr.value), "unit": mr.units.get(n, "") or "1"}
              for n, pr in zip(problem.prior.names, problem.prior.priors)
              if n not in mr.names and hasattr(pr, "value")}
@@ -448,7 +460,7 @@ def predictive_data(results, case, summary, n_draws: int = MAX_DRAWS) -> dict:
     out = {}
     for name, mr in results.models.items():
         problem = case.problem(name)
-        samples = np.asarray(mr.posterior.samples)
+        samples = np.asarray(mr.full_samples)
         draws = samples[draw_indices(samples.shape[0], n_draws)]
         params = problem.params(draws)
         at_points = problem.predict(draws)

@@ -6,7 +6,7 @@ import json
 import pytest
 
 from evidence1d.physics.chain_thermo import TABLE_PATH
-from tests.conftest import CASE_YAML, write_valid_case
+from casefactory import CASE_YAML, write_valid_case
 
 #: tiny sampler settings: the run is a fixture, not a statistical test
 TINY = "sampler: {steps: 100, particles: 40, islands: 2}"

@@ -12,7 +12,7 @@ import evidence1d
 from evidence1d.report.figures import comparison_figure, predictive_figures, write_figures
 from evidence1d.report.store import atomic_write, save_inputs
 from evidence1d.report.summary import BAND_QUANTILES, predictive_data
-from tests.conftest import CASE_YAML, write_valid_case
+from casefactory import CASE_YAML, write_valid_case
 
 _SPECTRA_ONLY = CASE_YAML.split("  - name: chi")[0] + "models:\n  - spinon_continuum\n" \
     "  - gapped_spin_wave\n" + "sampler:" + CASE_YAML.split("sampler:")[1]
@@ -28,8 +28,9 @@ def _prior_results(case, rng, n=40):
     models = {}
     for name in case.models:
         pb = case.problem(name)
-        models[name] = SimpleNamespace(posterior=SimpleNamespace(samples=pb.prior.sample(rng, n)),
-                                       one_dimensional=pb.one_dimensional)
+        draws = pb.prior.sample(rng, n)
+        models[name] = SimpleNamespace(posterior=SimpleNamespace(samples=draws),
+                                       full_samples=draws, one_dimensional=pb.one_dimensional)
     return SimpleNamespace(models=models)
 
 

@@ -22,7 +22,9 @@ def test_summary_validates_and_holds_every_sampled_parameter(run_dir, summary):
     assert set(summary["models"]) == set(res.models)
     for name, mr in res.models.items():
         params = summary["models"][name]["parameters"]
-        assert list(params) == list(mr.names)          # nuisances included, in order
+        assert list(params) == list(mr.full_names)     # nuisances included, in order
+        assert mr.nuisance_names                       # linear nuisances marginalised
+        assert all(params[n].get("marginalised") for n in mr.nuisance_names)
         for p, v in params.items():
             assert v["q16"] <= v["median"] <= v["q84"]
             assert v["unit"]
@@ -74,9 +76,10 @@ def test_samples_files_hold_the_posterior(run_dir):
     res = load_results(out)
     for name, mr in res.models.items():
         lines = (out / "samples" / f"{name}.csv").read_text().splitlines()
-        assert lines[0].split(",") == list(mr.names)
+        assert lines[0].split(",") == list(mr.full_names)
         table = np.array([[float(v) for v in ln.split(",")] for ln in lines[1:]])
-        assert np.array_equal(table, mr.posterior.samples)
+        assert np.array_equal(table, mr.full_samples)
+        assert np.array_equal(table[:, :len(mr.names)], mr.posterior.samples)
         with h5py.File(out / "samples" / f"{name}.nc", "r") as f:   # NetCDF-4 is HDF5
             post = f["posterior"]
             for j, p in enumerate(mr.names):
