@@ -122,6 +122,7 @@ class JointProblem:
         theta, _ = self._as_batch(theta)
         k = theta.shape[0]
         ok = self.prior.in_support(theta) & np.all(np.isfinite(theta), axis=1)
+        ok &= self._physical(theta)
         out = {}
         for label, n in self.term_sizes().items():
             out[label] = np.full((k, n) if pointwise else k, -np.inf)
@@ -150,6 +151,14 @@ class JointProblem:
                         ll = b.log_likelihood(p)
                         out[b.label][sel] = np.where(np.isfinite(ll), ll, -np.inf)
         return out
+
+    def _physical(self, theta) -> np.ndarray:
+        """False where a parameter leaves its physical range inside an unbounded prior
+        (a normal prior on g can reach g <= 0, where the form factor is undefined)."""
+        ok = np.ones(theta.shape[0], dtype=bool)
+        if "g" in self.names:
+            ok &= theta[:, self.names.index("g")] > 0.1
+        return ok
 
     def _draw(self, p, rng):
         rng = np.random.default_rng(0) if rng is None else rng
@@ -216,7 +225,7 @@ class JointProblem:
         """Per-point log-likelihoods {dataset name: (k, n_points)} (for PSIS-LOO), with any
         marginalised nuisances drawn from their conditional posterior (``rng``)."""
         theta, _ = self._as_batch(theta)
-        p_ok = self.prior.in_support(theta)
+        p_ok = self.prior.in_support(theta) & self._physical(theta)
         out = {}
         for pr in self.predictors:
             out[pr.dataset.name] = np.full((theta.shape[0], pr.dataset.n), -np.inf)

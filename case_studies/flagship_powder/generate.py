@@ -23,7 +23,7 @@ TRUTH = {
 
 def grids():
     Q = np.linspace(0.3, 3.0, 15)
-    E = np.linspace(0.25, 3.6, 16)
+    E = np.linspace(0.25, 3.6, 12)
     QQ, EE = np.meshgrid(Q, E, indexing="ij")
     return {"data/powder.csv": {"Q": QQ, "energy": EE},
             "data/chi.csv": {"T": np.geomspace(2.0, 300.0, 50)},

@@ -101,7 +101,7 @@ class DatasetPredictor:
                 self._Q = Q
                 self._ndir = len(w)
                 self._wdir = w
-                Qv = Q[:, None] * u[None, :, :]            # (n, n_dir, 3)
+                Qv = Q[:, None, None] * u[None, :, :]      # (n, n_dir, 3)
                 rep = lambda a: np.repeat(a, len(w))       # noqa: E731
                 self._pts = SpectralPoints(Q_par=Qv[..., 0].ravel(), Q_a=Qv[..., 1].ravel(),
                                            Q_b=Qv[..., 2].ravel(), d=sample.spin_spacing,

@@ -78,7 +78,11 @@ def activation_energy(delta):
     J. D. Johnson, S. Krinsky and B. M. McCoy, Phys. Rev. A 8, 2526 (1973).
     """
     delta = np.asarray(delta, dtype=float)
-    return 0.5 * np.reshape(spinon_gap(1.0, delta), delta.shape)
+    out = np.zeros(delta.shape)
+    gapped = delta > 1.0                 # the gap series is evaluated where it is non-zero
+    if np.any(gapped):
+        out[gapped] = 0.5 * np.reshape(spinon_gap(1.0, delta[gapped]), -1)
+    return out
 
 
 def luttinger_velocity(delta):
@@ -211,7 +215,11 @@ def _table():
         delta = raw["delta"]
     padded = _pad(_pad(stored, 0), 1)
     slope = stored[:, 1, :] - stored[:, 0, :]          # per grid step, for t < t_min
+    n_t2 = padded.shape[1]
+    by_quantity = np.ascontiguousarray(np.moveaxis(padded, -1, 0)).reshape(len(QUANTITIES), -1)
+    offsets = (np.arange(4)[:, None] * n_t2 + np.arange(4)[None, :]).ravel()
     return {"values": padded, "slope": _pad(slope, 0), "log_t0": float(log_t[0]),
+            "by_quantity": by_quantity, "offsets": offsets, "n_t2": n_t2,
             "dlog_t": float(log_t[1] - log_t[0]), "n_t": log_t.size,
             "delta0": float(delta[0]), "ddelta": float(delta[1] - delta[0]),
             "n_delta": delta.size, "t_max": float(np.exp(log_t[-1]))}
@@ -228,26 +236,34 @@ def _keys_weights(u, n):
 
 
 def _interpolate(tab, log_t, delta):
-    """Stored logarithms at (ln t, Δ), cubic convolution in both directions; (..., 4)."""
+    """Stored logarithms at (ln t, Δ), cubic convolution in both directions; (4, ...).
+
+    The 4 × 4 neighbourhood of every point is gathered at once from the quantity-major
+    copy of the table (one ``take``), then contracted along ln t and along Δ; ``delta``
+    may keep its own (smaller) broadcastable shape, so per-set weights are computed once.
+    """
     ut = (log_t - tab["log_t0"]) / tab["dlog_t"]
     ud = (delta - tab["delta0"]) / tab["ddelta"]
-    below = np.minimum(ut, 0.0)                      # linear continuation for t < t_min
     it, wt = _keys_weights(np.clip(ut, 0.0, tab["n_t"] - 1.0), tab["n_t"])
     idl, wd = _keys_weights(np.clip(ud, 0.0, tab["n_delta"] - 1.0), tab["n_delta"])
-    vals, slope = tab["values"], tab["slope"]
-    out = 0.0
-    edge = 0.0
-    for a in range(4):
-        inner = 0.0
-        for b in range(4):
-            inner = inner + wt[b][..., None] * vals[idl + a, it + b]
-        out = out + wd[a][..., None] * inner
-        edge = edge + wd[a][..., None] * slope[idl + a]
-    return out + below[..., None] * edge
+    base = idl * tab["n_t2"] + it
+    cells = base[None] + tab["offsets"].reshape((16,) + (1,) * base.ndim)
+    g = np.take(tab["by_quantity"], cells, axis=1).reshape((4, 4, 4) + base.shape)
+    inner = g[:, :, 0] * wt[0]                       # along ln t: (quantity, a, ...)
+    for b in range(1, 4):
+        inner += g[:, :, b] * wt[b]
+    out = inner[:, 0] * wd[0]                        # along Δ: (quantity, ...)
+    for a in range(1, 4):
+        out += inner[:, a] * wd[a]
+    below = np.minimum(ut, 0.0)                      # linear continuation for t < t_min
+    if np.any(below < 0):
+        edge = sum(wd[a][..., None] * tab["slope"][idl + a] for a in range(4))
+        out += np.moveaxis(edge, -1, 0) * below
+    return out
 
 
 def _interpolate_outer(tab, log_t, delta):
-    """As :func:`_interpolate` for log_t of shape (n,) and Δ of shape (m,): (m, n, 4).
+    """As :func:`_interpolate` for log_t of shape (n,) and Δ of shape (m,): (4, m, n).
 
     Interpolates along ln t for every grid row first, then along Δ: the same cubic
     convolution, done separably for the usual (n_sets, 1) × (n_points,) batch.
@@ -261,7 +277,7 @@ def _interpolate_outer(tab, log_t, delta):
     rows = sum(wt[b][None, :, None] * vals[:, it + b] for b in range(4))     # (nΔ+2, n, 4)
     out = sum(wd[a][:, None, None] * rows[idl + a] for a in range(4))
     edge = sum(wd[a][:, None] * slope[idl + a] for a in range(4))             # (m, 4)
-    return out + below[None, :, None] * edge[:, None, :]
+    return np.moveaxis(out + below[None, :, None] * edge[:, None, :], -1, 0)
 
 
 def _high_temperature(t, delta):
@@ -334,20 +350,22 @@ def xxz_thermodynamics(t, delta):
                          f"{delta[bad_d].ravel()[0]} instead")
     eps = activation_energy(delta)          # on the unbroadcast Δ: one value per set
     tab = _table()
+    log_t = np.minimum(np.log(t), np.log(tab["t_max"]))
     outer = t.ndim == 1 and (delta.ndim == 0 or (delta.ndim == 2 and delta.shape[1] == 1))
     if outer:                                # the usual batch: Δ (n_sets, 1), t (n_points,)
-        d_col = delta.reshape(-1)
-        stored = _interpolate_outer(tab, np.minimum(np.log(t), np.log(tab["t_max"])), d_col)
+        stored = _interpolate_outer(tab, log_t, delta.reshape(-1))
         if delta.ndim == 0:
-            stored = stored[0]
-    t, delta = np.broadcast_arrays(t, delta)
-    if not outer:
-        stored = _interpolate(tab, np.minimum(np.log(t), np.log(tab["t_max"])), delta)
+            stored = stored[:, 0]
+    else:                                    # pointwise; Δ keeps its own shape
+        stored = _interpolate(tab, log_t, delta)
+    shape = np.broadcast_shapes(t.shape, delta.shape)
+    stored = np.broadcast_to(stored, (len(QUANTITIES),) + shape)
     x = eps / t
-    out = {}
-    high = _high_temperature(t, delta)
     hot = t > tab["t_max"]
+    high = _high_temperature(*np.broadcast_arrays(t, delta)) if np.any(hot) else None
+    out = {}
     for j, q in enumerate(QUANTITIES):
-        value = stored[..., j] - (x if q in ACTIVATED else 0.0)
-        out[q] = np.where(hot, high[q], np.exp(value))
+        value = stored[j] - x if q in ACTIVATED else stored[j]
+        value = np.exp(value)
+        out[q] = np.where(hot, high[q], value) if high is not None else value
     return out

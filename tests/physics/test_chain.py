@@ -147,3 +147,72 @@ def test_kernels_finite_over_prior(J, D, T, q, E, s):
     for method in ("quadrature", "cumulative"):
         out = chain.spinon_spectrum(qa, Eq, np.full(3, s), T, Ja, Da, method=method)
         assert np.all(np.isfinite(out)) and np.all(out >= 0)
+
+
+def _peaks(qu, s0, T, J, D):
+    """Largest fine-reference S(q, E) per (set, q) over a dense energy grid, (n_sets, n_q)."""
+    _, top = chain.muller_edges(qu, J, D)
+    pk = np.zeros((J.shape[0], qu.size))
+    for k in range(qu.size):
+        Eg = np.linspace(-top[:, k].max() - 3 * s0, top[:, k].max() + 3 * s0, 1200)
+        pk[:, k] = chain._spectrum(np.full(Eg.size, qu[k]), Eg, np.full(Eg.size, s0), T, J,
+                                   D, "quadrature", 16, 8, False).max(axis=1)
+    return np.maximum(pk, 1e-300)
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_fast_path_matches_reference_and_fine_quadrature(seed):
+    # The Gauss-Hermite path (pairs clear of the edge) against the all-Gauss-Legendre path of
+    # the same kernel and a 16-node x 8-panel Gauss-Legendre reference (Abramowitz & Stegun
+    # 25.4.29): both sides of detailed balance, T = 0 to 300 K, sigma from 0.3 % to 20 % of J.
+    rng = np.random.default_rng(seed)
+    for _ in range(4):
+        Jc = np.exp(rng.uniform(np.log(0.05), np.log(20)))
+        J = Jc * np.exp(rng.uniform(-0.2, 0.2, (5, 1)))
+        D = rng.uniform(0, 3, (5, 1))
+        qu, nE = rng.uniform(-4, 4, 4), 100
+        T = rng.choice([0.0, 1.5, 30.0, 300.0])
+        s0 = 10 ** rng.uniform(-2.5, -0.7) * Jc
+        E = np.tile(np.linspace(-1.1, 1.1, nE) * 3.5 * Jc * max(1.0, D.max()), qu.size)
+        q, s = np.repeat(qu, nE), np.full(E.size, s0)
+        fast = chain.spinon_spectrum(q, E, s, T, J, D)
+        ref = chain._spectrum(q, E, s, T, J, D, "quadrature", 6, 3, False)
+        fine = chain._spectrum(q, E, s, T, J, D, "quadrature", 16, 8, False)
+        pk = np.repeat(_peaks(qu, s0, T, J, D), nE, axis=1)
+        assert np.max(np.abs(fast - ref) / pk) < 1e-4
+        assert np.max(np.abs(fast - fine) / pk) < 5e-4      # the stated accuracy
+        assert np.all(fast >= 0)
+
+
+@pytest.mark.parametrize("r", [6.0, 8.0, 20.0])
+@pytest.mark.parametrize("wl_over_sigma", [0.5, 10.0, 300.0])
+def test_hermite_cut_rule_against_adaptive_quadrature(r, wl_over_sigma):
+    # int_{-inf}^{b} phi(z) / sqrt((c + s z)^2 - wL^2) dz with the singular edge r sigma below
+    # c, against scipy.integrate.quad (QUADPACK); the stated bound is 2.5e-5 of the local value
+    s, wl = 1.0, wl_over_sigma
+    c = wl + r * s
+    f = lambda z: np.exp(-0.5 * z * z) / np.sqrt(2 * np.pi) / np.sqrt((c + s * z) ** 2 - wl ** 2)
+    local = 1.0 / np.sqrt(c * c - wl * wl)
+    for b in np.linspace(-5.9, 7.0, 12):
+        exact = integrate.quad(f, -6.0, b, limit=200)[0]      # the kernel's ±6σ window
+        got = chain._smooth_side(np.array([c]), np.array([s]), np.array([wl]), np.array([b]),
+                                 np.array([1.0]))[0]
+        assert abs(got - exact) < 2.5e-5 * local
+
+
+def test_gain_side_shifted_gaussian_path():
+    # energy-gain points clear of the edge: the Gaussian times the Boltzmann factor is a
+    # shifted Gaussian (completing the square); compared with the fine-grid brute force and
+    # with detailed balance S(-E) = exp(-E/k_BT) S(E) where the resolution is negligible
+    J, D, q = 10.0, 1.0, 1.3                      # continuum [15.1, 19.0] meV
+    E = -np.linspace(15.5, 20.5, 7)
+    for T, s in [(5.0, 0.3), (60.0, 0.15)]:
+        ref = np.array([_brute(q, e, s, T, J, D) for e in E])
+        got = chain.spinon_spectrum(np.full(7, q), E, np.full(7, s), T, np.array([[J]]),
+                                    np.array([[D]]))[0]
+        np.testing.assert_allclose(got, ref, rtol=2e-4, atol=1e-4 * ref.max())
+    Ein = np.array([16.0, 17.0, 18.0])
+    args = (np.full(3, q), np.full(3, 1e-3), 60.0, np.array([[J]]), np.array([[D]]))
+    gain = chain.spinon_spectrum(args[0], -Ein, *args[1:])[0]
+    loss = chain.spinon_spectrum(args[0], Ein, *args[1:])[0]
+    np.testing.assert_allclose(gain / loss, np.exp(-Ein / (K_B_MEV * 60.0)), rtol=1e-6)

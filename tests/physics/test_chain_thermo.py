@@ -184,3 +184,20 @@ def test_separable_and_pointwise_paths_agree():
     slow = xxz_thermodynamics(np.ascontiguousarray(tt), np.ascontiguousarray(dd))
     for k in KEYS:
         np.testing.assert_allclose(fast[k], slow[k], rtol=1e-12)
+
+
+def test_per_set_temperatures_equal_the_separable_path():
+    # the family's batch: t = k_B T / J differs per set (n_sets, n), delta (n_sets, 1); the
+    # pointwise path must equal the separable one set by set, including t below the table
+    # (linear continuation) and above it (high-temperature series)
+    rng = np.random.default_rng(2)
+    delta = rng.uniform(0.0, 3.0, (9, 1))
+    J = np.exp(rng.uniform(np.log(0.05), np.log(20.0), (9, 1)))
+    t = np.geomspace(1e-5, 3e4, 40)[None, :] * (1.0 / J)
+    batch = xxz_thermodynamics(t, delta)
+    for i in range(9):
+        single = xxz_thermodynamics(t[i], delta[i:i + 1])
+        for k in KEYS:
+            np.testing.assert_allclose(batch[k][i], single[k][0], rtol=1e-12, atol=0)
+    eps = activation_energy(delta)
+    assert eps.shape == delta.shape and np.all(eps[delta <= 1.0] == 0.0)

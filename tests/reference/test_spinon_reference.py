@@ -137,3 +137,23 @@ def test_first_moment_exact_diagonalisation():
         assert 3 * m1_zz == pytest.approx(-2 * (1 - np.cos(q)) * w[0] / L, rel=1e-10)
         # the kernel uses the infinite-chain E0 (Hulthen), close to the ring's for L = 8
         assert m1_zz == pytest.approx(expected, rel=0.07)
+
+
+def test_tabulated_ground_state_energy():
+    # the spline used by first_moment against the published values (Hulthen 1938; XX chain
+    # -1/pi, free fermions; Razumov & Stroganov, J. Phys. A 34, 3185 (2001), from memory)
+    # and against the direct evaluation everywhere, inside and outside the tabulated range
+    fast = chain._ground_state_energy_fast
+    assert fast(1.0) == pytest.approx(0.25 - np.log(2), abs=1e-11)
+    assert fast(0.0) == pytest.approx(-1 / np.pi, abs=1e-10)
+    assert fast(0.5) == pytest.approx(-0.375, abs=1e-9)
+    d = np.concatenate([np.random.default_rng(4).uniform(-0.99, 6.0, 400),
+                        [-0.9, 0.999999, 1.0, 1.000001, 4.0]])
+    np.testing.assert_allclose(fast(d), chain.xxz_ground_state_energy(d), rtol=0,
+                               atol=chain._E0_ERROR)
+    assert fast(d[:7].reshape(7, 1)).shape == (7, 1)
+    q = np.array([0.3, 2.0])
+    D = d[:5, None]
+    np.testing.assert_allclose(chain.first_moment(q, np.ones((5, 1)), D),
+                               -2 * (1 - np.cos(q)) * chain.xxz_ground_state_energy(D),
+                               rtol=1e-10)
