@@ -7,25 +7,14 @@ Run by hand from the repository root (not a test)::
     python benchmarks/run.py --profile spinon_continuum   # cProfile of one evidence run
 
 It prints a table and writes ``benchmarks/results.json`` (``--out`` to write elsewhere) with
-the machine, the package versions and the date.  Every ratio is measured within the same
-run, so that ratios stay meaningful on a noisy shared machine.  What is measured:
-
-1. kernel throughput: predictions of each family's model part (resolution and magnetic form
-   factor included) on a 3000-point single-crystal map (60 wavevectors × 50 energies), for a
-   batch of 32 parameter sets drawn from the family's prior; time per parameter set against
-   the 0.2 ms target;
-2. likelihood evaluations per second on the flagship case, per family, in batches of 100
-   (half an SMC population, as the tempered sampler calls it) and one set at a time (as a
-   nested sampler calls it);
-3. the evidence of each family on the flagship with the case's own sampler settings (the same
-   seeds as :func:`evidence1d.run`): wall time, likelihood evaluations, ln Z, its error and
-   the efficiency 1/(time × error²) (larger is better);
-4. the same for dynesty's static nested sampler with its defaults (Speagle 2020) on
-   ``Case.log_likelihood`` / ``Case.prior_transform``, its error being its own estimate
-   (``results.logzerr``), and the efficiency ratio ours/dynesty (goal ≥ 5);
-5. wall time and peak resident memory (``ru_maxrss``) of a full flagship run,
-   ``evidence1d.run(case, write=False, progress=False, workers=1)``, in a fresh process
-   (target 3 minutes, goal 60 s).
+the machine, the package versions and the date: (1) kernel throughput on a 3000-point
+single-crystal map, batch of 32; (2) flagship log-likelihood evaluations per second; (3) the
+evidence of each flagship family with the case's settings and :func:`evidence1d.run`'s seeds;
+(4) the same by dynesty's static nested sampler with its defaults on ``Case.log_likelihood``
+/ ``Case.prior_transform``, and the efficiency ratio 1/(time × error²) ours/dynesty; (5) wall
+time and peak memory of a full flagship run in a fresh process.  ``benchmarks/README.md``
+gives the details and the targets.  Every ratio is measured within one run, so that it stays
+meaningful on a noisy shared machine.
 
 References
 ----------
@@ -74,21 +63,12 @@ _VERSIONED = ("evidence1d", "numpy", "scipy", "emcee", "dynesty", "arviz", "peri
 # A single-crystal map along the chain: sample and resolution as in the flagship case.
 _MAP_CASE = """\
 title: kernel benchmark map (placeholder values)
-sample:
-  ion: Cu
-  charge: 2
-  spin: 0.5
-  g: {kind: normal, mean: 2.1, sd: 0.05}
-  spin_spacing: 3.1
-  lattice: {a: 7.4, b: 7.9, c: 6.2}
+sample: {ion: Cu, charge: 2, spin: 0.5, g: {kind: normal, mean: 2.1, sd: 0.05},
+         spin_spacing: 3.1, lattice: {a: 7.4, b: 7.9, c: 6.2}}
 datasets:
-  - name: map
-    kind: crystal_spectrum
-    file: map.csv
-    units: {energy: meV, wavevector: rlu, intensity: arb}
-    temperature: 1.5
-    resolution: {fwhm: [0.08, 0.02]}
-    background: linear
+  - {name: map, kind: crystal_spectrum, file: map.csv, temperature: 1.5,
+     units: {energy: meV, wavevector: rlu, intensity: arb},
+     resolution: {fwhm: [0.08, 0.02]}, background: linear}
 models: [spinon_continuum, gapped_spin_wave, paramagnon]
 """
 
@@ -507,7 +487,8 @@ def main(argv=None) -> dict:
     ours, theirs, ratios = [], [], []
     for f in ev_families:
         o = our_evidence(case, f, settings)
-        d = dynesty_evidence(case, f, seed=case.seed + FAMILIES.index(f), nlive=100 if quick else None)
+        d = dynesty_evidence(case, f, seed=case.seed + FAMILIES.index(f),
+                             nlive=100 if quick else None)
         ours.append(o)
         theirs.append(d)
         ratios.append({"family": f, "efficiency_ratio": o["efficiency"] / d["efficiency"],

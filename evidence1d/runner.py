@@ -92,6 +92,20 @@ def effective_settings(case, quick: bool = False) -> dict:
     return s
 
 
+class _RunLog:
+    """Plain-text log beside the outputs (``run.log``): stages, settings, results, times."""
+
+    def __init__(self, path: Path | None):
+        self.path = path
+
+    def __call__(self, message: str) -> None:
+        if self.path is None:
+            return
+        stamp = time.strftime("%Y-%m-%d %H:%M:%S")
+        with open(self.path, "a", encoding="utf-8") as fh:
+            fh.write(f"{stamp}  {message}\n")
+
+
 def _workers(workers, n_models: int) -> int:
     if workers is None:
         workers = int(os.environ.get("EVIDENCE1D_WORKERS", "0")) or (os.cpu_count() or 1)
@@ -102,6 +116,31 @@ def _model_seeds(seed: int, names):
     ss = np.random.SeedSequence(seed)
     children = ss.spawn(len(names))
     return {n: c for n, c in zip(names, children)}
+
+
+def _save_evidence(path: Path | None, ev, settings) -> None:
+    """Keep a finished evidence run (atomically) so that ``--resume`` need not redo it."""
+    if path is None:
+        return
+    import pickle
+    path.parent.mkdir(parents=True, exist_ok=True)
+    tmp = path.with_suffix(".tmp")
+    with open(tmp, "wb") as fh:
+        pickle.dump({"settings": dict(settings), "evidence": ev}, fh)
+    os.replace(tmp, path)
+
+
+def _load_evidence(path: Path | None, settings):
+    """The saved evidence run if it exists and was made with the same settings."""
+    if path is None or not path.is_file():
+        return None
+    import pickle
+    try:
+        with open(path, "rb") as fh:
+            saved = pickle.load(fh)
+    except Exception:  # a damaged file is recomputed, never trusted
+        return None
+    return saved["evidence"] if saved.get("settings") == dict(settings) else None
 
 
 def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, progress,
@@ -118,10 +157,16 @@ def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, pr
         progress = {"label": name, "position": position}
     ev_seed, post_seed, sd_seed, nu_seed = seedseq.spawn(4)
     sweeps = {"min_sweeps": settings["mcmc_steps"]} if settings["mcmc_steps"] else {}
-    ev = tempered_evidence(problem.log_likelihood, problem.prior,
-                           rng=np.random.default_rng(ev_seed),
-                           n_particles=settings["particles"], n_islands=settings["islands"],
-                           target_cess=settings["ess_fraction"], progress=progress, **sweeps)
+    ev_file = None if out is None else out / "chains" / f"{name}.evidence.pkl"
+    ev = _load_evidence(ev_file, settings) if resume else None
+    if ev is None:
+        ev = tempered_evidence(problem.log_likelihood, problem.prior,
+                               rng=np.random.default_rng(ev_seed),
+                               n_particles=settings["particles"],
+                               n_islands=settings["islands"],
+                               target_cess=settings["ess_fraction"], progress=progress,
+                               **sweeps)
+        _save_evidence(ev_file, ev, settings)
     ndim = len(problem.names)
     walkers = settings["walkers"] or max(32, 2 * ndim + 2)
     walkers += walkers % 2
@@ -225,6 +270,9 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
         out.mkdir(parents=True, exist_ok=True)
         (out / "settings.json").write_text(json.dumps({"seed": seed, "quick": quick,
                                                        "settings": settings}, indent=2))
+    log = _RunLog(out / "run.log" if write else None)
+    log(f"evidence1d run of {case.path} (seed {seed}, quick={quick}, resume={resume})")
+    log(f"settings: {json.dumps(settings)}; models: {', '.join(names)}")
     t0 = time.time()
     seeds = _model_seeds(seed, names)
     workers = _workers(workers, len(names))
@@ -240,6 +288,12 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
     else:
         results = {n: _run_model(case, n, settings, seeds[n], target, resume, progress)
                    for n in names}
+    for n, r in results.items():
+        log(f"{n}: ln Z = {r.evidence.log_z:.3f} ± {r.evidence.log_z_err:.3f} "
+            f"({r.evidence.n_evaluations} + {r.posterior.n_evaluations} evaluations, "
+            f"{r.run_time:.1f} s); diagnostics {'passed' if r.diagnostics.ok else 'FAILED'}")
+        for w in r.diagnostics.warnings:
+            log(f"{n}: warning: {w}")
     comparison = compare_models({n: (r.evidence.log_z, r.evidence.log_z_err,
                                      r.one_dimensional) for n, r in results.items()},
                                 prior_odds=case.prior_odds,
@@ -250,7 +304,9 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
     prov = provenance(case, seed=seed, start=t0, run_time=time.time() - t0, settings=settings)
     res = RunResults(models=results, comparison=comparison, reliable=reliable, out=out,
                      seed=seed, settings=settings, provenance=prov, case_path=case.path)
+    log(f"verdict: {comparison.verdict}")
     if write:
         from .report import write_report
         write_report(res, case, figures=figures)
+        log(f"report written to {out} ({time.time() - t0:.1f} s in all)")
     return res
