@@ -339,7 +339,11 @@ _RUN_CHILD = textwrap.dedent("""\
     print(json.dumps({{"wall_time": wall, "peak_rss_mib": peak / 1024.0,
                       "reliable": bool(res.reliable),
                       "log_z": {{n: r.evidence.log_z for n, r in res.models.items()}},
-                      "model_times": {{n: r.run_time for n, r in res.models.items()}}}}))
+                      "model_times": {{n: r.run_time for n, r in res.models.items()}},
+                      "diagnostics_ok": {{n: bool(r.diagnostics.ok)
+                                         for n, r in res.models.items()}},
+                      "diagnostics_warnings": {{n: list(r.diagnostics.warnings)[:2]
+                                               for n, r in res.models.items()}}}}))
 """)
 
 
@@ -355,8 +359,8 @@ def flagship_run(quick: bool = False) -> dict:
     -------
     dict
         ``wall_time`` (s), ``peak_rss_mib`` (peak resident set of the process, MiB),
-        ``reliable``, ln Z and run time per family, and the ratios to the 3-minute target
-        and the 60 s goal.
+        ``reliable``, ln Z, run time and diagnostics verdict (with the first warnings) per
+        family, and the ratios to the 3-minute target and the 60 s goal.
 
     References
     ----------
@@ -514,6 +518,9 @@ def main(argv=None) -> dict:
           f"{fr['wall_time']:.1f} s (/180 s target {fr['ratio_to_target']:.2f}, "
           f"/60 s goal {fr['ratio_to_goal']:.2f}), peak memory {fr['peak_rss_mib']:.0f} MiB, "
           f"reliable={fr['reliable']}")
+    for n, ok in fr["diagnostics_ok"].items():
+        if not ok:
+            print(f"   {n}: diagnostics failed: {fr['diagnostics_warnings'][n][0]}")
     record["machine"]["load_average_end"] = (list(os.getloadavg())
                                              if hasattr(os, "getloadavg") else None)
     record["benchmark_wall_time"] = time.perf_counter() - t_start

@@ -168,7 +168,7 @@ def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, pr
                                **sweeps)
         _save_evidence(ev_file, ev, settings)
     ndim = len(problem.names)
-    walkers = settings["walkers"] or max(32, 2 * ndim + 2)
+    walkers = settings["walkers"] or max(16, 4 * ndim)
     walkers += walkers % 2
     rng_post = np.random.default_rng(post_seed)
     pool = ev.posterior_samples

@@ -45,3 +45,18 @@ def test_case_study_outcome(name, tmp_path):
         col = samples[:, mr.full_names.index(pname)]
         lo, hi = np.percentile(col, [2.5, 97.5])
         assert lo <= truth <= hi, f"{pname}: truth {truth} outside [{lo:.4g}, {hi:.4g}]"
+
+
+@pytest.mark.parametrize("name", CASES)
+def test_check_prints_table_for_bundled_case(name, capsys):
+    from evidence1d.cli import main
+    assert main(["check", str(ROOT / name / "case.yaml")]) == 0
+    out = capsys.readouterr().out
+    assert "case is valid" in out and "spinon_continuum" in out
+
+
+@pytest.mark.parametrize("name", CASES)
+def test_bundled_data_are_marked_simulated(name):
+    case = evidence1d.load_case(ROOT / name / "case.yaml")
+    for ds in case.datasets:
+        assert "SIMULATED" in ds.path.read_text().splitlines()[0]
