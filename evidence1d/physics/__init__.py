@@ -8,11 +8,13 @@ import importlib
 
 __all__ = ["spinon_bounds", "spinon_gap", "spinon_spectrum", "xxz_thermodynamics",
            "magnetic_form_factor", "chain", "neutron", "chain_thermo", "magnon",
-           "paramagnon", "bose_thermo"]
+           "paramagnon", "bose_thermo", "chain_spectrum", "spin_wave_table"]
 
-_WHERE = {"spinon_bounds": "chain", "spinon_gap": "chain", "spinon_spectrum": "chain",
-          "xxz_thermodynamics": "chain_thermo", "magnetic_form_factor": "neutron"}
-_MODULES = {"chain", "neutron", "chain_thermo", "magnon", "paramagnon", "bose_thermo"}
+_WHERE = {"spinon_bounds": "chain", "spinon_gap": "chain",
+          "spinon_spectrum": "chain_spectrum", "xxz_thermodynamics": "chain_thermo",
+          "magnetic_form_factor": "neutron"}
+_MODULES = {"chain", "chain_spectrum", "neutron", "chain_thermo", "magnon", "paramagnon",
+            "bose_thermo", "spin_wave_table"}
 
 
 def __getattr__(name):

@@ -30,22 +30,16 @@ dominate at low temperature are resolved; the symmetries q_b ↔ q_a and Q → Q
 
 Fast path (``method="table"``, the default)
 -------------------------------------------
-In units of S J_0 the dispersion depends only on r = J_⊥/J and Δ, so C/R, S/R and ⟨n(n+1)⟩
-are functions of τ = k_B T / (S J_0), r and Δ for every S.  ``tables/spin_wave_thermo.npz``
-(built by ``scripts/build_spin_wave_table.py`` with a finer zone rule than the direct path)
-holds Y = ln F + g/τ, g = √(Δ² − 1), on a uniform grid in (ln τ, asinh(r/r_0),
-asinh(g/g_0)): the shift g/τ takes out the activated factor, the asinh coordinates are
-logarithmic away from and analytic through r = 0 and Δ = 1.  A tensor-product cubic B-spline
-(not-a-knot, C² in all three coordinates, so smooth for the sampler) interpolates it; below
-and above the τ range the spline continues linearly in ln τ (power laws).  The crossover T_x
-is solved on the same spline (bracketed Newton), T_N comes from the closed form of
-:func:`magnon.neel_temperature`; nothing loops over parameter sets.  Accuracy: the table
-agrees with the direct rule at n_grid = 48 to ~1.5e-4 (C, S) where that rule is converged;
-at k_B T ≲ 10⁻² S J_0 it is more accurate than the direct rule at n_grid = 24, whose product
-grid no longer resolves the energy minima there.  Sets outside the table (Δ > 3, J_⊥/J > 100,
-J ≤ 0) use the direct path.  Above τ = 50 (never needed by C, S or χ, which use the gas only
-below T_x and T_N) the linear continuation is good to ~1e-3.  Cost: C + χ at 50–100
-temperatures ~0.06 ms per parameter set against 3–5 ms for the direct rule
+C/R, S/R and ⟨n(n+1)⟩ are read from the shipped spline table of
+:mod:`evidence1d.physics.spin_wave_table` (functions of τ = k_B T / (S J_0), r = J_⊥/J and
+Δ for every S; format, interpolation and its accuracy are described there).  The crossover
+T_x is solved on the same spline (bracketed Newton), T_N comes from the closed form of
+:func:`magnon.neel_temperature`; nothing loops over parameter sets.  At
+k_B T ≲ 10⁻² S J_0 the table is more accurate than the direct rule at n_grid = 24, whose
+product grid no longer resolves the energy minima there.  Sets outside the table (Δ > 3,
+J_⊥/J > 100, J ≤ 0) use the direct path.  Above τ = 50 the table continues linearly in
+ln τ; C, S and χ never need it there (they use the gas only below T_x and T_N).  Cost:
+C + χ at 50–100 temperatures ~0.06 ms per parameter set against 3–5 ms for the direct rule
 (benchmarks/bench_spin_wave_thermo.py).
 
 Susceptibility
@@ -68,13 +62,12 @@ Heisenberg model).
 R. Kubo, Phys. Rev. 87, 568 (1952) (spin-wave theory of the antiferromagnet, longitudinal
 susceptibility from magnon-number fluctuations).
 H. J. Schulz, Phys. Rev. Lett. 77, 2790 (1996).
-C. de Boor, A Practical Guide to Splines, rev. ed. (Springer, 2001), Chs. IX, XVII (cubic
-B-splines, not-a-knot end condition, tensor products).
+W. H. Press et al., *Numerical Recipes*, 3rd ed. (CUP, 2007), Sect. 9.4 (bracketed Newton
+root of the crossover on the spline).
 """
 from __future__ import annotations
 
 import functools
-from pathlib import Path
 
 import numpy as np
 from scipy import special
@@ -82,6 +75,8 @@ from scipy import special
 from ..errors import InputError
 from ..units import K_B_MEV, R_GAS, curie_constant
 from . import magnon
+from .spin_wave_table import (  # noqa: F401  (_spline_matrix, _basis: re-exported)
+    _X_FLOOR, TABLE_PATH, _basis, _spline_matrix, log_zone_averages, spin_wave_table)
 
 __all__ = [
     "zone_nodes", "magnon_gas", "high_temperature_heat_capacity", "crossover_temperature",
@@ -95,11 +90,9 @@ N_GRID = 24
 #: default number of log-spaced energies the zone nodes are compressed onto (None: exact)
 N_BINS = 512
 _T_FLOOR = 1e-9        # K; below it a temperature is treated as this value
-_X_FLOOR = 1e-8        # smallest reduced energy ħω / k_B T used in the Bose sums
 _CHUNK = 32            # temperatures per vectorised block (bounds memory)
 #: ways to evaluate the magnon gas: shipped spline table (fast) or zone quadrature (reference)
 METHODS = ("table", "direct")
-TABLE_PATH = Path(__file__).with_name("tables") / "spin_wave_thermo.npz"
 
 
 @functools.lru_cache(maxsize=8)
@@ -218,141 +211,6 @@ def _check_method(method):
     if method not in METHODS:
         raise InputError(f"the 'method' parameter must be one of {', '.join(METHODS)}; "
                          f"got {method!r} instead")
-
-
-def log_zone_averages(eps, w, tau, gap):
-    """Logarithms of the Bose zone averages, shifted by the activation exponent gap/τ.
-
-    Parameters
-    ----------
-    eps : ndarray, shape (..., m)
-        Magnon energies in any unit (the same as ``tau`` and ``gap``), > 0.
-    w : ndarray, shape (..., m)
-        Weights of the energies (≥ 0, summing to 1).
-    tau : ndarray, shape (..., k)
-        k_B T in the same unit, > 0.
-    gap : float or ndarray broadcastable to (..., 1)
-        Shift energy, ≤ min(eps) (the spin-wave gap).
-
-    Returns
-    -------
-    y_c, y_s, y_l : ndarray, shape (..., k)
-        ln⟨x² eˣ/(eˣ − 1)²⟩ + gap/τ (C/R), ln⟨x/(eˣ − 1) − ln(1 − e⁻ˣ)⟩ + gap/τ (S/R) and
-        ln⟨n(n + 1)⟩ + gap/τ, x = eps/τ, computed in log space (no underflow).
-
-    References
-    ----------
-    R. M. White, Quantum Theory of Magnetism (2007), Ch. 6 (Bose gas of magnons).
-    """
-    x = np.maximum(eps[..., None, :] / tau[..., :, None], _X_FLOOR)
-    shift = (np.asarray(gap, float) / tau)[..., None]
-    lom1 = np.log(-np.expm1(-x))                              # ln(1 − e^{−x})
-    lw = np.log(np.where(w > 0, w, 1.0))[..., None, :] + np.where(w > 0, 0.0, -np.inf)[
-        ..., None, :]
-    base = lw - (x - shift)                                   # ln w − x + gap/τ ≤ ln w
-    xs = np.minimum(x, 35.0)
-    # x n − ln(1 − e^{−x}) = e^{−x} [x/(1 − e^{−x}) + eˣ (−ln(1 − e^{−x}))]
-    h = np.where(x < 35.0, np.exp(xs) * -np.log1p(-np.exp(-xs)), 1.0 + 0.5 * np.exp(-x))
-    y_c = special.logsumexp(base + 2.0 * np.log(x) - 2.0 * lom1, axis=-1)
-    y_s = special.logsumexp(base + np.log(x / -np.expm1(-x) + h), axis=-1)
-    y_l = special.logsumexp(base - 2.0 * lom1, axis=-1)
-    return y_c, y_s, y_l
-
-
-def _spline_matrix(n):
-    """(n + 2, n) map from values on n uniform knots to not-a-knot cubic B-spline coefficients."""
-    A = np.zeros((n + 2, n + 2))
-    for i in range(n):
-        A[i, i:i + 3] = (1.0 / 6.0, 4.0 / 6.0, 1.0 / 6.0)
-    A[n, :5] = A[n + 1, -5:] = (-1.0, 4.0, -6.0, 4.0, -1.0)   # third derivative continuous
-    return np.linalg.inv(A)[:, :n]
-
-
-def _basis(u, n):
-    """Interval index and cubic B-spline weights (value, d/du) at grid position u ∈ [0, n−1]."""
-    i = np.clip(np.floor(u).astype(int), 0, n - 2)
-    t = u - i
-    t2, t3, m = t * t, t * t * t, 1.0 - t
-    b = np.stack([m * m * m, 3 * t3 - 6 * t2 + 4, -3 * t3 + 3 * t2 + 3 * t + 1, t3], -1) / 6
-    db = np.stack([-m * m, 3 * t2 - 4 * t, -3 * t2 + 2 * t + 1, t2], -1) / 2
-    return i, b, db
-
-
-class _Table:
-    """Spline coefficients of the shipped magnon-gas table (see the module notes)."""
-
-    def __init__(self, path):
-        with np.load(path) as raw:
-            self.s, self.x, self.y = (raw[k].astype(float) for k in ("ln_tau", "x_r", "y_gap"))
-            self.r_0, self.g_0 = float(raw["r_0"]), float(raw["g_0"])
-            data = np.stack([raw[k].astype(float) for k in ("y_c", "y_s", "y_l")], -1)
-        for ax, grid in enumerate((self.x, self.y, self.s)):     # data: (n_r, n_g, n_s, 3)
-            data = np.moveaxis(np.tensordot(_spline_matrix(grid.size), data, (1, ax)), 0, ax)
-        self.coef = [np.ascontiguousarray(data[..., k]) for k in range(3)]   # C, S, n(n+1)
-        self.r_max = self.r_0 * np.sinh(self.x[-1])
-        self.delta_max = np.sqrt(1.0 + (self.g_0 * np.sinh(self.y[-1])) ** 2)
-
-    def columns(self, J, J_perp, delta, spin, funcs=(0, 1, 2)):
-        """Spline columns along ln τ per set (of ``funcs``: 0 C, 1 S, 2 ⟨n(n+1)⟩), energy
-        unit S J_0, gap g and the in-table mask."""
-        J, Jp, d = np.broadcast_arrays(*(np.asarray(a, float).reshape(-1, 1)
-                                         for a in (J, J_perp, delta)))
-        with np.errstate(divide="ignore", invalid="ignore"):
-            r = np.where(J > 0, Jp / np.where(J > 0, J, 1.0), np.inf)
-        inside = ((J > 0) & (Jp >= 0) & (r <= self.r_max) & (d >= 1.0)
-                  & (d <= self.delta_max))[:, 0]
-        g = np.sqrt(np.maximum(d * d - 1.0, 0.0))
-        pos = []
-        for v, grid in ((np.arcsinh(r / self.r_0), self.x), (np.arcsinh(g / self.g_0), self.y)):
-            u = np.where(inside[:, None], v, 0.0)[:, 0] / (grid[1] - grid[0])
-            pos.append(_basis(np.clip(u, 0.0, grid.size - 1.0), grid.size)[:2])
-        (ir, br), (ig, bg) = pos
-        a4 = np.arange(4)
-        idx = ((ir[:, None] + a4)[:, :, None], (ig[:, None] + a4)[:, None, :])
-        w = (br[:, :, None] * bg[:, None, :]).reshape(-1, 1, 16)
-        cols = np.stack([(w @ self.coef[k][idx].reshape(w.shape[0], 16, -1))[:, 0]
-                         for k in funcs], -1)
-        return cols, spin * (2.0 * J + 4.0 * Jp), g, inside
-
-    def evaluate(self, cols, ln_tau):
-        """Y (n_sets, n, 3) and dY/d ln τ at ln τ (n_sets, n); linear beyond the grid."""
-        h = self.s[1] - self.s[0]
-        sc = np.clip(ln_tau, self.s[0], self.s[-1])
-        i, b, db = _basis((sc - self.s[0]) / h, self.s.size)
-        c = cols[np.arange(cols.shape[0])[:, None, None], i[..., None] + np.arange(4)]
-        val = (b[..., None, :] @ c)[..., 0, :]
-        der = (db[..., None, :] @ c)[..., 0, :] / h
-        return val + der * (ln_tau - sc)[..., None], der
-
-
-@functools.lru_cache(maxsize=2)
-def spin_wave_table(path=None):
-    """The shipped magnon-gas spline table, loaded once.
-
-    Parameters
-    ----------
-    path : str or Path, optional
-        Table file; default ``TABLE_PATH`` (``tables/spin_wave_thermo.npz``).
-
-    Returns
-    -------
-    object
-        Holds the grids, the spline coefficients and the domain (``r_max``, ``delta_max``).
-
-    Raises
-    ------
-    InputError
-        The table file is missing (regenerate it with scripts/build_spin_wave_table.py).
-
-    References
-    ----------
-    C. de Boor, A Practical Guide to Splines (2001), Ch. XVII (tensor-product splines).
-    """
-    path = Path(path) if path is not None else TABLE_PATH
-    if not path.exists():
-        raise InputError(f"magnon-gas table {path} not found; run "
-                         "scripts/build_spin_wave_table.py or use method='direct'")
-    return _Table(path)
 
 
 def _gas_from_table(T, J, J_perp, delta, spin, tab=None, cols=None):

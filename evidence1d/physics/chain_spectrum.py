@@ -1,0 +1,272 @@
+"""Resolution-convolved two-spinon spectrum of the S = 1/2 XXZ chain with detailed balance.
+
+The T = 0 Müller line shape of :mod:`evidence1d.physics.chain`,
+S_0(q, ω) = A(q) Θ(ω − ω_L) Θ(ω_T − ω) / √(ω² − ω_L²), is continued to energy gain by
+detailed balance, S_T(q, −ω) = e^{−ω/k_BT} S_0(q, ω), and convolved with a Gaussian
+resolution of width σ at each point.  The convolution is done in the cumulative-weight
+variable W = A arccosh(ω/ω_L), ω = ω_L cosh t, in which the inverse-square-root edge
+singularity becomes a constant density, so neither the edge nor the step at ω_T rings or
+loses weight, whatever the point spacing:
+
+* windows reaching the singular edge: Gauss–Legendre in t over panels of the ±6σ window
+  (or W tabulated over the window and convolved by
+  :func:`evidence1d.physics.neutron.convolve_cumulative`);
+* windows clear of the edge by 6σ (analytic density): a Gauss–Hermite rule, cut at ω_T
+  through the Hermite expansion of the density when the step lies within the window.
+
+Conventions (H = J Σ [S^x S^x + S^y S^y + Δ S^z S^z], J > 0, chain phase q in radians,
+energies in meV, batched (n_sets, 1) parameters against (n,) points) are those of
+:mod:`evidence1d.physics.chain`.
+
+References
+----------
+G. Müller, H. Thomas, H. Beck & J. C. Bonner, Phys. Rev. B 24, 1429 (1981).
+S. W. Lovesey, *Theory of Neutron Scattering from Condensed Matter* (Clarendon, 1984)
+(detailed balance).
+M. Abramowitz & I. A. Stegun, *Handbook of Mathematical Functions* (1964), 22.2.15,
+22.8.8, 25.4.29, 25.4.46 (Hermite polynomials, Gauss–Legendre and Gauss–Hermite rules).
+"""
+from __future__ import annotations
+
+import functools
+import math
+
+import numpy as np
+from scipy import special
+
+from ..errors import InputError
+from ..units import K_B_MEV
+from .chain import _muller, _reduced_phase
+from .neutron import convolve_cumulative, gauss_hermite
+
+__all__ = ["spinon_spectrum"]
+
+_CHUNK = 1024                       # pairs per block (temporaries stay in cache)
+_N_SIGMA = 6.0                      # resolution window ±6σ (tail weight 2e-9)
+_N_HERMITE = (4, 8)                 # nodes of the smooth rule: full Gaussian, cut at ω_T
+
+
+@functools.lru_cache(maxsize=None)
+def _legendre_rule(n):
+    """Gauss–Legendre nodes and weights on [−1, 1], computed once per node count."""
+    x, w = np.polynomial.legendre.leggauss(n)
+    x.setflags(write=False)
+    w.setflags(write=False)
+    return x, w
+
+
+@functools.lru_cache(maxsize=None)
+def _hermite_rule(n):
+    """Gauss–Hermite nodes z_j, weights w_j (unit normal weight) and B_jk = w_j He_k(z_j)/k!.
+
+    a_k = Σ_j f(z_j) B_jk are the coefficients of the degree-(n − 1) interpolant
+    f ≈ Σ_k a_k He_k (discrete orthogonality of He_k under the n-node rule, exact for
+    degree < n; Abramowitz & Stegun 22.2.15, 25.4.46).
+    """
+    z, w = gauss_hermite(n)
+    he = np.polynomial.hermite_e.hermevander(z, n - 1)
+    B = w[:, None] * he / np.cumprod(np.r_[1.0, np.arange(1.0, n)])
+    for a in (z, w, B):
+        a.setflags(write=False)
+    return z, w, B
+
+
+def _hermite_block(c, sig, wl, b, n):
+    """∫_{−∞}^{b} φ(z) / √((c + σz)² − ω_L²) dz with the n-node rule of :func:`_hermite_rule`.
+
+    ``b`` None: the full Gaussian (plain Gauss–Hermite).  Otherwise the cut rule
+    Φ(b) a_0 − φ(b) Σ_{k≥1} a_k He_{k−1}(b), from ∫_{−∞}^{b} φ He_k = −φ(b) He_{k−1}(b)
+    (He_k' = k He_{k−1}; Abramowitz & Stegun 22.8.8).  Layout (node, pair).
+    """
+    z, w, B = _hermite_rule(n)
+    f = z[:, None] * sig                                     # (n, m): ω − c at the nodes
+    f += c
+    f = np.multiply(f - wl, f + wl, out=f)                   # ω² − ω_L²
+    f = np.reciprocal(np.sqrt(f, out=f), out=f)
+    if b is None:
+        return w @ f
+    a = B.T @ f                                              # Hermite coefficients a_k
+    he_prev, he = np.ones_like(b), b
+    tail = a[1] + a[2] * b                                   # Σ_{k≥1} a_k He_{k−1}(b)
+    for k in range(2, n - 1):                                # He_k(b) by recurrence
+        he_prev, he = he, b * he - (k - 1) * he_prev
+        tail += a[k + 1] * he
+    return (special.ndtr(b) * a[0]
+            - np.exp(-0.5 * b * b) * (tail / math.sqrt(2.0 * math.pi)))
+
+
+def _smooth_side(c, sig, wl, b, A):
+    """A ∫_{−∞}^{b} φ(z) / √((c + σz)² − ω_L²) dz for pairs with c − 6σ ≥ ω_L; flat arrays.
+
+    The density is analytic within 6σ of c, so a Gauss–Hermite rule suffices
+    (:func:`_hermite_block`): four nodes for b ≥ 6 (window clear of ω_T), else the cut
+    rule with eight nodes.  Measured against adaptive quadrature: < 2.5e-5 of the local
+    density at distance 6σ from ω_L, < 5e-6 beyond 9σ.
+    """
+    out = np.empty(c.size)
+    full = b >= _N_SIGMA
+    for n, sel in ((_N_HERMITE[0], full), (_N_HERMITE[1], ~full)):
+        ix = np.flatnonzero(sel)
+        for start in range(0, ix.size, _CHUNK):          # blocks that stay in cache
+            j = ix[start:start + _CHUNK]
+            out[j] = _hermite_block(c[j], sig[j], wl[j], None if n == _N_HERMITE[0]
+                                    else b[j], n)
+    return A * out
+
+
+def _window_t(wl, lo, hi):
+    return (np.arccosh(np.maximum(lo / wl, 1.0)), np.arccosh(np.maximum(hi / wl, 1.0)))
+
+
+def _side(Es, sig, wl, top, A, kT, boltz, method, n_nodes, n_panels):
+    """Convolve A/√(ω²−ω_L²) [× e^{−ω/kT}] with G_σ(Es − ω), flat arrays of active pairs."""
+    lo = np.maximum(wl, Es - _N_SIGMA * sig)
+    hi = np.minimum(top, Es + _N_SIGMA * sig)
+    if method == "cumulative":
+        ta, tb = _window_t(wl, lo, hi)
+        t = ta[:, None] + (tb - ta)[:, None] * np.linspace(0.0, 1.0, n_nodes)
+        om = wl[:, None] * np.cosh(t)
+        W = A[:, None] * t
+        if boltz:
+            dW = np.diff(W, axis=-1) * np.exp(-0.5 * (om[:, 1:] + om[:, :-1]) / kT[:, None])
+            W = np.concatenate([np.zeros_like(W[:, :1]), np.cumsum(dW, axis=-1)], axis=-1)
+        return convolve_cumulative(Es, sig, om, W)
+    x, w = _legendre_rule(n_nodes)
+    frac = np.linspace(0.0, 1.0, n_panels + 1)[:, None]
+    xw = x[:, None]
+    val = np.empty(Es.size)
+    for start in range(0, Es.size, _CHUNK):      # blocks that stay in cache
+        sl = slice(start, start + _CHUNK)        # layout (panel, node, pair)
+        wl_c, lo_c = wl[sl], lo[sl]
+        tb = np.arccosh(np.maximum((lo_c + (hi[sl] - lo_c) * frac) / wl_c, 1.0))  # (P+1, c)
+        half = 0.5 * (tb[1:] - tb[:-1])
+        t = (0.5 * (tb[1:] + tb[:-1]))[:, None, :] + half[:, None, :] * xw  # (P, m, c)
+        om = np.cosh(t, out=t)
+        om *= wl_c
+        z = Es[sl] - om
+        z /= sig[sl]
+        z *= z
+        z *= -0.5
+        if boltz:
+            om /= kT[sl]
+            z -= om
+        np.exp(z, out=z)
+        val[sl] = np.einsum("m,pmc,pc->c", w, z, half)
+    return A * val / (math.sqrt(2.0 * math.pi) * sig)
+
+
+def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth):
+    """:func:`spinon_spectrum` on checked arrays; ``smooth`` enables the Gauss–Hermite path.
+
+    Pairs (parameter set, point) whose resolution window on either side of the singular
+    edge is clear of it (c − 6σ ≥ ω_L) take :func:`_smooth_side`, the others :func:`_side`;
+    with ``smooth=False`` every pair takes :func:`_side` (the reference path).  On the gain
+    side G_σ(Es − ω) e^{−ω/kT} = e^{−Es/kT + σ²/2k²T²} G_σ(c − ω), c = Es − σ²/kT.
+    All work is on flat arrays of the (parameter set, point) pairs.
+    """
+    qr = _reduced_phase(q)
+    if qr.ndim == 1 and qr.size > 1:    # maps repeat each wavevector: edges once per q
+        q_unique, inverse = np.unique(qr, return_inverse=True)
+        wl, top, A, _ = (np.take(a, inverse, axis=-1) for a in _muller(q_unique, J, delta))
+    else:
+        wl, top, A, _ = _muller(qr, J, delta)
+    shape = np.broadcast_shapes(wl.shape, E.shape, sigma.shape)
+    wl, top, A, Ef, sf = (np.ascontiguousarray(np.broadcast_to(a, shape)).ravel()
+                          for a in (wl, top, A, E, sigma))
+    kT = K_B_MEV * T
+    valid = A > 0
+    out = np.zeros(Ef.size)
+    if not valid.any():
+        return out.reshape(shape)
+    six = _N_SIGMA * sf
+    sides = [(Ef, False)]
+    if kT > 0 and np.max(six - Ef) > np.min(wl[valid]):    # some energy-gain pair is live
+        sides.append((-Ef, True))
+    for Es, boltz in sides:
+        lo = Es - six
+        active = (top > lo) & (Es + six > wl) & valid
+        if boltz:   # skip pairs whose Boltzmann factor underflows
+            active &= np.maximum(wl, lo) < kT * 745.0
+        if smooth:
+            c = Es - sf * sf / kT if boltz else Es
+            c_lo = c - six if boltz else lo
+            easy = (c_lo >= wl) & (top > c_lo) & valid
+            ix = np.flatnonzero(easy)
+            if ix.size:
+                cs, ss = c[ix], sf[ix]
+                val = _smooth_side(cs, ss, wl[ix], (top[ix] - cs) / ss, A[ix])
+                if boltz:
+                    val *= np.exp(-cs / kT - 0.5 * (ss / kT) ** 2)
+                out[ix] += val
+            active &= ~easy
+        ix = np.flatnonzero(active)
+        if ix.size == 0:
+            continue
+        kTa = np.full(ix.size, kT if kT > 0 else 1.0)
+        out[ix] += _side(Es[ix], sf[ix], wl[ix], top[ix], A[ix], kTa, boltz, method,
+                         int(n_nodes), int(n_panels))
+    return out.reshape(shape)
+
+
+def spinon_spectrum(q, E, sigma, T, J, delta, *, method="quadrature", n_nodes=None,
+                    n_panels=3):
+    """Resolution-convolved two-spinon S(q, E) per spin with detailed balance.
+
+    S_T(q, ω) = S_0(q, ω) for ω > 0 and S_T(q, −ω) = e^{−ω/k_BT} S_0(q, ω), with S_0 the
+    T = 0 Müller shape (:func:`evidence1d.physics.chain.muller_density`); the two-sided spectrum is convolved with
+    the Gaussian resolution of width σ at each point exactly in the cumulative-weight
+    variable W = A arccosh(ω/ω_L) (so the edge singularity and the step at ω_T are handled
+    with no ringing and no lost weight, whatever the point spacing).
+
+    Parameters
+    ----------
+    q : array_like, shape (n,)
+        Chain phase in radians.
+    E : array_like, shape (n,)
+        Energy transfer in meV (positive: neutron energy loss).
+    sigma : array_like, shape (n,)
+        Gaussian resolution standard deviation in meV (> 0).
+    T : float
+        Temperature in K (≥ 0; T = 0 gives no energy-gain side).
+    J : array_like, shape (n_sets, 1)
+        Exchange in meV, H = J Σ [SxSx + SySy + Δ SzSz], J > 0.
+    delta : array_like, shape (n_sets, 1)
+        Anisotropy Δ > −1.
+    method : {'quadrature', 'cumulative'}, optional
+        'quadrature' (default, fastest): points whose ±6σ window reaches the singular
+        edge ω_L take Gauss–Legendre in W over ``n_panels`` panels of the window
+        (``n_nodes`` = 6 per panel; error ~2e-4 of the peak of S(q, ·), at most 5e-4
+        measured over the default priors); points clear of ω_L by 6σ take a
+        Gauss–Hermite rule (4 nodes, or 8 with the step at ω_T; error < 2.5e-5 of the
+        local value).  'cumulative': W tabulated on ``n_nodes`` = 24 nodes
+        over the window (error ~0.3 %) and convolved by
+        :func:`evidence1d.physics.neutron.convolve_cumulative` (piecewise-linear W, exact
+        erf integrals) at every point.
+    n_nodes, n_panels : int, optional
+        Accuracy settings (see ``method``).
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        S(q, E) in 1/meV per spin, three spin components summed, no form factor.
+
+    References
+    ----------
+    Müller et al., Phys. Rev. B 24, 1429 (1981); detailed balance, Lovesey (1984);
+    Gauss–Legendre and Gauss–Hermite quadrature, Abramowitz & Stegun 25.4.29, 25.4.46.
+    """
+    if method not in ("quadrature", "cumulative"):
+        raise InputError(f"the 'method' parameter of spinon_spectrum must be 'quadrature' "
+                         f"or 'cumulative'; got {method!r} instead")
+    if n_nodes is None:
+        n_nodes = 6 if method == "quadrature" else 24
+    q = np.asarray(q, dtype=float)
+    E = np.asarray(E, dtype=float)
+    sigma = np.asarray(sigma, dtype=float)
+    if np.any(~(sigma > 0)):
+        raise InputError("the resolution sigma must be positive (meV)")
+    T = float(T)
+    if not (T >= 0) or not math.isfinite(T):
+        raise InputError(f"the temperature must be finite and >= 0 K; got {T!r}")
+    return _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels,
+                     smooth=(method == "quadrature"))
