@@ -191,10 +191,14 @@ class JointProblem:
         theta, _ = self._as_batch(theta)
         if not self.marginalised:
             return np.zeros((theta.shape[0], 0))
-        p = self.prior.expand(theta)
-        with np.errstate(all="ignore"):
-            d = self._draw(p, rng)
-        return np.column_stack([d[nm][:, 0] for nm in self.marginalised])
+        out = np.empty((theta.shape[0], len(self.marginalised)))
+        for start in range(0, theta.shape[0], self.chunk):      # bounded memory
+            p = self.prior.expand(theta[start:start + self.chunk])
+            with np.errstate(all="ignore"):
+                d = self._draw(p, rng)
+            out[start:start + self.chunk] = np.column_stack([d[nm][:, 0]
+                                                             for nm in self.marginalised])
+        return out
 
     def full_theta(self, theta, rng) -> np.ndarray:
         """Sampled parameters plus drawn marginalised nuisances, columns :attr:`full_names`."""
@@ -344,8 +348,9 @@ class LinearBlock:
     def conditional_mean(self, p) -> dict:
         """Conditional-posterior means {name: (k, 1)}."""
         r, d = self._whitened(p)
-        A = np.einsum("kni,knj->kij", d, d) + np.diag(1.0 / self.tau ** 2)
-        b = np.einsum("kni,kn->ki", d, r)
+        dt = np.swapaxes(d, 1, 2)
+        A = dt @ d + np.diag(1.0 / self.tau ** 2)
+        b = (dt @ r[..., None])[..., 0]
         a = self.mu + np.linalg.solve(A, b[..., None])[..., 0]
         return {nm: a[:, j:j + 1] for j, nm in enumerate(self.names)}
 

@@ -29,10 +29,11 @@ __all__ = ["marginal_loglike", "conditional_draw", "gaussian_moments"]
 
 def _system(resid_w, design_w, tau):
     """A (k,p,p) and b (k,p) from whitened residuals (k,n) and design (k,n,p)."""
-    A = np.einsum("kni,knj->kij", design_w, design_w)
+    dt = np.swapaxes(design_w, 1, 2)
+    A = dt @ design_w                                   # batched matmul: faster than einsum
     idx = np.arange(tau.size)
     A[:, idx, idx] += 1.0 / tau ** 2
-    b = np.einsum("kni,kn->ki", design_w, resid_w)
+    b = (dt @ resid_w[..., None])[..., 0]
     return A, b
 
 
