@@ -38,7 +38,6 @@ import tempfile
 import textwrap
 import time
 import warnings
-from importlib import metadata
 from pathlib import Path
 
 import numpy as np
@@ -95,12 +94,9 @@ def machine_info() -> dict:
                 break
     except OSError:
         pass
-    versions = {}
-    for p in _VERSIONED:
-        try:
-            versions[p] = metadata.version(p)
-        except metadata.PackageNotFoundError:
-            versions[p] = None
+    from evidence1d.provenance import package_versions
+    versions = package_versions(_VERSIONED)
+    versions.pop("python", None)
     load = list(os.getloadavg()) if hasattr(os, "getloadavg") else None
     return {"date": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
             "platform": platform.platform(), "cpu": cpu, "cores": os.cpu_count(),

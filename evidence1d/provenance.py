@@ -6,7 +6,7 @@ import hashlib
 import platform
 from importlib import metadata
 
-__all__ = ["provenance", "file_hash"]
+__all__ = ["provenance", "file_hash", "package_versions"]
 
 _PACKAGES = ("evidence1d", "numpy", "scipy", "emcee", "arviz", "corner", "matplotlib",
              "pyyaml", "h5py", "periodictable", "tqdm")
@@ -19,6 +19,18 @@ def file_hash(path) -> str:
         for chunk in iter(lambda: fh.read(1 << 20), b""):
             h.update(chunk)
     return h.hexdigest()
+
+
+def package_versions(packages=_PACKAGES) -> dict:
+    """Installed versions of ``packages`` (None where absent) and of Python."""
+    versions = {}
+    for p in packages:
+        try:
+            versions[p] = metadata.version(p)
+        except metadata.PackageNotFoundError:
+            versions[p] = None
+    versions["python"] = platform.python_version()
+    return versions
 
 
 def provenance(case, *, seed: int, start: float, run_time: float, settings: dict) -> dict:
@@ -42,13 +54,7 @@ def provenance(case, *, seed: int, start: float, run_time: float, settings: dict
         ``case_sha256``, ``data_sha256`` per data file, ``start`` (ISO 8601, UTC),
         ``run_time_s``, ``settings``.
     """
-    versions = {}
-    for p in _PACKAGES:
-        try:
-            versions[p] = metadata.version(p)
-        except metadata.PackageNotFoundError:
-            versions[p] = None
-    versions["python"] = platform.python_version()
+    versions = package_versions()
     return {
         "versions": versions,
         "seed": int(seed),
