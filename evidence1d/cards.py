@@ -11,7 +11,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from .errors import InputError, closest_key
-from .schema import Field, Spec, as_bool, as_str, check_mapping, load_yaml
+from .schema import Field, Spec, as_bool, as_float, as_str, check_mapping, load_yaml
 
 __all__ = ["ModelCard", "load_card", "bundled_cards", "card_path", "CARD_DIRS"]
 
@@ -37,7 +37,7 @@ _PARAM_SPEC = Spec({
 
 _NESTED_SPEC = Spec({
     "parameter": Field(as_str, required=True, help="parameter that vanishes in the 1D limit"),
-    "value": Field(lambda v, w: float(v), required=True, help="its value in the 1D limit"),
+    "value": Field(as_float, required=True, help="its value in the 1D limit"),
 }, what="nested_1d_limit")
 
 _CARD_SPEC = Spec({

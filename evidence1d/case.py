@@ -229,6 +229,21 @@ def _resolve(base: Path, p: str) -> Path:
     return q if q.is_absolute() else (base / q)
 
 
+def _check_resolution(ds, doc, where) -> None:
+    """The resolution FWHM polynomial must be positive at every energy of the dataset
+    (and at the elastic line, E = 0, when one is fitted)."""
+    import numpy as np
+    E = np.asarray(ds.x["energy"], dtype=float)
+    if ds.options.get("elastic"):
+        E = np.append(E, 0.0)
+    fwhm = np.polynomial.polynomial.polyval(E, ds.options["resolution"]["fwhm"])
+    bad = np.flatnonzero(~(fwhm > 0))
+    if bad.size:
+        raise doc.error(f"the resolution FWHM c0 + c1 E + ... is {fwhm[bad[0]]:g} meV at "
+                        f"E = {E[bad[0]]:g} meV; expected a width > 0 over the dataset's "
+                        "energies", f"{where}.resolution.fwhm")
+
+
 def load_case(path) -> Case:
     """Read and validate a case file.
 
@@ -303,6 +318,8 @@ def load_case(path) -> Case:
             if exc.file is None:
                 raise doc.error(exc.message, exc.key or where) from None
             raise
+        if b["kind"] in SPECTRUM_KINDS:
+            _check_resolution(ds, doc, where)
         for pk, spec in (b["priors"] or {}).items():
             ds.options["priors"][pk] = prior(spec, f"{where}.priors.{pk}")
         datasets.append(ds)
@@ -351,7 +368,10 @@ def load_case(path) -> Case:
             if k not in models:
                 raise doc.error(f"prior_odds names '{k}', which is not a model of this case; "
                                 f"{closest_key(str(k), models)}", f"prior_odds.{k}")
-            as_positive_float(v, f"prior_odds.{k}")
+            try:
+                as_positive_float(v, f"prior_odds.{k}")
+            except InputError as exc:
+                raise doc.error(exc.message, f"prior_odds.{k}") from None
     output = _resolve(base, top["output"]) if top["output"] else base / "results"
     return Case(path=doc.path, title=top["title"] or doc.path.stem, sample=sample,
                 datasets=datasets, models=models, extras=extras, sampler=sampler,

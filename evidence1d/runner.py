@@ -123,11 +123,17 @@ def _save_evidence(path: Path | None, ev, settings) -> None:
     if path is None:
         return
     import pickle
-    path.parent.mkdir(parents=True, exist_ok=True)
-    tmp = path.with_suffix(".tmp")
-    with open(tmp, "wb") as fh:
-        pickle.dump({"settings": dict(settings), "evidence": ev}, fh)
-    os.replace(tmp, path)
+
+    from .report.store import atomic_write
+    atomic_write(path, pickle.dumps({"settings": dict(settings), "evidence": ev}))
+
+
+def _remove_stale_temporaries(out: Path) -> None:
+    """Delete the temporary files of atomic writes that a killed run left behind
+    (``.<name>.<random>.tmp``, see :func:`evidence1d.report.store.atomic_write`)."""
+    for p in out.rglob(".*.tmp"):
+        if p.is_file():
+            p.unlink(missing_ok=True)
 
 
 def _load_evidence(path: Path | None, settings):
@@ -211,6 +217,35 @@ def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, pr
                        nuisance_names=list(problem.marginalised), nuisance_samples=nuis)
 
 
+def _ignore_interrupts() -> None:
+    """Worker initialiser: Ctrl-C reaches the whole process group; only the parent acts on
+    it (it stops the workers), so the workers print no tracebacks of their own."""
+    import signal
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+
+def _run_in_pool(workers: int, jobs: list) -> list:
+    """``_run_model(*job)`` for every job over a process pool, in order.
+
+    On any exception in the parent (a Ctrl-C included) the workers are stopped at once;
+    finished evidences and the chain checkpoints already written stay on disk for
+    ``--resume``.
+    """
+    import multiprocessing as mp
+    ctx = mp.get_context("spawn" if os.name == "nt" else "fork")
+    pool = ctx.Pool(workers, initializer=_ignore_interrupts)
+    try:
+        pending = [pool.apply_async(_run_model, job) for job in jobs]
+        results = [p.get() for p in pending]
+        pool.close()
+    except BaseException:
+        pool.terminate()
+        raise
+    finally:
+        pool.join()
+    return results
+
+
 def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume: bool = False,
         overwrite: bool = False, figures: bool = True, models=None, progress: bool = True,
         write: bool = True, workers: int | None = None) -> RunResults:
@@ -260,31 +295,34 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
     for n in names:
         case.problem(n)
     settings = effective_settings(case, quick)
+    replaced = False
     if write:
         if out.exists() and any(out.iterdir()) and not (overwrite or resume):
             raise InputError(f"output folder {out} exists; use --overwrite to replace it or "
                              "--resume to continue it")
-        if overwrite and out.exists() and not resume:
+        replaced = overwrite and out.exists() and not resume
+        if replaced:
             import shutil
             shutil.rmtree(out)
         out.mkdir(parents=True, exist_ok=True)
-        (out / "settings.json").write_text(json.dumps({"seed": seed, "quick": quick,
-                                                       "settings": settings}, indent=2))
+        if resume:
+            _remove_stale_temporaries(out)
+        from .report.store import atomic_write
+        atomic_write(out / "settings.json", json.dumps({"seed": seed, "quick": quick,
+                                                        "settings": settings}, indent=2))
     log = _RunLog(out / "run.log" if write else None)
     log(f"evidence1d run of {case.path} (seed {seed}, quick={quick}, resume={resume})")
+    if replaced:
+        log(f"replaced the existing output folder {out} (--overwrite)")
     log(f"settings: {json.dumps(settings)}; models: {', '.join(names)}")
     t0 = time.time()
     seeds = _model_seeds(seed, names)
     workers = _workers(workers, len(names))
     target = out if write else None
     if workers > 1:
-        import concurrent.futures as cf
-        import multiprocessing as mp
-        ctx = mp.get_context("spawn" if os.name == "nt" else "fork")
-        with cf.ProcessPoolExecutor(max_workers=workers, mp_context=ctx) as pool:
-            futures = {n: pool.submit(_run_model, case, n, settings, seeds[n], target,
-                                      resume, progress, i) for i, n in enumerate(names)}
-            results = {n: futures[n].result() for n in names}
+        results = _run_in_pool(workers, [(case, n, settings, seeds[n], target, resume,
+                                          progress, i) for i, n in enumerate(names)])
+        results = dict(zip(names, results))
     else:
         results = {n: _run_model(case, n, settings, seeds[n], target, resume, progress)
                    for n in names}

@@ -249,17 +249,30 @@ def _write_block(backend, coords, log_prob, accepted_delta, random_state):
 
 def _open_checkpoint(path, resume, names, n_walkers, m):
     backend = emcee.backends.HDFBackend(str(path), name=_GROUP)
-    if resume and os.path.exists(path) and backend.initialized:
-        with backend.open() as f:
-            g = f[_GROUP]
-            stored = tuple(s.decode() if isinstance(s, bytes) else str(s)
-                           for s in g.attrs.get("parameter_names", ()))
+    stored, iteration = None, 0
+    if resume and os.path.exists(path):
+        try:
+            if backend.initialized:
+                with backend.open() as f:
+                    g = f[_GROUP]
+                    stored = tuple(s.decode() if isinstance(s, bytes) else str(s)
+                                   for s in g.attrs.get("parameter_names", ()))
+                iteration = int(backend.iteration)
+        except (OSError, KeyError, ValueError):
+            # a file damaged by a kill in mid-write holds no usable step: start afresh
+            os.remove(path)
+            stored = None
+        if stored is not None and not stored and iteration == 0:
+            stored = None   # killed between creating the file and naming its parameters
+    if stored is not None:
         if backend.shape != (n_walkers, m) or stored != tuple(names):
             raise InputError(f"the checkpoint holds {backend.shape[0]} walkers over "
                              f"({', '.join(stored)}), not {n_walkers} over "
                              f"({', '.join(names)}); start afresh without resume",
                              file=path)
-        return backend, int(backend.iteration)
+        return backend, iteration
+    if os.path.exists(path):
+        os.remove(path)     # a fresh file: the HDF5 library may refuse to reopen a damaged one
     backend.reset(n_walkers, m)
     with backend.open("a") as f:
         f[_GROUP].attrs["parameter_names"] = np.array(names, dtype="S")
@@ -339,6 +352,9 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
         backend, start = _open_checkpoint(checkpoint, resume, prior.free_names, n_walkers, m)
     sampler = emcee.EnsembleSampler(n_walkers, m, target, vectorize=True,
                                     moves=moves if moves is not None else default_moves())
+    # call the target directly: emcee's wrapper prints a traceback of every exception it
+    # sees (a Ctrl-C included) before re-raising it
+    sampler.log_prob_fn = target
     if start > 0:
         rs = backend.random_state
         last = backend.get_last_sample()

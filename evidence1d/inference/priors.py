@@ -464,7 +464,7 @@ class JointPrior:
         out = np.zeros(theta.shape[0])
         for j, prior in enumerate(self.free_priors):
             out += prior.log_pdf(theta[:, j])
-        return out
+        return np.where(np.isnan(out), -np.inf, out)        # NaN input: outside the support
 
     def transform(self, u):
         """Map unit-cube points (k, m_free) to parameter values (k, m_free)."""
