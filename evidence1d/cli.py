@@ -105,6 +105,10 @@ def _cmd_run(args):
     from .runner import run
     case = load_case(args.case)
     models = args.models.split(",") if args.models else None
+    target = Path(args.out) if args.out else case.output
+    if args.overwrite and not args.resume and target.exists() and any(target.iterdir()):
+        print(f"evidence1d: replacing the existing output folder {target} (--overwrite)",
+              file=sys.stderr)
     results = run(case, seed=args.seed, out=args.out, quick=args.quick, resume=args.resume,
                   overwrite=args.overwrite, figures=not args.no_figures, models=models,
                   workers=args.workers)
