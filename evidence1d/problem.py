@@ -118,38 +118,40 @@ class JointProblem:
                     p.update(b.conditional_mean(p))
         return p
 
-    def _per_dataset(self, theta, pointwise=False, rng=None):
+    @staticmethod
+    def _dataset_loglike(pr, p, pointwise: bool):
+        """Log-likelihood of one dataset with every nuisance in ``p``: (k,) or (k, n)."""
+        ds = pr.dataset
+        model = pr.predict(p)
+        infl = p.get(f"{ds.name}:inflate")
+        if ds.options.get("noise") == "student_t":
+            f = student_t_pointwise if pointwise else student_t_loglike
+            ll = f(model, ds.y, ds.err, ds.options.get("nu", 4.0), inflation=infl)
+        else:
+            f = gaussian_pointwise if pointwise else gaussian_loglike
+            ll = f(model, ds.y, ds.err, inflation=infl)
+        return np.where(np.isfinite(ll), ll, -np.inf)
+
+    def _valid(self, theta) -> np.ndarray:
+        """Rows inside the prior support, finite and physical."""
+        return (self.prior.in_support(theta) & np.all(np.isfinite(theta), axis=1)
+                & self._physical(theta))
+
+    def _per_dataset(self, theta):
         theta, _ = self._as_batch(theta)
         k = theta.shape[0]
-        ok = self.prior.in_support(theta) & np.all(np.isfinite(theta), axis=1)
-        ok &= self._physical(theta)
-        out = {}
-        for label, n in self.term_sizes().items():
-            out[label] = np.full((k, n) if pointwise else k, -np.inf)
-        idx = np.flatnonzero(ok)
+        out = {label: np.full(k, -np.inf) for label in self.term_sizes()}
+        idx = np.flatnonzero(self._valid(theta))
         for start in range(0, idx.size, self.chunk):
             sel = idx[start:start + self.chunk]
             p = self.prior.expand(theta[sel])
             with np.errstate(all="ignore"):
-                if pointwise:
-                    p.update(self._draw(p, rng))
                 for pr in self.predictors:
-                    if id(pr) in self._in_block and not pointwise:
-                        continue
-                    ds = pr.dataset
-                    model = pr.predict(p)
-                    infl = p.get(f"{ds.name}:inflate")
-                    if ds.options.get("noise") == "student_t":
-                        f = student_t_pointwise if pointwise else student_t_loglike
-                        ll = f(model, ds.y, ds.err, ds.options.get("nu", 4.0), inflation=infl)
-                    else:
-                        f = gaussian_pointwise if pointwise else gaussian_loglike
-                        ll = f(model, ds.y, ds.err, inflation=infl)
-                    out[ds.name][sel] = np.where(np.isfinite(ll), ll, -np.inf)
-                if not pointwise:
-                    for b in self.blocks:
-                        ll = b.log_likelihood(p)
-                        out[b.label][sel] = np.where(np.isfinite(ll), ll, -np.inf)
+                    if id(pr) not in self._in_block:
+                        out[pr.dataset.name][sel] = self._dataset_loglike(pr, p, False)
+                for b in self.blocks:
+                    ll = b.log_likelihood(p)
+                    out[b.label][sel] = np.where(np.isfinite(ll), ll, -np.inf)
         return out
 
     def _physical(self, theta) -> np.ndarray:
@@ -229,11 +231,9 @@ class JointProblem:
         """Per-point log-likelihoods {dataset name: (k, n_points)} (for PSIS-LOO), with any
         marginalised nuisances drawn from their conditional posterior (``rng``)."""
         theta, _ = self._as_batch(theta)
-        p_ok = self.prior.in_support(theta) & self._physical(theta)
-        out = {}
-        for pr in self.predictors:
-            out[pr.dataset.name] = np.full((theta.shape[0], pr.dataset.n), -np.inf)
-        idx = np.flatnonzero(p_ok)
+        out = {pr.dataset.name: np.full((theta.shape[0], pr.dataset.n), -np.inf)
+               for pr in self.predictors}
+        idx = np.flatnonzero(self._valid(theta))
         rng = np.random.default_rng(0) if rng is None else rng
         for start in range(0, idx.size, self.chunk):
             sel = idx[start:start + self.chunk]
@@ -241,15 +241,7 @@ class JointProblem:
             with np.errstate(all="ignore"):
                 p.update(self._draw(p, rng))
                 for pr in self.predictors:
-                    ds = pr.dataset
-                    model = pr.predict(p)
-                    infl = p.get(f"{ds.name}:inflate")
-                    if ds.options.get("noise") == "student_t":
-                        ll = student_t_pointwise(model, ds.y, ds.err, ds.options.get("nu", 4.0),
-                                                 inflation=infl)
-                    else:
-                        ll = gaussian_pointwise(model, ds.y, ds.err, inflation=infl)
-                    out[ds.name][sel] = np.where(np.isfinite(ll), ll, -np.inf)
+                    out[pr.dataset.name][sel] = self._dataset_loglike(pr, p, True)
         return out
 
     def log_prior(self, theta):

@@ -56,3 +56,17 @@ def write_valid_case(folder, case_text=CASE_YAML):
         for t in T:
             fh.write(f"{t:.3f}\t{0.01 * t:.6g}\t0.01\n")
     return folder / "case.yaml"
+
+
+def edit_file(path, old, new):
+    """Replace the first ``old`` in a file by ``new`` (the fixture text must contain it)."""
+    text = path.read_text()
+    assert old in text, f"fixture text changed: {old!r}"
+    path.write_text(text.replace(old, new, 1))
+
+
+def check_command(capsys, path):
+    """Run ``evidence1d check PATH``; return (exit code, stripped standard error)."""
+    from evidence1d.cli import main
+    code = main(["check", str(path)])
+    return code, capsys.readouterr().err.strip()

@@ -4,19 +4,13 @@ from __future__ import annotations
 import pytest
 
 from evidence1d.cli import main
-from casefactory import CASE_YAML, write_valid_case
+from casefactory import CASE_YAML, write_valid_case, check_command, edit_file
 
 
-def _edit(path, old, new):
-    text = path.read_text()
-    assert old in text, f"fixture text changed: {old!r}"
-    path.write_text(text.replace(old, new, 1))
+_edit = edit_file
 
 
-def _run_check(capsys, case_path):
-    code = main(["check", str(case_path)])
-    err = capsys.readouterr().err.strip()
-    return code, err
+_run_check = check_command
 
 
 def _mutations():

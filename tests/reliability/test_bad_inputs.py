@@ -13,21 +13,16 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from casefactory import CASE_YAML, write_valid_case
+from casefactory import CASE_YAML, write_valid_case, check_command, edit_file
 from evidence1d.cli import main
 
 CARD = Path(__file__).resolve().parents[2] / "models" / "gapped_spin_wave.yaml"
 
 
-def _edit(path, old, new):
-    text = path.read_text()
-    assert old in text, f"fixture text changed: {old!r}"
-    path.write_text(text.replace(old, new, 1))
+_edit = edit_file
 
 
-def _check(capsys, path):
-    code = main(["check", str(path)])
-    return code, capsys.readouterr().err.strip()
+_check = check_command
 
 
 # ----------------------------------------------------------------- mutation builders
