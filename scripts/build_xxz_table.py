@@ -540,13 +540,16 @@ def assemble_delta(delta, ring_big, t_join, log=print):
     return final, info
 
 
-def build_table(rings, delta_grid=DELTA_GRID, t_grid=T_GRID, log=print):
+def build_table(rings, delta_grid=DELTA_GRID, t_grid=T_GRID, log=print, nlie=None):
     """Stored logarithms of the shipped table and the diagnostics of its construction.
 
     Parameters
     ----------
     rings : dict
         ring size → quantity → (n_delta, n_t) values (from :func:`ring_table`).
+    nlie : dict, optional
+        quantity → (n_delta, n_t) infinite-chain values from :func:`nlie_table` (NaN where
+        not solved); they replace the ring estimates of χ*_zz, C and S wherever present.
 
     Returns
     -------
@@ -556,6 +559,14 @@ def build_table(rings, delta_grid=DELTA_GRID, t_grid=T_GRID, log=print):
     """
     from evidence1d.physics.chain_thermo import ACTIVATED, activation_energy
     big, err = ring_estimate(rings)
+    exact = np.zeros((delta_grid.size, t_grid.size), bool)
+    if nlie is not None:
+        # the infinite-chain values replace the ring estimates wherever the NLIE was solved
+        # (never at the first grid points, which the low-temperature match needs)
+        exact = np.isfinite(nlie["c_over_r"]) & (np.arange(t_grid.size) >= 2)
+        for q in NLIE_QUANTITIES:
+            big[q] = np.where(exact, nlie[q], big[q])
+            err[q] = np.where(exact, 0.0, err[q])
     joins = join_temperatures(err, t_grid, delta_grid)
     arrays = {q: np.zeros((delta_grid.size, t_grid.size)) for q in QUANTITIES}
     fits = []
@@ -569,7 +580,7 @@ def build_table(rings, delta_grid=DELTA_GRID, t_grid=T_GRID, log=print):
             seg = 0.5 * (c[1:] + c[:-1]) * np.diff(np.log(t_grid))
             tail = (2.0 + delta ** 2) / (32.0 * t_grid[-1] ** 2)
             above = np.concatenate([np.cumsum(seg[::-1])[::-1], [0.0]]) + tail
-        ring_big["s_over_r"] = np.log(2.0) - above
+        ring_big["s_over_r"] = np.where(exact[j], big["s_over_r"][j], np.log(2.0) - above)
         t_join = {g: float(joins[g][1][j]) for g in GROUPS}
         with np.errstate(all="ignore"):
             final, info = assemble_delta(float(delta), ring_big, t_join, log=log)
@@ -584,23 +595,73 @@ def build_table(rings, delta_grid=DELTA_GRID, t_grid=T_GRID, log=print):
     return arrays, {"fits": fits}
 
 
+#: the NLIE supplies χ*_zz, C and S of the infinite chain at t ≤ NLIE_T_MAX ...
+NLIE_T_MAX = 5.0
+#: ... wherever all three exceed NLIE_FLOOR (below it the activated values of Δ > 1 are
+#: smaller than the equation's absolute accuracy allows to resolve)
+NLIE_FLOOR = 1e-8
+NLIE_QUANTITIES = ("chi_star", "c_over_r", "s_over_r")
+
+
+def nlie_table(delta_grid=DELTA_GRID, t_grid=T_GRID, log=print):
+    """χ*_zz, C/R and S/R of the infinite chain from the NLIE on the (Δ, t) grid.
+
+    Solved from t = NLIE_T_MAX downwards; for Δ > 1 the descent stops once a quantity falls
+    below NLIE_FLOOR. Points not computed are NaN.
+
+    Returns
+    -------
+    dict
+        quantity → (n_delta, n_t) values, and ``seconds``.
+    """
+    from evidence1d.physics.xxz_nlie import NlieGrid, nlie_thermodynamics
+    start = time.perf_counter()
+    out = {q: np.full((delta_grid.size, t_grid.size), np.nan) for q in NLIE_QUANTITIES}
+    todo = np.nonzero(t_grid <= NLIE_T_MAX)[0][::-1]
+    for j, delta in enumerate(delta_grid):
+        grid = NlieGrid(float(delta))
+        for chunk in np.array_split(todo, max(1, todo.size // 16)):
+            vals = nlie_thermodynamics(t_grid[chunk], float(delta), grid)
+            for q in NLIE_QUANTITIES:
+                out[q][j, chunk] = vals[q]
+            if min(np.min(vals[q]) for q in NLIE_QUANTITIES) < NLIE_FLOOR:
+                break
+        ok = np.all([out[q][j] > NLIE_FLOOR for q in NLIE_QUANTITIES], axis=0)
+        # keep only the contiguous range down from NLIE_T_MAX
+        bad = np.nonzero(~ok & (t_grid <= NLIE_T_MAX))[0]
+        cut = bad.max() + 1 if bad.size else 0
+        for q in NLIE_QUANTITIES:
+            out[q][j, :cut] = np.nan
+        log(f"NLIE delta = {delta:.2f}: t >= {t_grid[cut]:.4g} "
+            f"({time.perf_counter() - start:.0f} s)")
+    out["seconds"] = time.perf_counter() - start
+    return out
+
+
 def main():
-    """Run the diagonalisations, build the table and write the npz and json files."""
-    write_table(ring_table())
+    """Run the diagonalisations and the NLIE, build the table and write npz and json."""
+    rings = ring_table()
+    write_table(rings, nlie_table())
 
 
-def write_table(rt, out_dir=ROOT / "evidence1d" / "physics" / "tables"):
-    """Build the table from ring data ``rt`` (from :func:`ring_table`) and write npz + json.
+def write_table(rt, nlie=None, out_dir=ROOT / "evidence1d" / "physics" / "tables"):
+    """Build the table from ring data ``rt`` (from :func:`ring_table`) and the NLIE values
+    ``nlie`` (from :func:`nlie_table`) and write npz + json.
 
-    The recorded run time is the diagonalisation time per ring size plus the build time.
+    The recorded run time is the diagonalisation time per ring size plus the NLIE time plus
+    the build time.
     """
     start = time.perf_counter()
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
-    arrays, diag = build_table(rt["data"])
+    arrays, diag = build_table(rt["data"], nlie=nlie)
     np.savez_compressed(out_dir / "xxz_thermo.npz", **arrays)
     meta = {
-        "method": "exact diagonalisation of periodic S=1/2 XXZ rings in (S^z, k) sectors "
+        "method": "chi_zz, C and S of the infinite chain for t <= "
+                  f"{NLIE_T_MAX} from the non-linear integral equation of the quantum "
+                  "transfer matrix (evidence1d.physics.xxz_nlie), where all three exceed "
+                  f"{NLIE_FLOOR}; elsewhere (chi_perp everywhere) "
+                  "exact diagonalisation of periodic S=1/2 XXZ rings in (S^z, k) sectors "
                   "(complex Hermitian blocks, spin inversion M <-> N-M); transverse "
                   "susceptibility from the Kubo formula with <M+1,k|S^+_tot|M,k>; ring "
                   "values = Shanks (Aitken) limit of the three largest rings, error "
@@ -619,7 +680,9 @@ def write_table(rt, out_dir=ROOT / "evidence1d" / "physics" / "tables"):
                  "n_t": int(T_GRID.size), "delta_min": float(DELTA_GRID[0]),
                  "delta_max": float(DELTA_GRID[-1]), "n_delta": int(DELTA_GRID.size)},
         "joins": diag["fits"],
-        "run_time_seconds": round(time.perf_counter() - start + sum(rt["seconds"].values()), 1),
+        "nlie_seconds": round(nlie["seconds"], 1) if nlie else None,
+        "run_time_seconds": round(time.perf_counter() - start + sum(rt["seconds"].values())
+                                  + (nlie["seconds"] if nlie else 0.0), 1),
         "machine": f"{platform.machine()}, {os.cpu_count()} cores (shared)",
         "date": datetime.now(timezone.utc).isoformat(timespec="seconds"),
         "versions": {"python": platform.python_version(), "numpy": np.__version__,
