@@ -563,10 +563,14 @@ def build_table(rings, delta_grid=DELTA_GRID, t_grid=T_GRID, log=print, nlie=Non
     if nlie is not None:
         # the infinite-chain values replace the ring estimates wherever the NLIE was solved
         # (never at the first grid points, which the low-temperature match needs)
-        exact = np.isfinite(nlie["c_over_r"]) & (np.arange(t_grid.size) >= 2)
+        exact = np.isfinite(nlie["c_over_r"])
+        # the join needs exact values on both sides of it (value, slope and curvature are
+        # matched from three points), so the lowest exact point is not a candidate
+        lowest = np.argmax(exact, axis=1)
+        inner = exact & (np.arange(t_grid.size)[None, :] > lowest[:, None])
         for q in NLIE_QUANTITIES:
             big[q] = np.where(exact, nlie[q], big[q])
-            err[q] = np.where(exact, 0.0, err[q])
+            err[q] = np.where(inner, 0.0, err[q])
     joins = join_temperatures(err, t_grid, delta_grid)
     arrays = {q: np.zeros((delta_grid.size, t_grid.size)) for q in QUANTITIES}
     fits = []
@@ -638,10 +642,55 @@ def nlie_table(delta_grid=DELTA_GRID, t_grid=T_GRID, log=print):
     return out
 
 
-def main():
-    """Run the diagonalisations and the NLIE, build the table and write npz and json."""
-    rings = ring_table()
-    write_table(rings, nlie_table())
+def _save(path, data):
+    flat = {}
+    for key, value in data.items():
+        if isinstance(value, dict):
+            for sub, arr in value.items():
+                flat[f"{key}/{sub}"] = np.asarray(arr)
+        else:
+            flat[key] = np.asarray(value)
+    np.savez(path, **flat)
+
+
+def _load(path):
+    out = {}
+    with np.load(path) as raw:
+        for key in raw.files:
+            if "/" in key:
+                head, sub = key.split("/", 1)
+                out.setdefault(int(head) if head.isdigit() else head, {})[sub] = raw[key]
+            else:
+                out[key] = raw[key][()] if raw[key].ndim == 0 else raw[key]
+    return out
+
+
+def main(argv=None):
+    """Run the diagonalisations and the NLIE, build the table and write npz and json.
+
+    ``--stage rings`` and ``--stage nlie`` compute one part each and keep it in ``--cache``
+    (so that they can run side by side on two cores); ``--stage table`` assembles the table
+    from the cache. The default runs everything in one go.
+    """
+    import argparse
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--stage", choices=("all", "rings", "nlie", "table"), default="all")
+    parser.add_argument("--cache", type=Path, default=ROOT / "build" / "xxz_cache")
+    args = parser.parse_args(argv)
+    args.cache.mkdir(parents=True, exist_ok=True)
+    if args.stage in ("all", "rings"):
+        rt = ring_table()
+        _save(args.cache / "rings.npz", {**{str(n): v for n, v in rt["data"].items()},
+                                         "seconds": {str(n): v for n, v in rt["seconds"].items()}})
+    if args.stage in ("all", "nlie"):
+        _save(args.cache / "nlie.npz", nlie_table())
+    if args.stage in ("all", "table"):
+        raw = _load(args.cache / "rings.npz")
+        rt = {"data": {n: v for n, v in raw.items() if isinstance(n, int)},
+              "seconds": {int(n): float(v) for n, v in raw["seconds"].items()}}
+        nlie = _load(args.cache / "nlie.npz")
+        nlie["seconds"] = float(nlie["seconds"])
+        write_table(rt, nlie)
 
 
 def write_table(rt, nlie=None, out_dir=ROOT / "evidence1d" / "physics" / "tables"):

@@ -7,14 +7,14 @@ from __future__ import annotations
 import importlib
 
 __all__ = ["spinon_bounds", "spinon_gap", "spinon_spectrum", "xxz_thermodynamics",
-           "magnetic_form_factor", "chain", "neutron", "chain_thermo", "magnon",
-           "paramagnon", "bose_thermo", "chain_spectrum", "spin_wave_table"]
+           "nlie_thermodynamics", "magnetic_form_factor", "chain", "neutron", "chain_thermo", "magnon",
+           "paramagnon", "bose_thermo", "chain_spectrum", "spin_wave_table", "xxz_nlie"]
 
 _WHERE = {"spinon_bounds": "chain", "spinon_gap": "chain",
           "spinon_spectrum": "chain_spectrum", "xxz_thermodynamics": "chain_thermo",
-          "magnetic_form_factor": "neutron"}
+          "nlie_thermodynamics": "xxz_nlie", "magnetic_form_factor": "neutron"}
 _MODULES = {"chain", "chain_spectrum", "neutron", "chain_thermo", "magnon", "paramagnon",
-            "bose_thermo", "spin_wave_table"}
+            "bose_thermo", "spin_wave_table", "xxz_nlie"}
 
 
 def __getattr__(name):

@@ -3,21 +3,24 @@
 Convention: H = J Σ_i [S^x_i S^x_{i+1} + S^y_i S^y_{i+1} + Δ S^z_i S^z_{i+1}], J > 0
 antiferromagnetic; reduced temperature t = k_B T / J; χ* = χ J / (N g² μ_B²) per site.
 
-The table ``tables/xxz_thermo.npz`` is built by ``scripts/build_xxz_table.py``: exact
-diagonalisation of periodic rings (N = 10 to 16) in (S^z, k) sectors, Shanks-extrapolated
-in N, where the rings have converged; below that the low-temperature forms of
-:func:`low_temperature_basis`, fitted to the ring data at the join.  Regions and accuracy
-(join temperatures per Δ in ``tables/xxz_thermo.json``):
+The table ``tables/xxz_thermo.npz`` is built by ``scripts/build_xxz_table.py`` from two
+computations of the project's own:
 
-* ring region, t ≥ t_join(Δ): estimated finite-size error < 0.5 %.  t_join is 0.08 (Δ = 0)
-  to 0.69 (Δ = 3) for χ*_zz, 0.25-0.6 for χ*_⊥, and 0.31 (Δ ≈ 0.5) to 1.0 (Δ = 3) for C and S.
-* low-temperature region, t < t_join: exact t → 0 limits (χ*_zz → K/(π u), C/R → π t/(3u)
-  for Δ ≤ 1; activated with ε_s = E_g/2 for Δ > 1).  Measured: at Δ = 0 against the free
-  fermions χ*_zz within 0.5 % and C within 3.1 % (0.1 ≤ t < 0.35); at Δ = 1 χ* follows
-  (1/π²)(1 + 1/(2 ln(7.7/t))) within 2 % and C → (2/3) t within 0.3 % at t ≤ 0.02.  For
-  0 < Δ < 1 and Δ > 1 expect a few per cent, and ~10 % where the activated quantities are
-  exponentially small (t ≪ ε_s).  χ*_⊥ below its join is an interpolation (see
-  :func:`low_temperature_basis`) good to a few per cent.
+* χ*_zz, C and S of the *infinite* chain for t ≤ 5 from the non-linear integral equation of
+  the quantum transfer matrix (:mod:`evidence1d.physics.xxz_nlie`, exact up to a
+  discretisation error below 10⁻⁷), wherever they exceed 10⁻⁸ (for Δ > 1 the activated
+  values fall below that at t ≲ ε_s/15);
+* χ*_⊥ everywhere, and χ*_zz, C, S at t > 5, from exact diagonalisation of periodic rings
+  (N = 10 to 16) in (S^z, k) sectors, Shanks-extrapolated in N where they have converged
+  (χ*_⊥ below its join temperature of 0.25-0.6: the interpolation of
+  :func:`low_temperature_basis`, a few per cent).
+
+Below the lowest NLIE temperature (about 2 × 10⁻³ for Δ ≤ 1, ε_s/15 for Δ > 1) the
+low-temperature forms of :func:`low_temperature_basis` take over, fitted to the exact values
+at the join (join temperatures per Δ in ``tables/xxz_thermo.json``).  Accuracy of the
+interpolated table against the NLIE at random off-grid (t, Δ), measured by
+``tests/reference/test_xxz_thermo_reference.py``: ACCURACY_TEXT
+
 * t > 10⁴: high-temperature series χ* = (1/4t)(1 − Δ/2t), χ*_⊥ = (1/4t)(1 − 1/2t),
   C/R = (2 + Δ²)/(16 t²), S/R = ln 2 − (2 + Δ²)/(32 t²) (relative error < 10⁻⁶).
 * t < 10⁻³: the logarithms stored in the table continued linearly in ln t (power laws, the
@@ -28,6 +31,7 @@ t > 0 and 0 ≤ Δ ≤ 3; interpolation is cubic convolution on (ln t, Δ), C¹.
 
 References
 ----------
+A. Klümper, Z. Phys. B 91, 507 (1993) (quantum transfer matrix, NLIE).
 S. Eggert, I. Affleck and M. Takahashi, Phys. Rev. Lett. 73, 332 (1994).
 A. Klümper and D. C. Johnston, Phys. Rev. Lett. 84, 4701 (2000).
 J. des Cloizeaux and M. Gaudin, J. Math. Phys. 7, 1384 (1966).
