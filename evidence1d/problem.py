@@ -308,21 +308,35 @@ class LinearBlock:
         self.tau = np.array([max(s, 1e-300) for _, s in mom])
         self._y = np.concatenate([pr.dataset.y for pr in self.predictors])
         self._err = np.concatenate([pr.dataset.err for pr in self.predictors])
+        self._inv_err = 1.0 / self._err
+        ends = np.cumsum([0] + [pr.dataset.n for pr in self.predictors])
+        self._rows = [slice(int(a), int(b)) for a, b in zip(ends[:-1], ends[1:])]
+        # every dataset carries every block parameter: no zeros needed in the design
+        self._dense = all(set(self.names) <= set(pr.linear) for pr in self.predictors)
 
     def _whitened(self, p):
-        offs, des = [], []
-        for pr in self.predictors:
+        """Whitened residuals (k, n) at the prior means and whitened design (k, n, p).
+
+        The design is written once, column by column, into one array already divided by
+        the errors (zeros only where a dataset does not carry a block parameter).
+        """
+        resid, design = None, None
+        for pr, rows in zip(self.predictors, self._rows):
             own = [nm for nm in self.names if nm in pr.linear]
-            off, d = pr.linear_design(p, own)
-            full = np.zeros(d.shape[:2] + (len(self.names),))
-            for j, nm in enumerate(own):
-                full[..., self.names.index(nm)] = d[..., j]
-            offs.append(off)
-            des.append(full)
-        off = np.concatenate(offs, axis=1)
-        design = np.concatenate(des, axis=1)
-        resid = self._y - off - design @ self.mu
-        return resid / self._err, design / self._err[:, None]
+            off, cols = pr.linear_design(p, own)
+            if design is None:
+                k = off.shape[0]
+                resid = np.empty((k, self._y.size))
+                design = (np.empty if self._dense else np.zeros)((k, self._y.size,
+                                                                  len(self.names)))
+            inv = self._inv_err[rows]
+            r = np.subtract(self._y[rows], off, out=resid[:, rows])
+            for nm, col in zip(own, cols):
+                j = self.names.index(nm)
+                np.multiply(col, inv, out=design[:, rows, j])
+                r -= self.mu[j] * col
+            r *= inv
+        return resid, design
 
     def log_likelihood(self, p) -> np.ndarray:
         """Marginal log-likelihood of the block's data, (k,)."""

@@ -177,7 +177,7 @@ class DatasetPredictor:
         return [n for n in self.nuisance if not n.endswith(":inflate")] + list(self.extras)
 
     def linear_design(self, p: dict, names) -> tuple:
-        """The prediction as offset + design · a for the linear parameters ``names``.
+        """The prediction as offset + Σ_j column_j · a_j for the linear parameters ``names``.
 
         Parameters
         ----------
@@ -190,12 +190,13 @@ class DatasetPredictor:
         -------
         offset : ndarray, shape (k, n)
             The part that does not depend on ``names``.
-        design : ndarray, shape (k, n, len(names))
-            The column multiplying each of ``names``.
+        columns : list of ndarray
+            The column multiplying each of ``names``, in their order, each of shape (k, n)
+            or (n,) (broadcastable to (k, n); never copied to the full shape here).
         """
         ds = self.dataset
         m = self.magnetic(p)
-        k, n = m.shape
+        n = m.shape[1]
         if ds.kind in ("crystal_spectrum", "powder_spectrum"):
             column = {f"{ds.name}:scale": m, f"{ds.name}:background": np.ones(n),
                       f"{ds.name}:slope": self._E, f"{ds.name}:elastic": self._elastic_shape}
@@ -203,11 +204,9 @@ class DatasetPredictor:
             T = ds.x["T"]
             column = {"chi0": np.ones(n), "c_imp": 1.0 / T, "gamma_e": T,
                       "beta_lattice": T ** 3}
-        design = np.stack([np.broadcast_to(column[nm], (k, n)) for nm in names], axis=-1) \
-            if names else np.zeros((k, n, 0))
-        zero = np.zeros((k, 1))
+        zero = np.zeros((m.shape[0], 1))
         offset = self.predict({**p, **{nm: zero for nm in names}}, magnetic=m)
-        return offset, design
+        return offset, [column[nm] for nm in names]
 
     # ------------------------------------------------------------------ predictions
     def magnetic(self, p: dict) -> np.ndarray:

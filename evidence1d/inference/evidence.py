@@ -33,7 +33,11 @@ Each gives an unbiased estimate Ẑ_r of Z (Del Moral et al. 2006, Prop. 1); the
 ln Z = ln[(1/R) Σ Ẑ_r] (log-mean-exp).  The standard error is s/√R with s the sample standard
 deviation of ln Ẑ_r (delta method), times √((R − 1)/(R − 3)) so that the z-score, which
 follows a Student t with R − 1 degrees of freedom, has unit variance (for R ≥ 4).  The test
-suite checks the calibration on repeated runs.
+suite checks the calibration on repeated runs.  The factor is 1.73 at R = 4 and 1.18 at
+R = 8, so at a fixed cost the error bar is smaller with more islands, as long as each island
+keeps enough particles: on the flagship case study the spread of ln Ẑ_r grew from about
+0.5 to 1.0 nat when N was halved from 200 to 100, faster than 1/√N.  The case defaults
+are therefore N = 200 and R = 8.
 
 Parameters are moved in a working space where log-uniform parameters are replaced by their
 logarithm (the Jacobian is included), so scale parameters spanning decades mix well.

@@ -278,6 +278,24 @@ def _even_remainder(E, kT):
     return np.where(small, series, big)
 
 
+@functools.lru_cache(maxsize=16)
+def _remainder_nodes(e_bytes, s_bytes, shape, kT, n_nodes):
+    """Gauss–Hermite nodes E_k² and weights w_k R(E_k), each (n_nodes, n), read-only.
+
+    They depend only on a dataset's energies, resolution and temperature, so they are
+    computed once per dataset (cached on the bytes of the arrays).
+    """
+    E = np.frombuffer(e_bytes, float).reshape(shape)
+    sigma = np.frombuffer(s_bytes, float).reshape(shape)
+    x, w = neutron.gauss_hermite(n_nodes)
+    Ep = E[:, None] + sigma[:, None] * x                          # (n, n_nodes)
+    Ep2 = np.ascontiguousarray((Ep * Ep).T)
+    wR = np.ascontiguousarray((_even_remainder(Ep, kT) * w).T)
+    Ep2.setflags(write=False)
+    wR.setflags(write=False)
+    return Ep2, wR
+
+
 def convolved_structure_factor(E, sigma, T, chi_q, gamma_q, n_nodes=12):
     """Gaussian-resolution convolution of :func:`structure_factor` (one spin component).
 
@@ -310,21 +328,31 @@ def convolved_structure_factor(E, sigma, T, chi_q, gamma_q, n_nodes=12):
     profile); Eq. 25.4.46 (Gauss–Hermite); Lovesey (1984), Ch. 4.
     """
     E = np.asarray(E, float)
-    sigma = np.asarray(sigma, float)
+    sigma = np.broadcast_to(np.asarray(sigma, float), E.shape)
     kT = K_B_MEV * max(float(T), 0.0)
-    voigt = neutron.convolve_modes(E, sigma, 0.0, chi_q * kT, gamma_q)
-    z = (E + 1j * gamma_q) / (math.sqrt(2.0) * sigma)
-    dispersive = 0.5 * chi_q * gamma_q * special.wofz(z).imag / (_SQRT_2PI * sigma)
-    x, w = neutron.gauss_hermite(n_nodes)
-    Ep = E[:, None] + sigma[:, None] * x                          # (n, n_nodes)
-    wR = _even_remainder(Ep, kT) * w                              # (n, n_nodes)
-    g2 = (gamma_q * gamma_q)[..., None]
-    rem = chi_q * gamma_q * np.einsum("snk,nk->sn", 1.0 / (Ep * Ep + g2), wR)
-    return voigt + dispersive + rem / math.pi
+    # One Faddeeva evaluation gives both exact parts: the Voigt profile is Re w(z)/(√(2π)σ)
+    # and the convolved dispersive Lorentzian (E/(E² + Γ²)) * G_σ is π Im w(z)/(√(2π)σ),
+    # z = (E + iΓ)/(√2 σ) (Abramowitz & Stegun 7.4.13).
+    gamma_q = np.asarray(gamma_q, float)
+    inv = 1.0 / (math.sqrt(2.0) * sigma)
+    z = np.empty(np.broadcast(gamma_q, E).shape, complex)
+    z.real, z.imag = E * inv, gamma_q * inv
+    w_z = special.wofz(z)
+    exact = chi_q * (kT * w_z.real + 0.5 * gamma_q * w_z.imag) / (_SQRT_2PI * sigma)
+    Ep2, wR = _remainder_nodes(E.tobytes(), sigma.tobytes(), E.shape, kT, int(n_nodes))
+    # Σ_k wR_k / (E_k² + Γ²), one node at a time: (n_sets, n) temporaries stay small
+    g2 = gamma_q * gamma_q
+    acc = np.zeros(np.broadcast(g2, E).shape)
+    tmp = np.empty_like(acc)
+    for k in range(Ep2.shape[0]):
+        np.add(g2, Ep2[k], out=tmp)
+        np.divide(wR[k], tmp, out=tmp)
+        acc += tmp
+    return exact + chi_q * gamma_q * acc / math.pi
 
 
 @functools.lru_cache(maxsize=4)
-def _log_nodes(n: int = 240, lo: float = -28.0, hi: float = 4.5):
+def _log_nodes(n: int = 120, lo: float = -28.0, hi: float = 4.5):
     u = np.linspace(lo, hi, n)
     t = np.exp(u)
     w = np.full(n, (hi - lo) / (n - 1)) * t * np.exp(-t)            # trapezoid in u = ln t
@@ -339,7 +367,8 @@ def zone_average_inverse_rate(gamma0, xi_par, xi_perp, d, a_perp, b_perp):
     """Brillouin-zone average ⟨1/Γ_Q⟩ of the SCR relaxation rate, in 1/meV.
 
     ⟨1/(1 + κ)⟩ = ∫₀^∞ e^{−t} Π_i e^{−t b_i/2} I₀(t b_i/2) dt with b_i = (2ξ_i/a_i)², done by
-    the trapezoid rule in ln t (exponentially convergent for this smooth integrand); the
+    the trapezoid rule in ln t on 120 nodes (exponentially convergent for this smooth
+    integrand; within 1e-10 relative of the 240-node rule for ξ up to 300 Å); the
     average does not depend on the centre Q₀.
 
     Parameters
