@@ -334,12 +334,28 @@ def ring_thermodynamics(spec, t):
 #: second one whose difference estimates its error
 RING_SIZES = (10, 12, 14, 16)
 #: grid of the shipped table: uniform in ln t and in Δ
-T_GRID = np.exp(np.linspace(np.log(1e-3), np.log(1e4), 323))
+#: where rings and NLIE are computed: 10⁻³ ≤ t ≤ 10⁴, uniform in ln t ...
+COMPUTED_GRID = np.exp(np.linspace(np.log(1e-3), np.log(1e4), 323))
+#: ... and the table's grid: three more decades below, at the same spacing, filled by the
+#: low-temperature forms (their log corrections and activation are kept down to t = 10⁻⁶
+#: instead of a linear continuation in ln t)
+_STEP = np.log(COMPUTED_GRID[1] / COMPUTED_GRID[0])
+N_BELOW = int(round(np.log(1e3) / _STEP))
+T_GRID = np.exp(np.log(COMPUTED_GRID[0]) + _STEP * np.arange(-N_BELOW, COMPUTED_GRID.size))
+
+
+def _pad_below(values):
+    """Pad (…, n_computed) arrays with NaN below the computed grid to the table grid."""
+    values = np.asarray(values, dtype=float)
+    if values.shape[-1] == T_GRID.size:
+        return values
+    pad = np.full(values.shape[:-1] + (T_GRID.size - values.shape[-1],), np.nan)
+    return np.concatenate([pad, values], axis=-1)
 DELTA_GRID = np.linspace(0.0, 3.0, 31)
 QUANTITIES = ("chi_star", "chi_star_perp", "c_over_r", "s_over_r")
 
 
-def ring_table(delta_grid=DELTA_GRID, t_grid=T_GRID, sizes=RING_SIZES, log=print):
+def ring_table(delta_grid=DELTA_GRID, t_grid=COMPUTED_GRID, sizes=RING_SIZES, log=print):
     """Thermodynamics of every ring size on the (Δ, t) grid.
 
     Returns
@@ -412,7 +428,9 @@ def join_temperatures(err, t_grid=T_GRID, delta_grid=DELTA_GRID, tol=TOLERANCE):
     """Join temperature per Δ and quantity group: below it the ring estimate is not converged.
 
     The raw values (smallest t above which the error estimate stays below ``tol``) are made a
-    smooth function of Δ by a quartic (quadratic for the noisier transverse one) fit in ln t, shifted up to lie above every raw value.
+    smooth function of Δ by a quartic (quadratic for the noisier transverse one) fit in ln t,
+    shifted up to lie above every raw value; rows converged down to the second computed
+    point (exact NLIE values) keep that join.
 
     Returns
     -------
@@ -428,9 +446,16 @@ def join_temperatures(err, t_grid=T_GRID, delta_grid=DELTA_GRID, tol=TOLERANCE):
             bad = np.nonzero(~(row < tol))[0]
             raw.append(t_grid[window][bad.max() + 1] if bad.size else t_grid[window][0])
         raw = np.log(np.array(raw))
-        coef = np.polynomial.polynomial.polyfit(delta_grid, raw, 2 if group == "perp" else 4)
-        fit = np.polynomial.polynomial.polyval(delta_grid, coef)
-        fit += max(0.0, float(np.max(raw - fit)))
+        # rows converged down to the second computed point (the exact NLIE rows of Δ ≲ 1)
+        # keep that join: it is the same for all of them, so already smooth in Δ
+        floor = COMPUTED_GRID[1] if t_grid.size == T_GRID.size else t_grid[1]
+        lowest = raw <= np.log(floor) + 1e-12
+        fit = raw.copy()
+        if np.count_nonzero(~lowest) > 5:
+            d, r = delta_grid[~lowest], raw[~lowest]
+            coef = np.polynomial.polynomial.polyfit(d, r, 2 if group == "perp" else 4)
+            smooth = np.polynomial.polynomial.polyval(d, coef)
+            fit[~lowest] = smooth + max(0.0, float(np.max(r - smooth)))
         out[group] = (np.exp(raw), np.exp(fit))
     return out
 
@@ -490,10 +515,14 @@ def assemble_delta(delta, ring_big, t_join, log=print):
     env = np.log(basis["chi0"]) + basis["log_g_chi"] - x
     target = ring_big["chi_star"] / np.exp(env) - 1.0
     a, b, c = _match([y, tt ** 2, tt ** 4], target, lt, i)
-    chi_low = np.exp(env) * (1.0 + a * y + b * tt ** 2 + c * tt ** 4)
-    chi_low = np.where(tt <= t_join["chi"] * np.exp(2 * BLEND), chi_low, ring_big["chi_star"])
+    factor = 1.0 + a * y + b * tt ** 2 + c * tt ** 4
+    # in logarithms: e^{-x} underflows deep in the activated range of Δ > 1
+    log_chi_low = env + np.log(np.maximum(factor, 1e-300))
+    near_join = tt <= t_join["chi"] * np.exp(2 * BLEND)
+    log_chi_low = np.where(near_join, log_chi_low, np.log(ring_big["chi_star"]))
+    chi_low = np.where(near_join, factor, 1.0)              # only its sign is checked below
     info["chi"] = {"a": a, "b": b, "c": c}
-    final["chi_star"] = blend(np.log(np.maximum(chi_low, 1e-300)), np.log(ring_big["chi_star"]), t_join["chi"])
+    final["chi_star"] = blend(log_chi_low, np.log(ring_big["chi_star"]), t_join["chi"])
 
     # transverse: χ_zz + c0 + c1 χ_zz + c2 t², the correction fitted to χ_⊥ − χ_zz of the
     # rings, so that it vanishes identically at Δ = 1 (SU(2) symmetry)
@@ -526,13 +555,15 @@ def assemble_delta(delta, ring_big, t_join, log=print):
     mat = np.array([conditions(tt[near] ** p) for p in powers]).T
     coef = np.linalg.solve(mat, conditions(target))
     poly = np.minimum(sum(k * tt ** p for k, p in zip(coef, powers)), 700.0)
-    s_low = np.exp(log_env + poly)
-    c_low = s_low * (dlog_env + sum(p * k * tt ** p for k, p in zip(coef, powers)))
+    log_s_low = log_env + poly                              # logarithms: no underflow
+    c_low = dlog_env + sum(p * k * tt ** p for k, p in zip(coef, powers))   # C / S
     below = tt < t_join["cs"]
-    final["s_over_r"] = np.log(np.where(below, s_low, ring_big["s_over_r"]))
-    final["c_over_r"] = np.log(np.where(below, np.maximum(c_low, 1e-300), ring_big["c_over_r"]))
+    with np.errstate(invalid="ignore"):
+        final["s_over_r"] = np.where(below, log_s_low, np.log(ring_big["s_over_r"]))
+        final["c_over_r"] = np.where(below, log_s_low + np.log(np.maximum(c_low, 1e-300)),
+                                     np.log(ring_big["c_over_r"]))
     info["c"] = {"powers": list(powers), "coefficients": [float(k) for k in coef]}
-    c_ratio = c_low[i] / ring_big["c_over_r"][i] - 1.0
+    c_ratio = np.exp(log_s_low[i]) * c_low[i] / ring_big["c_over_r"][i] - 1.0
     info["c_mismatch_at_join"] = float(c_ratio)
     low = tt < t_join["cs"]
     if min(chi_low[low].min(), c_low[low].min(), perp_low[low].min()) <= 0.0:
@@ -558,6 +589,9 @@ def build_table(rings, delta_grid=DELTA_GRID, t_grid=T_GRID, log=print, nlie=Non
         ln Q + ε_s/t for the activated quantities, ln Q otherwise) and json diagnostics.
     """
     from evidence1d.physics.chain_thermo import ACTIVATED, activation_energy
+    rings = {n: {q: _pad_below(v) for q, v in data.items()} for n, data in rings.items()}
+    if nlie is not None:
+        nlie = {q: _pad_below(nlie[q]) for q in NLIE_QUANTITIES}
     big, err = ring_estimate(rings)
     exact = np.zeros((delta_grid.size, t_grid.size), bool)
     if nlie is not None:
@@ -607,7 +641,7 @@ NLIE_FLOOR = 1e-8
 NLIE_QUANTITIES = ("chi_star", "c_over_r", "s_over_r")
 
 
-def nlie_table(delta_grid=DELTA_GRID, t_grid=T_GRID, log=print):
+def nlie_table(delta_grid=DELTA_GRID, t_grid=COMPUTED_GRID, log=print):
     """χ*_zz, C/R and S/R of the infinite chain from the NLIE on the (Δ, t) grid.
 
     Solved from t = NLIE_T_MAX downwards; for Δ > 1 the descent stops once a quantity falls

@@ -11,8 +11,15 @@ from scipy import integrate, optimize
 from evidence1d.physics.chain_thermo import activation_energy, xxz_thermodynamics
 
 ROOT = Path(__file__).resolve().parents[2]
-#: relative accuracy of the interpolated table against the exact infinite chain (t ≥ 2e-3)
-TABLE_RTOL = 5e-3
+
+
+def _table_rtol(t, delta):
+    """Stated accuracy of the interpolated table against the exact chain (chain_thermo)."""
+    if delta <= 0.95 or t >= 0.1:
+        return 1e-3
+    if delta < 1.05:
+        return 5e-3
+    return 2e-2 if t >= 0.01 else 0.15
 
 
 def _maximum(key, delta, lo, hi):
@@ -178,6 +185,7 @@ def test_table_interpolates_the_exact_infinite_chain(delta):
     exact = nlie_thermodynamics(t, delta)
     table = xxz_thermodynamics(t, delta)
     for key in ("chi_star", "c_over_r", "s_over_r"):
-        keep = exact[key] > 1e-6
-        np.testing.assert_allclose(table[key][keep], exact[key][keep], rtol=TABLE_RTOL,
-                                   err_msg=key)
+        for i, tt in enumerate(t):
+            if exact[key][i] > 1e-6:
+                assert table[key][i] == pytest.approx(exact[key][i],
+                                                      rel=_table_rtol(tt, delta)), (key, tt)
