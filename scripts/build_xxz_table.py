@@ -14,17 +14,28 @@ From the full spectra we get, per site and in units of J (t = k_B T / J):
 * C / R = (<E²> − <E>²) / (N t²) and S / R = (ln Z + <E>/t) / N.
 
 Rings of 10 to 16 sites are extrapolated (Shanks) and compared to find where the
-finite-size error exceeds the 0.5 % target; below that temperature the low-temperature forms
-of :mod:`evidence1d.physics.chain_thermo` take over (fitted here to the converged ring data),
-above the table the high-temperature series does.  The 16-site ring takes about 15 minutes
-on 2 shared cores, the rest a minute.  Run ``python scripts/build_xxz_table.py``
-from the repository root; the result is deterministic (no random numbers).
+finite-size error exceeds the 0.5 % target.  χ*_zz, C and S of the *infinite* chain for
+10⁻³ ≤ t ≤ 5 come from the non-linear integral equation of the quantum transfer matrix
+(:mod:`evidence1d.physics.xxz_nlie`), exact up to discretisation; they replace the ring
+values wherever they exceed 10⁻⁸.  Below the exact data the low-temperature forms of
+:mod:`evidence1d.physics.chain_thermo` take over (fitted at the join) down to the table's
+lowest point t = 10⁻⁶, above the table the high-temperature series does.
+
+Run from the repository root; the result is deterministic (no random numbers)::
+
+    python scripts/build_xxz_table.py                 # everything, about 20 min quiet
+    python scripts/build_xxz_table.py --stage rings   # ~12 min (the 16-site ring ~10)
+    python scripts/build_xxz_table.py --stage nlie    # ~6 min, side by side with rings
+    python scripts/build_xxz_table.py --stage table   # assemble from build/xxz_cache
+
+The json beside the table records the seconds of each stage as they ran.
 
 References
 ----------
 A. W. Sandvik, "Computational studies of quantum spin systems", AIP Conf. Proc. 1297, 135
 (2010) — momentum-state basis and normalisation.
 R. Kubo, J. Phys. Soc. Jpn. 12, 570 (1957) — static (isothermal) response from the spectrum.
+A. Klümper, Z. Phys. B 91, 507 (1993) — quantum transfer matrix and its integral equation.
 J. C. Bonner and M. E. Fisher, Phys. Rev. 135, A640 (1964) — finite-ring method for the chain.
 """
 from __future__ import annotations

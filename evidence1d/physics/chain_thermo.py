@@ -15,15 +15,25 @@ computations of the project's own:
   (χ*_⊥ below its join temperature of 0.25-0.6: the interpolation of
   :func:`low_temperature_basis`, a few per cent).
 
-Below the lowest NLIE temperature (about 2 × 10⁻³ for Δ ≤ 1, ε_s/15 for Δ > 1) the
+Below the lowest NLIE temperature (10⁻³ for Δ ≤ 1.3, rising to 0.04 at Δ = 3) the
 low-temperature forms of :func:`low_temperature_basis` take over, fitted to the exact values
 at the join (join temperatures per Δ in ``tables/xxz_thermo.json``).  Accuracy of the
-interpolated table against the NLIE at random off-grid (t, Δ), measured by
-``tests/reference/test_xxz_thermo_reference.py``: ACCURACY_TEXT
+interpolated table against the NLIE solved at random off-grid (t, Δ) (χ*_zz, C, S;
+2 × 10⁻³ ≤ t ≤ 5; ``tests/reference/test_xxz_thermo_reference.py`` checks these bounds):
+
+  - Δ ≤ 0.95, all t; and every Δ at t ≥ 0.1: < 0.05 %;
+  - 0.95 < Δ < 1.05 (logarithmic corrections): < 0.5 %;
+  - Δ ≥ 1.05, 0.01 ≤ t < 0.1: ~1 %; t < 0.01: up to ~10 % near Δ ≈ 1.1-1.4, where the
+    crossover into the activated regime is sharper in Δ than the table's 0.1 spacing.
+
+Below t = 10⁻³ the low-temperature forms are stored down to t = 10⁻⁶ (the table's lowest
+point): exact t → 0 limits (χ*_zz → K/(π u), C/R → π t/(3u) for Δ ≤ 1, with the log
+corrections at Δ = 1; activated with ε_s = E_g/2 for Δ > 1), fitted to the exact values at
+the join.
 
 * t > 10⁴: high-temperature series χ* = (1/4t)(1 − Δ/2t), χ*_⊥ = (1/4t)(1 − 1/2t),
   C/R = (2 + Δ²)/(16 t²), S/R = ln 2 − (2 + Δ²)/(32 t²) (relative error < 10⁻⁶).
-* t < 10⁻³: the logarithms stored in the table continued linearly in ln t (power laws, the
+* t < 10⁻⁶: the logarithms stored in the table continued linearly in ln t (power laws, the
   activation factor e^{-ε_s/t} taken out first).
 
 S = ∫_0^T C/T' dT' holds to ~10⁻⁴ and S → R ln 2; values are finite and positive for all
@@ -323,11 +333,11 @@ def xxz_thermodynamics(t, delta):
         ``s_over_r``
             Entropy per mole of spins in units of R (→ ln 2 at high t).
 
-        Accuracy: < 0.5 % where the rings have converged (t above the join temperatures
-        of ``tables/xxz_thermo.json``: 0.08-0.7 for χ*_zz, 0.25-0.6 for χ*_⊥, 0.31-1.0 for
-        C and S, lowest near Δ ≈ 0.5, highest at Δ = 3); below, the low-temperature forms
-        of :func:`low_temperature_basis` with exact t → 0 limits, a few per cent (3.1 % for
-        C at Δ = 0, 2 % for χ* at Δ = 1) and ~10 % in the deeply activated range of Δ > 1.
+        Accuracy against the exact infinite chain: < 0.05 % for Δ ≤ 0.95 and for every Δ
+        at t ≥ 0.1; < 0.5 % for 0.95 < Δ < 1.05; for Δ ≥ 1.05 about 1 % at 0.01 ≤ t < 0.1
+        and up to ~10 % below t = 0.01 near Δ ≈ 1.1-1.4 (χ*_zz, C, S, t ≥ 2 × 10⁻³).
+        χ*_⊥ is exact-diagonalisation data above t ≈ 0.25-0.6 and an interpolation good to
+        a few per cent below.
         See the module docstring. Values are finite and positive for every t > 0.
 
     Raises
