@@ -69,12 +69,12 @@ class SpinonFamily(Family):
 
     # ------------------------------------------------------------- thermodynamics
     @staticmethod
-    def _thermo(p, T):
+    def _thermo(p, T, quantities):
         from ..physics.chain_thermo import xxz_thermodynamics
         J = np.asarray(p["J"], dtype=float).reshape(-1, 1)
         delta = np.asarray(p["delta"], dtype=float).reshape(-1, 1)
         t = U.K_B_MEV * np.asarray(T, dtype=float)[None, :] / J
-        return xxz_thermodynamics(t, delta), J
+        return xxz_thermodynamics(t, delta, quantities), J
 
     def susceptibility(self, p: dict, T: np.ndarray, direction: str = "powder") -> np.ndarray:
         """Chain susceptibility in emu/mol of magnetic ion.
@@ -99,24 +99,26 @@ class SpinonFamily(Family):
         ----------
         Eggert, Affleck & Takahashi, PRL 73, 332 (1994) (the reduced χ* convention).
         """
-        th, J = self._thermo(p, T)
+        needed = {"z": ("chi_star",), "xy": ("chi_star_perp",),
+                  "powder": ("chi_star", "chi_star_perp")}
+        if direction not in needed:
+            raise InputError(f"unknown field direction {direction!r}; expected powder, z or xy")
+        th, J = self._thermo(p, T, needed[direction])
         if direction == "z":
             cs = th["chi_star"]
         elif direction == "xy":
             cs = th["chi_star_perp"]
-        elif direction == "powder":
-            cs = th["chi_star"] / 3.0 + 2.0 * th["chi_star_perp"] / 3.0
         else:
-            raise InputError(f"unknown field direction {direction!r}; expected powder, z or xy")
+            cs = th["chi_star"] / 3.0 + 2.0 * th["chi_star_perp"] / 3.0
         g = np.asarray(p.get("g", 2.0), dtype=float)
         return U.chi_star_to_emu_per_mol(cs, J, g)
 
     def heat_capacity(self, p: dict, T: np.ndarray) -> np.ndarray:
         """Chain heat capacity C = R · (C/R)(t, Δ) in J/(mol K), shape (n_sets, n)."""
-        th, _ = self._thermo(p, T)
+        th, _ = self._thermo(p, T, ("c_over_r",))
         return U.R_GAS * th["c_over_r"]
 
     def entropy(self, p: dict, T: np.ndarray) -> np.ndarray:
         """Chain entropy S = R · (S/R)(t, Δ) in J/(mol K); → R ln 2 at high T."""
-        th, _ = self._thermo(p, T)
+        th, _ = self._thermo(p, T, ("s_over_r",))
         return U.R_GAS * th["s_over_r"]

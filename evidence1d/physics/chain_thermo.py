@@ -249,12 +249,13 @@ def _keys_weights(u, n):
     return i, w
 
 
-def _interpolate(tab, log_t, delta):
-    """Stored logarithms at (ln t, Δ), cubic convolution in both directions; (4, ...).
+def _interpolate(tab, log_t, delta, qi=(0, 1, 2, 3)):
+    """Stored logarithms at (ln t, Δ), cubic convolution in both directions; (len(qi), ...).
 
-    The 4 × 4 neighbourhood of every point is gathered at once from the quantity-major
-    copy of the table (one ``take``), then contracted along ln t and along Δ; ``delta``
-    may keep its own (smaller) broadcastable shape, so per-set weights are computed once.
+    The 4 × 4 neighbourhood of every point is gathered from the quantity-major copy of the
+    table (one ``take`` per quantity asked for, ``qi`` indexing :data:`QUANTITIES`), then
+    contracted along ln t and along Δ; ``delta`` may keep its own (smaller) broadcastable
+    shape, so per-set weights are computed once.
     """
     ut = (log_t - tab["log_t0"]) / tab["dlog_t"]
     ud = (delta - tab["delta0"]) / tab["ddelta"]
@@ -262,7 +263,8 @@ def _interpolate(tab, log_t, delta):
     idl, wd = _keys_weights(np.clip(ud, 0.0, tab["n_delta"] - 1.0), tab["n_delta"])
     base = idl * tab["n_t2"] + it
     cells = base[None] + tab["offsets"].reshape((16,) + (1,) * base.ndim)
-    g = np.take(tab["by_quantity"], cells, axis=1).reshape((4, 4, 4) + base.shape)
+    g = np.stack([np.take(tab["by_quantity"][k], cells) for k in qi])
+    g = g.reshape((len(qi), 4, 4) + base.shape)
     inner = g[:, :, 0] * wt[0]                       # along ln t: (quantity, a, ...)
     for b in range(1, 4):
         inner += g[:, :, b] * wt[b]
@@ -271,7 +273,7 @@ def _interpolate(tab, log_t, delta):
         out += inner[:, a] * wd[a]
     below = np.minimum(ut, 0.0)                      # linear continuation for t < t_min
     if np.any(below < 0):
-        edge = sum(wd[a][..., None] * tab["slope"][idl + a] for a in range(4))
+        edge = sum(wd[a][..., None] * tab["slope"][idl + a][..., list(qi)] for a in range(4))
         out += np.moveaxis(edge, -1, 0) * below
     return out
 
@@ -307,7 +309,7 @@ def _high_temperature(t, delta):
             "s_over_r": np.log(2.0) - (2.0 + delta ** 2) / (32.0 * t ** 2)}
 
 
-def xxz_thermodynamics(t, delta):
+def xxz_thermodynamics(t, delta, quantities=QUANTITIES):
     """Susceptibilities, heat capacity and entropy per site of the S = 1/2 XXZ chain.
 
     H = J Σ_i [S^x_i S^x_{i+1} + S^y_i S^y_{i+1} + Δ S^z_i S^z_{i+1}], J > 0.
@@ -318,6 +320,9 @@ def xxz_thermodynamics(t, delta):
         Reduced temperature t = k_B T / J (> 0), e.g. shape (n_points,).
     delta : array_like
         Anisotropy Δ, 0 ≤ Δ ≤ 3, broadcast against ``t``, e.g. shape (n_sets, 1).
+    quantities : sequence of str, optional
+        The keys to compute (default all four below); asking only for those needed saves
+        most of the interpolation time.
 
     Returns
     -------
@@ -362,23 +367,27 @@ def xxz_thermodynamics(t, delta):
     if np.any(bad_d):
         raise InputError(f"the XXZ anisotropy delta must lie in [0, {DELTA_MAX}]; got "
                          f"{delta[bad_d].ravel()[0]} instead")
+    unknown = [q for q in quantities if q not in QUANTITIES]
+    if unknown:
+        raise ValueError(f"unknown XXZ quantity {unknown[0]!r}; expected one of {QUANTITIES}")
+    qi = tuple(QUANTITIES.index(q) for q in quantities)
     eps = activation_energy(delta)          # on the unbroadcast Δ: one value per set
     tab = _table()
     log_t = np.minimum(np.log(t), np.log(tab["t_max"]))
     outer = t.ndim == 1 and (delta.ndim == 0 or (delta.ndim == 2 and delta.shape[1] == 1))
     if outer:                                # the usual batch: Δ (n_sets, 1), t (n_points,)
-        stored = _interpolate_outer(tab, log_t, delta.reshape(-1))
+        stored = _interpolate_outer(tab, log_t, delta.reshape(-1))[list(qi)]
         if delta.ndim == 0:
             stored = stored[:, 0]
     else:                                    # pointwise; Δ keeps its own shape
-        stored = _interpolate(tab, log_t, delta)
+        stored = _interpolate(tab, log_t, delta, qi)
     shape = np.broadcast_shapes(t.shape, delta.shape)
-    stored = np.broadcast_to(stored, (len(QUANTITIES),) + shape)
+    stored = np.broadcast_to(stored, (len(qi),) + shape)
     x = eps / t
     hot = t > tab["t_max"]
     high = _high_temperature(*np.broadcast_arrays(t, delta)) if np.any(hot) else None
     out = {}
-    for j, q in enumerate(QUANTITIES):
+    for j, q in enumerate(quantities):
         value = stored[j] - x if q in ACTIVATED else stored[j]
         value = np.exp(value)
         out[q] = np.where(hot, high[q], value) if high is not None else value

@@ -201,3 +201,19 @@ def test_per_set_temperatures_equal_the_separable_path():
             np.testing.assert_allclose(batch[k][i], single[k][0], rtol=1e-12, atol=0)
     eps = activation_energy(delta)
     assert eps.shape == delta.shape and np.all(eps[delta <= 1.0] == 0.0)
+
+
+def test_asking_for_some_quantities_gives_the_same_numbers():
+    # the family asks only for what a dataset needs; the values must not depend on that
+    rng = np.random.default_rng(5)
+    t = np.exp(rng.uniform(np.log(1e-7), np.log(3e4), (6, 30)))
+    delta = rng.uniform(0.0, 3.0, (6, 1))
+    for temps in (t, t[0]):                 # pointwise and separable paths
+        full = xxz_thermodynamics(temps, delta)
+        for keys in (("c_over_r",), ("s_over_r",), ("chi_star_perp", "chi_star")):
+            part = xxz_thermodynamics(temps, delta, keys)
+            assert tuple(part) == keys
+            for k in keys:
+                np.testing.assert_array_equal(part[k], full[k])
+    with pytest.raises(ValueError):
+        xxz_thermodynamics(t, delta, ("chi",))
