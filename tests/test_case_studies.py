@@ -39,10 +39,15 @@ def test_case_study_outcome(name, tmp_path):
         if other != winner:
             ln_k = lz[winner] - lz[other]
             assert ln_k - 3 * np.hypot(err[winner], err[other]) > expected["min_ln_k"], (other, ln_k)
+    # The truth is checked against the tempered sampler's final population (equally
+    # weighted posterior particles of independent islands): with the reduced settings the
+    # short emcee chains under-explore the J-Δ ridge of the powder case and say so (their
+    # diagnostics fail), whereas the final SMC population covers it.
     mr = res.models[winner]
-    samples = mr.full_samples
+    samples = mr.evidence.posterior_samples
+    names = list(mr.evidence.names)
     for pname, truth in expected["truth_in_95"].items():
-        col = samples[:, mr.full_names.index(pname)]
+        col = samples[:, names.index(pname)]
         lo, hi = np.percentile(col, [2.5, 97.5])
         assert lo <= truth <= hi, f"{pname}: truth {truth} outside [{lo:.4g}, {hi:.4g}]"
 
