@@ -113,28 +113,23 @@ class NlieGrid:
         self.delta = float(delta)
         if self.delta < 0.0:
             raise ValueError("the NLIE here is written for Δ ≥ 0")
-        if self.delta < 1.0:
-            self.regime = "critical"
-            gam = math.acos(self.delta)
-            f, self.shift = _cth, 1j * gam
-            alpha = gam / 4.0
-            h = spacing or min(0.02, alpha / 6.0)
-            x = np.arange(-(half_length or 20.0), (half_length or 20.0) + h / 2, h)
-            self.drive_coef = 2.0 * _JP * 1j * math.sin(gam)
+        if self.delta <= 1.0:
+            # two lines Im = ∓α, run left to right below the axis and back above it
+            if self.delta < 1.0:
+                self.regime = "critical"
+                gam = math.acos(self.delta)
+                f, self.shift, alpha = _cth, 1j * gam, gam / 4.0
+                h, half = spacing or min(0.02, alpha / 6.0), half_length or 20.0
+                self.drive_coef = 2.0 * _JP * 1j * math.sin(gam)
+            else:
+                self.regime = "rational"
+                f, self.shift, alpha = _rat, 1j, 0.25
+                h, half = spacing or 0.05, half_length or 120.0
+                self.drive_coef = 2.0 * _JP * 1j
+            x = np.arange(-half, half + h / 2, h)
             self.line_a, self.line_b = x - 1j * alpha, x + 1j * alpha
             self.weight = h / (2j * math.pi)            # dλ = dx on line a, −dx on line b
             self.offset = -2j * alpha                   # λ_a − λ_b at equal x
-            self.periodic = False
-        elif self.delta == 1.0:
-            self.regime = "rational"
-            f, self.shift = _rat, 1j
-            alpha = 0.25
-            h = spacing or 0.05
-            x = np.arange(-(half_length or 120.0), (half_length or 120.0) + h / 2, h)
-            self.drive_coef = 2.0 * _JP * 1j
-            self.line_a, self.line_b = x - 1j * alpha, x + 1j * alpha
-            self.weight = h / (2j * math.pi)
-            self.offset = -2j * alpha
             self.periodic = False
         else:
             self.regime = "massive"
