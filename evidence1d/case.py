@@ -78,12 +78,12 @@ _MODEL = Spec({"name": Field(as_str, default=None, help="bundled model name"),
               what="a model entry")
 
 #: sampler settings and their defaults (``--quick`` scales them down)
-SAMPLER_DEFAULTS = {"walkers": 0, "steps": 2000, "particles": 200, "islands": 8,
+SAMPLER_DEFAULTS = {"walkers": 0, "steps": 1000, "particles": 200, "islands": 8,
                     "mcmc_steps": 0, "ess_fraction": 0.5, "checkpoint_every": 200,
                     "marginalise": True}
 _SAMPLER = Spec({
     "walkers": Field(as_int, default=0, help="emcee walkers (0: automatic)"),
-    "steps": Field(as_positive_int, default=2000, help="emcee steps per walker"),
+    "steps": Field(as_positive_int, default=1000, help="emcee steps per walker"),
     "particles": Field(as_positive_int, default=200, help="particles per evidence island"),
     "islands": Field(as_positive_int, default=8, help="independent evidence runs"),
     "mcmc_steps": Field(as_int, default=0, help="rejuvenation steps per temperature (0: auto)"),

@@ -1,15 +1,18 @@
 """``run()``: the model comparison of one case, as a pure function of (case, seed, settings).
 
 For every model family of the case: the evidence ln Z from a tempered sequence (with its
-error), the posterior from emcee started from the final tempered population, diagnostics,
+error), the posterior from emcee started from the final tempered population (which also
+shapes its independence proposals, see :mod:`evidence1d.inference.posterior`), diagnostics,
 a Laplace quick look, the Savage–Dickey ratio where the family contains its 1D limit, and
-PSIS-LOO; then the comparison across families.  No global state: the function can be
-mapped over a process pool (the case and the results pickle).
+PSIS-LOO; then the comparison across families.  No global state: the work is spread over
+a process pool in two stages, the evidence islands of every family first (independent jobs,
+so the cores are shared evenly), then one job per family for the rest; the figures are
+drawn in parallel at the end.  Every family and island has its own random stream, so the
+numbers do not depend on the number of processes.
 """
 from __future__ import annotations
 
 import json
-import os
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -17,6 +20,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import InputError
+from .parallel import run_in_pool, worker_count
 
 __all__ = ["ModelResult", "RunResults", "run", "effective_settings", "QUICK"]
 
@@ -106,16 +110,12 @@ class _RunLog:
             fh.write(f"{stamp}  {message}\n")
 
 
-def _workers(workers, n_models: int) -> int:
-    if workers is None:
-        workers = int(os.environ.get("EVIDENCE1D_WORKERS", "0")) or (os.cpu_count() or 1)
-    return max(1, min(int(workers), n_models))
-
-
 def _model_seeds(seed: int, names):
-    ss = np.random.SeedSequence(seed)
-    children = ss.spawn(len(names))
-    return {n: c for n, c in zip(names, children)}
+    """The random streams of each family: (evidence, posterior, Savage–Dickey and LOO,
+    nuisance draws).  Drawn once per run: ``SeedSequence.spawn`` gives new children at
+    every call."""
+    children = np.random.SeedSequence(seed).spawn(len(names))
+    return {n: tuple(c.spawn(4)) for n, c in zip(names, children)}
 
 
 def _save_evidence(path: Path | None, ev, settings) -> None:
@@ -149,11 +149,78 @@ def _load_evidence(path: Path | None, settings):
     return saved["evidence"] if saved.get("settings") == dict(settings) else None
 
 
-def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, progress,
+def _evidence_options(settings) -> dict:
+    """Keyword arguments of :func:`~evidence1d.inference.evidence.run_island` from the
+    sampler settings of a case."""
+    opts = {"n_particles": settings["particles"], "target_cess": settings["ess_fraction"]}
+    if settings["mcmc_steps"]:
+        opts["min_sweeps"] = settings["mcmc_steps"]
+    return opts
+
+
+def _island_job(case, name, settings, seed):
+    """One evidence island of one family: a pool job."""
+    from .inference.evidence import run_island
+    problem = case.problem(name)
+    return run_island(problem.log_likelihood, problem.prior, seed,
+                      **_evidence_options(settings))
+
+
+def _evidences(case, names, settings, seeds, out: Path | None, resume: bool, progress,
+               workers: int) -> dict:
+    """The evidence of every family, its islands spread over ``workers`` processes.
+
+    Islands of all families are independent jobs (R per family), so the work is shared out
+    evenly whatever the number of families; each island keeps the random stream it has in
+    :func:`~evidence1d.inference.evidence.tempered_evidence`, so the numbers do not depend
+    on ``workers``.  Finished evidences are saved for ``--resume``.
+    """
+    from tqdm.auto import tqdm
+
+    from .inference.evidence import (check_evidence_settings, combine_islands,
+                                     evidence_settings, island_seeds)
+    from .inference.progress import bar_options
+    evidences, jobs, owner = {}, [], []
+    for n in names:
+        problem = case.problem(n)
+        check_evidence_settings(problem.prior, settings["particles"], settings["islands"],
+                                settings["ess_fraction"])
+        ev_file = None if out is None else out / "chains" / f"{n}.evidence.pkl"
+        ev = _load_evidence(ev_file, settings) if resume else None
+        if ev is not None:
+            evidences[n] = ev
+            continue
+        ev_seed = seeds[n][0]
+        for seed in island_seeds(np.random.default_rng(ev_seed), settings["islands"]):
+            jobs.append((case, n, settings, seed))
+            owner.append(n)
+    if jobs:
+        label, _ = bar_options(progress, "evidence")
+        bar = tqdm(total=len(jobs), disable=not progress, desc=label, unit="island",
+                   leave=False)
+        try:
+            done = run_in_pool(_island_job, jobs, workers, on_result=lambda _: bar.update(1))
+        finally:
+            bar.close()
+        opts = _evidence_options(settings)
+        record = evidence_settings(settings["particles"], settings["islands"],
+                                   settings["ess_fraction"],
+                                   min_sweeps=opts.get("min_sweeps", 5))
+        for n in dict.fromkeys(owner):
+            runs = [r for r, o in zip(done, owner) if o == n]
+            ev = combine_islands([r for r, _ in runs], case.problem(n).names, record,
+                                 [w for _, w in runs if w])
+            _save_evidence(None if out is None else out / "chains" / f"{n}.evidence.pkl",
+                           ev, settings)
+            evidences[n] = ev
+    return {n: evidences[n] for n in names}
+
+
+def _run_model(case, name, settings, streams, ev, out: Path | None, resume: bool, progress,
                position=None):
+    """Everything after the evidence for one family: a pool job."""
     from .inference.compare import savage_dickey
     from .inference.diagnostics import diagnose, psis_loo
-    from .inference.evidence import tempered_evidence
     from .inference.laplace import laplace_evidence
     from .inference.posterior import sample_posterior
 
@@ -161,18 +228,7 @@ def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, pr
     problem = case.problem(name)
     if progress:
         progress = {"label": name, "position": position}
-    ev_seed, post_seed, sd_seed, nu_seed = seedseq.spawn(4)
-    sweeps = {"min_sweeps": settings["mcmc_steps"]} if settings["mcmc_steps"] else {}
-    ev_file = None if out is None else out / "chains" / f"{name}.evidence.pkl"
-    ev = _load_evidence(ev_file, settings) if resume else None
-    if ev is None:
-        ev = tempered_evidence(problem.log_likelihood, problem.prior,
-                               rng=np.random.default_rng(ev_seed),
-                               n_particles=settings["particles"],
-                               n_islands=settings["islands"],
-                               target_cess=settings["ess_fraction"], progress=progress,
-                               **sweeps)
-        _save_evidence(ev_file, ev, settings)
+    _, post_seed, sd_seed, nu_seed = streams
     ndim = len(problem.names)
     walkers = settings["walkers"] or max(16, 4 * ndim)
     walkers += walkers % 2
@@ -185,7 +241,7 @@ def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, pr
     post = sample_posterior(problem.log_likelihood, problem.prior, rng=rng_post,
                             n_walkers=walkers, n_steps=settings["steps"], initial=start,
                             checkpoint=ckpt, resume=resume, progress=progress,
-                            checkpoint_every=settings["checkpoint_every"])
+                            checkpoint_every=settings["checkpoint_every"], population=pool)
     diag = diagnose(post.chain[post.burn_in:], problem.names,
                     acceptance=post.acceptance_fraction, tau=post.tau)
     samples = post.samples
@@ -213,37 +269,8 @@ def _run_model(case, name, settings, seedseq, out: Path | None, resume: bool, pr
                        one_dimensional=problem.one_dimensional, names=list(problem.names),
                        units=dict(problem.units), evidence=ev, posterior=post,
                        diagnostics=diag, laplace=lap, savage_dickey=sd, loo=loo,
-                       run_time=time.perf_counter() - t0,
+                       run_time=ev.wall_time + time.perf_counter() - t0,
                        nuisance_names=list(problem.marginalised), nuisance_samples=nuis)
-
-
-def _ignore_interrupts() -> None:
-    """Worker initialiser: Ctrl-C reaches the whole process group; only the parent acts on
-    it (it stops the workers), so the workers print no tracebacks of their own."""
-    import signal
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-
-
-def _run_in_pool(workers: int, jobs: list) -> list:
-    """``_run_model(*job)`` for every job over a process pool, in order.
-
-    On any exception in the parent (a Ctrl-C included) the workers are stopped at once;
-    finished evidences and the chain checkpoints already written stay on disk for
-    ``--resume``.
-    """
-    import multiprocessing as mp
-    ctx = mp.get_context("spawn" if os.name == "nt" else "fork")
-    pool = ctx.Pool(workers, initializer=_ignore_interrupts)
-    try:
-        pending = [pool.apply_async(_run_model, job) for job in jobs]
-        results = [p.get() for p in pending]
-        pool.close()
-    except BaseException:
-        pool.terminate()
-        raise
-    finally:
-        pool.join()
-    return results
 
 
 def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume: bool = False,
@@ -273,8 +300,9 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
     write : bool
         Write the output folder (False: compute only).
     workers : int, optional
-        Processes over which the model families are spread (default: one per family, at
-        most the number of CPU cores; 1 runs them in this process). Each family has its own
+        Processes over which the model families, then the figures, are spread (default:
+        the environment variable ``EVIDENCE1D_WORKERS`` or the number of CPU cores, at
+        most one per job; 1 runs everything in this process). Each family has its own
         seed, so the numbers do not depend on this.
 
     Returns
@@ -317,15 +345,15 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
     log(f"settings: {json.dumps(settings)}; models: {', '.join(names)}")
     t0 = time.time()
     seeds = _model_seeds(seed, names)
-    workers = _workers(workers, len(names))
     target = out if write else None
-    if workers > 1:
-        results = _run_in_pool(workers, [(case, n, settings, seeds[n], target, resume,
-                                          progress, i) for i, n in enumerate(names)])
-        results = dict(zip(names, results))
-    else:
-        results = {n: _run_model(case, n, settings, seeds[n], target, resume, progress)
-                   for n in names}
+    log(f"evidence: {settings['islands']} islands per family over "
+        f"{worker_count(workers, len(names) * settings['islands'])} process(es)")
+    evidences = _evidences(case, names, settings, seeds, target, resume, progress,
+                           worker_count(workers, len(names) * settings["islands"]))
+    n_workers = worker_count(workers, len(names))
+    jobs = [(case, n, settings, seeds[n], evidences[n], target, resume, progress,
+             i if n_workers > 1 else None) for i, n in enumerate(names)]
+    results = dict(zip(names, run_in_pool(_run_model, jobs, n_workers)))
     for n, r in results.items():
         log(f"{n}: ln Z = {r.evidence.log_z:.3f} ± {r.evidence.log_z_err:.3f} "
             f"({r.evidence.n_evaluations} + {r.posterior.n_evaluations} evaluations, "
@@ -345,6 +373,6 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
     log(f"verdict: {comparison.verdict}")
     if write:
         from .report import write_report
-        write_report(res, case, figures=figures)
+        write_report(res, case, figures=figures, workers=workers)
         log(f"report written to {out} ({time.time() - t0:.1f} s in all)")
     return res

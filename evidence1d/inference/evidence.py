@@ -74,7 +74,8 @@ from evidence1d.errors import InputError
 from evidence1d.inference.priors import LogUniform
 
 __all__ = ["IslandRun", "EvidenceResult", "tempered_evidence", "log_mean_exp",
-           "systematic_resample"]
+           "systematic_resample", "island_seeds", "run_island", "combine_islands",
+           "evidence_settings", "check_evidence_settings"]
 
 #: Acceptance rate the random-walk step size is steered to (Roberts, Gelman & Gilks 1997).
 _TARGET_ACC = 0.25
@@ -402,12 +403,129 @@ def _run_island(call, prior, rng, n, rho, moved, min_sweeps, max_sweeps, max_tem
     return run, warn
 
 
+def check_evidence_settings(prior, n_particles, n_islands, target_cess=0.5, moved=0.9) -> None:
+    """Raise :class:`~evidence1d.errors.InputError` for settings no evidence run can use
+    (see :func:`tempered_evidence` for their meaning)."""
+    if prior.n_free < 1:
+        raise InputError("there is no free parameter to integrate over")
+    if int(n_particles) < 2 * prior.n_free + 4:
+        raise InputError(f"n_particles must be at least 2 m + 4 = {2 * prior.n_free + 4}; "
+                         f"got {n_particles}")
+    if int(n_islands) < 2:
+        raise InputError(f"n_islands must be at least 2 for an error bar; got {n_islands}")
+    if not 0.0 < target_cess < 1.0 or not 0.0 < moved < 1.0:
+        raise InputError("target_cess and moved must lie strictly between 0 and 1")
+
+
+def island_seeds(rng, n_islands: int) -> list:
+    """The independent random streams of the islands of one evidence run.
+
+    :func:`tempered_evidence` draws its islands' streams with this function, so a caller
+    that runs the islands itself (:func:`run_island`, e.g. on several processes) and
+    combines them (:func:`combine_islands`) gets exactly the same numbers.
+
+    Parameters
+    ----------
+    rng : numpy.random.Generator
+        Parent stream (one integer is drawn from it).
+    n_islands : int
+
+    Returns
+    -------
+    list of numpy.random.SeedSequence
+    """
+    return np.random.SeedSequence(int(rng.integers(0, 2**63 - 1))).spawn(int(n_islands))
+
+
+def run_island(log_likelihood, prior, seed, *, n_particles=200, target_cess=0.5, moved=0.9,
+               min_sweeps=5, max_sweeps=20, max_temperatures=500, bar=None):
+    """One tempered population from the prior (β = 0) to the posterior (β = 1).
+
+    Parameters
+    ----------
+    log_likelihood : callable
+        Vectorised ``f(theta (k, m)) -> (k,)`` in nats.
+    prior : JointPrior
+    seed : numpy.random.SeedSequence
+        This island's stream (from :func:`island_seeds`).
+    n_particles, target_cess, moved, min_sweeps, max_sweeps, max_temperatures
+        As in :func:`tempered_evidence`.
+    bar : tqdm, optional
+        Advanced by the β steps.
+
+    Returns
+    -------
+    IslandRun
+    warning : str or None
+        Set if the schedule hit ``max_temperatures``.
+
+    References
+    ----------
+    .. [1] Del Moral, Doucet & Jasra, JRSS B 68, 411 (2006).
+    """
+    return _run_island(_Counted(log_likelihood), prior, np.random.default_rng(seed),
+                       int(n_particles), target_cess, moved, int(min_sweeps),
+                       int(max_sweeps), int(max_temperatures), bar)
+
+
+def combine_islands(islands, names, settings: dict, warnings=(), wall_time=None):
+    """The evidence and its error bar from independent islands (see the module notes).
+
+    Parameters
+    ----------
+    islands : sequence of IslandRun
+        R ≥ 2 independent populations of the same problem.
+    names : sequence of str
+        Free-parameter names.
+    settings : dict
+        Recorded with the result.
+    warnings : sequence of str
+    wall_time : float, optional
+        Seconds; default the sum of the islands' times (the time of one process running
+        them one after the other).
+
+    Returns
+    -------
+    EvidenceResult
+
+    References
+    ----------
+    .. [1] Del Moral, Doucet & Jasra, JRSS B 68, 411 (2006), Prop. 1: unbiased Ẑ_r.
+    """
+    islands = tuple(islands)
+    warnings = list(warnings)
+    lz = np.array([isl.log_z for isl in islands])
+    r = lz.size
+    err = float(np.std(lz, ddof=1) / math.sqrt(r))
+    if r >= 4:
+        err *= math.sqrt((r - 1.0) / (r - 3.0))
+    else:
+        warnings.append(f"only {r} islands: the error bar is itself very uncertain; use ≥ 4")
+    if wall_time is None:
+        wall_time = float(sum(isl.wall_time for isl in islands))
+    return EvidenceResult(log_z=float(log_mean_exp(lz)), log_z_err=err,
+                          island_log_z=_frozen(lz), islands=islands, names=tuple(names),
+                          n_evaluations=int(sum(isl.n_evaluations for isl in islands)),
+                          wall_time=float(wall_time), settings=dict(settings),
+                          warnings=tuple(dict.fromkeys(warnings)))
+
+
+def evidence_settings(n_particles=200, n_islands=8, target_cess=0.5, moved=0.9, min_sweeps=5,
+                      max_sweeps=20) -> dict:
+    """The settings record of an evidence run (as stored in :attr:`EvidenceResult.settings`)."""
+    return {"n_particles": int(n_particles), "n_islands": int(n_islands),
+            "target_cess": target_cess, "moved": moved, "min_sweeps": int(min_sweeps),
+            "max_sweeps": int(max_sweeps)}
+
+
 def tempered_evidence(log_likelihood, prior, *, rng, n_particles=200, n_islands=8,
                       target_cess=0.5, moved=0.9, min_sweeps=5, max_sweeps=20,
                       max_temperatures=500, progress=True) -> EvidenceResult:
     """Evidence ln Z = ln ∫ L(θ) π(θ) dθ by adaptive-tempering sequential Monte Carlo.
 
-    See the module notes for the algorithm and the error estimate.
+    See the module notes for the algorithm and the error estimate.  The islands run one
+    after the other here; :func:`island_seeds`, :func:`run_island` and
+    :func:`combine_islands` let a caller spread them over processes with the same result.
 
     Parameters
     ----------
@@ -443,17 +561,8 @@ def tempered_evidence(log_likelihood, prior, *, rng, n_particles=200, n_islands=
     .. [1] Del Moral, Doucet & Jasra, JRSS B 68, 411 (2006).
     .. [2] Zhou, Johansen & Aston, JCGS 25, 701 (2016).
     """
-    if prior.n_free < 1:
-        raise InputError("there is no free parameter to integrate over")
-    if int(n_particles) < 2 * prior.n_free + 4:
-        raise InputError(f"n_particles must be at least 2 m + 4 = {2 * prior.n_free + 4}; "
-                         f"got {n_particles}")
-    if int(n_islands) < 2:
-        raise InputError(f"n_islands must be at least 2 for an error bar; got {n_islands}")
-    if not 0.0 < target_cess < 1.0 or not 0.0 < moved < 1.0:
-        raise InputError("target_cess and moved must lie strictly between 0 and 1")
-    call = _Counted(log_likelihood)
-    seeds = np.random.SeedSequence(int(rng.integers(0, 2**63 - 1))).spawn(int(n_islands))
+    check_evidence_settings(prior, n_particles, n_islands, target_cess, moved)
+    seeds = island_seeds(rng, n_islands)
     start = time.perf_counter()
     islands, warnings = [], []
     label, position = _bar_options(progress, "evidence")
@@ -461,25 +570,16 @@ def tempered_evidence(log_likelihood, prior, *, rng, n_particles=200, n_islands=
                leave=False, position=position, bar_format="{l_bar}{bar}| {n:.2f}/{total:.0f} [{elapsed}]")
     try:
         for seq in seeds:
-            run, warn = _run_island(call, prior, np.random.default_rng(seq), int(n_particles),
-                                    target_cess, moved, int(min_sweeps), int(max_sweeps),
-                                    int(max_temperatures), bar)
+            run, warn = run_island(log_likelihood, prior, seq, n_particles=n_particles,
+                                   target_cess=target_cess, moved=moved,
+                                   min_sweeps=min_sweeps, max_sweeps=max_sweeps,
+                                   max_temperatures=max_temperatures, bar=bar)
             islands.append(run)
             if warn:
                 warnings.append(warn)
     finally:
         bar.close()
-    lz = np.array([isl.log_z for isl in islands])
-    r = lz.size
-    err = float(np.std(lz, ddof=1) / math.sqrt(r))
-    if r >= 4:
-        err *= math.sqrt((r - 1.0) / (r - 3.0))
-    else:
-        warnings.append(f"only {r} islands: the error bar is itself very uncertain; use ≥ 4")
-    settings = {"n_particles": int(n_particles), "n_islands": r, "target_cess": target_cess,
-                "moved": moved, "min_sweeps": int(min_sweeps), "max_sweeps": int(max_sweeps)}
-    return EvidenceResult(log_z=float(log_mean_exp(lz)), log_z_err=err,
-                          island_log_z=_frozen(lz), islands=tuple(islands),
-                          names=tuple(prior.free_names), n_evaluations=call.n,
-                          wall_time=time.perf_counter() - start, settings=settings,
-                          warnings=tuple(dict.fromkeys(warnings)))
+    settings = evidence_settings(n_particles, n_islands, target_cess, moved, min_sweeps,
+                                 max_sweeps)
+    return combine_islands(islands, prior.free_names, settings, warnings,
+                           wall_time=time.perf_counter() - start)

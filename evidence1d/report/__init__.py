@@ -19,7 +19,7 @@ from pathlib import Path
 __all__ = ["write_report", "rebuild_report"]
 
 
-def _write_outputs(results, case, figures: bool) -> Path:
+def _write_outputs(results, case, figures: bool, workers: int | None = None) -> Path:
     from .figures import write_figures
     from .latex import render_tables
     from .markdown import render_markdown, report_context
@@ -36,13 +36,13 @@ def _write_outputs(results, case, figures: bool) -> Path:
     atomic_write(out / "tables.tex", render_tables(summary, context))
     if figures:
         write_figures(out / "figures", summary, predictive_data(results, case, summary),
-                      corner_inputs(results, case))
+                      corner_inputs(results, case), workers=workers)
     atomic_write(out / "summary.json", json.dumps(summary, indent=2, ensure_ascii=False,
                                                   allow_nan=False) + "\n")
     return out
 
 
-def write_report(results, case, *, figures: bool = True) -> Path:
+def write_report(results, case, *, figures: bool = True, workers: int | None = None) -> Path:
     """Write the output folder of a run.
 
     Parameters
@@ -53,6 +53,8 @@ def write_report(results, case, *, figures: bool = True) -> Path:
         The case that was run.
     figures : bool
         Draw the figures (PNG and PDF).
+    workers : int, optional
+        Processes that draw the figures (see :func:`evidence1d.parallel.worker_count`).
 
     Returns
     -------
@@ -69,10 +71,10 @@ def write_report(results, case, *, figures: bool = True) -> Path:
     (out / "summary.json").unlink(missing_ok=True)
     case_copy = save_inputs(case, out)
     save_results(results, case_copy)
-    return _write_outputs(results, case, figures)
+    return _write_outputs(results, case, figures, workers)
 
 
-def rebuild_report(folder, *, figures: bool = True) -> Path:
+def rebuild_report(folder, *, figures: bool = True, workers: int | None = None) -> Path:
     """Rewrite summary.json, report.md, tables.tex, samples and figures of a saved run.
 
     Parameters
@@ -81,6 +83,8 @@ def rebuild_report(folder, *, figures: bool = True) -> Path:
         Output folder of a finished run (it holds ``saved/`` and ``inputs/``).
     figures : bool
         Draw the figures.
+    workers : int, optional
+        Processes that draw the figures (see :func:`evidence1d.parallel.worker_count`).
 
     Returns
     -------
@@ -119,4 +123,4 @@ def rebuild_report(folder, *, figures: bool = True) -> Path:
             raise InputError(f"the saved results of '{name}' do not match the copied case "
                              "(different parameters); run the case again",
                              file=results.case_path)
-    return _write_outputs(results, case, figures)
+    return _write_outputs(results, case, figures, workers)

@@ -279,7 +279,23 @@ def comparison_figure(summary: dict):
     return fig
 
 
-def write_figures(folder, summary: dict, predictive: dict, corner_inputs: dict) -> list:
+def _draw(kind: str, folder: Path, args: tuple) -> list:
+    """Draw and save one figure job of :func:`write_figures`; returns the files written."""
+    if kind == "corner":
+        samples, labels, title, stem = args
+        return _save(corner_figure(samples, labels, title=title), folder / stem)
+    if kind == "predictive":
+        block, model, dataset = args
+        written = []
+        for stem, fig in predictive_figures(block, model, dataset):
+            written += _save(fig, folder / stem)
+        return written
+    (summary,) = args
+    return _save(comparison_figure(summary), folder / "comparison")
+
+
+def write_figures(folder, summary: dict, predictive: dict, corner_inputs: dict,
+                  workers: int | None = 1) -> list:
     """Draw and save every figure, PNG and PDF.
 
     Parameters
@@ -292,6 +308,9 @@ def write_figures(folder, summary: dict, predictive: dict, corner_inputs: dict) 
         From :func:`~evidence1d.report.summary.predictive_data`.
     corner_inputs : dict
         model -> {"samples": (n, k) array, "labels": list of str}.
+    workers : int, optional
+        Processes drawing the figures in parallel (None: see
+        :func:`evidence1d.parallel.worker_count`); the files do not depend on it.
 
     Returns
     -------
@@ -302,15 +321,15 @@ def write_figures(folder, summary: dict, predictive: dict, corner_inputs: dict) 
     ----------
     .. [1] Hunter, Comput. Sci. Eng. 9, 90 (2007).
     """
+    from ..parallel import run_in_pool, worker_count
     folder = Path(folder)
-    written = []
-    for model, ci in corner_inputs.items():
-        fig = corner_figure(ci["samples"], ci["labels"],
-                            title=f"{summary['models'][model]['title']} ({model})")
-        written += _save(fig, folder / f"corner_{model}")
-    for model, per in predictive.items():
-        for dataset, block in per.items():
-            for stem, fig in predictive_figures(block, model, dataset):
-                written += _save(fig, folder / stem)
-    written += _save(comparison_figure(summary), folder / "comparison")
-    return written
+    jobs = [("corner", folder, (ci["samples"], ci["labels"],
+                                f"{summary['models'][model]['title']} ({model})",
+                                f"corner_{model}"))
+            for model, ci in corner_inputs.items()]
+    jobs += [("predictive", folder, (block, model, dataset))
+             for model, per in predictive.items() for dataset, block in per.items()]
+    jobs.append(("comparison", folder, (summary,)))
+    # the corner plots are the slowest: start them first
+    return [f for files in run_in_pool(_draw, jobs, worker_count(workers, len(jobs)))
+            for f in files]
