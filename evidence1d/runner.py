@@ -25,7 +25,7 @@ from .parallel import run_in_pool, worker_count
 __all__ = ["ModelResult", "RunResults", "run", "effective_settings", "QUICK"]
 
 #: reductions applied by ``--quick`` (a first look, not for publication)
-QUICK = {"steps": 400, "particles": 150, "islands": 2}
+QUICK = {"steps": 300, "particles": 150, "islands": 2}
 
 
 @dataclass(frozen=True)
@@ -243,7 +243,8 @@ def _run_model(case, name, settings, streams, ev, out: Path | None, resume: bool
                             checkpoint=ckpt, resume=resume, progress=progress,
                             checkpoint_every=settings["checkpoint_every"], population=pool)
     diag = diagnose(post.chain[post.burn_in:], problem.names,
-                    acceptance=post.acceptance_fraction, tau=post.tau)
+                    acceptance=post.acceptance_fraction, tau=post.tau,
+                    independence=post.population_moves)
     samples = post.samples
     lap = laplace_evidence(problem.log_likelihood, problem.prior, samples=samples,
                            optimise=False)

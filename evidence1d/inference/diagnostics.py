@@ -13,7 +13,10 @@ Thresholds (a run that fails any of them is flagged, with the consequence and th
 * chain length > 50 τ, τ the integrated autocorrelation time (emcee documentation, common
   practice);
 * mean acceptance fraction in [0.15, 0.7] (common practice for ensemble samplers,
-  Foreman-Mackey et al. 2013).
+  Foreman-Mackey et al. 2013).  The upper limit guards against local moves too short to
+  go anywhere; it is not applied (``independence=True``) when most moves are independence
+  proposals, whose acceptance tends to 1 as the proposal approaches the posterior
+  (Tierney 1994): there a high acceptance is the aim, and R-hat, ESS and τ judge mixing.
 
 The walkers of an ensemble are treated as the chains of R-hat (common practice).  arviz 0.2x
 and 1.x differ in their entry points; the calls below try the current form first and fall back,
@@ -27,6 +30,7 @@ References
 .. [2] A. Vehtari, A. Gelman and J. Gabry, "Practical Bayesian model evaluation using
    leave-one-out cross-validation and WAIC", Stat. Comput. 27, 1413 (2017).
 .. [3] D. Foreman-Mackey et al., PASP 125, 306 (2013).
+.. [4] L. Tierney, Ann. Statist. 22, 1701 (1994).
 """
 from __future__ import annotations
 
@@ -107,7 +111,8 @@ class Diagnostics:
                                for k, v in self.thresholds.items()}}
 
 
-def diagnose(chain, names, log_prob=None, acceptance=None, tau=None) -> Diagnostics:
+def diagnose(chain, names, log_prob=None, acceptance=None, tau=None,
+             independence: bool = False) -> Diagnostics:
     """R-hat, bulk/tail ESS, autocorrelation time and acceptance, checked against thresholds.
 
     Parameters
@@ -122,6 +127,8 @@ def diagnose(chain, names, log_prob=None, acceptance=None, tau=None) -> Diagnost
         Acceptance fractions.
     tau : ndarray (m,), optional
         Autocorrelation times; computed with emcee.autocorr.integrated_time(tol=0) if absent.
+    independence : bool
+        Most moves were independence proposals: no upper limit on the acceptance.
 
     Returns
     -------
@@ -182,6 +189,8 @@ def diagnose(chain, names, log_prob=None, acceptance=None, tau=None) -> Diagnost
                         "the burn-in are uncertain; run at least "
                         f"{int(np.ceil(t['length_over_tau_min'] * v))} steps")
     lo, hi = t["acceptance_range"]
+    if independence:
+        hi = 1.0
     if acc is not None and not lo <= acc <= hi:
         warn.append(f"mean acceptance fraction {acc:.2f} lies outside [{lo}, {hi}]: the "
                     "walkers move badly, so mixing is poor; check the priors' ranges and the "

@@ -116,6 +116,8 @@ class PosteriorResult:
         Steps read from the checkpoint (0 for a fresh run).
     warnings : tuple of str
         Problems noticed while choosing burn-in (chain too short for its τ).
+    population_moves : bool
+        Most moves were independence proposals from a population (:func:`population_moves`).
     """
 
     names: tuple
@@ -130,6 +132,7 @@ class PosteriorResult:
     n_evaluations: int
     resumed_from: int = 0
     warnings: tuple = field(default_factory=tuple)
+    population_moves: bool = False
     burn_in_rule: str = (f"burn-in = {BURN_IN_FACTOR:g} × max τ (capped at half the chain); "
                          f"thin = max(1, ⌊{THIN_FACTOR:g} × min τ⌋)")
 
@@ -149,6 +152,7 @@ class PosteriorResult:
             "mean_acceptance_fraction": float(np.mean(self.acceptance_fraction)),
             "n_samples": int(self.samples.shape[0]), "n_evaluations": self.n_evaluations,
             "resumed_from": self.resumed_from, "burn_in_rule": self.burn_in_rule,
+            "population_moves": self.population_moves,
             "warnings": list(self.warnings),
             "mean": dict(zip(self.names, np.mean(self.samples, axis=0).tolist())),
             "sd": dict(zip(self.names, np.std(self.samples, axis=0, ddof=1).tolist())),
@@ -478,10 +482,12 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
     backend, start = (None, 0)
     if checkpoint is not None:
         backend, start = _open_checkpoint(checkpoint, resume, prior.free_names, n_walkers, m)
-    sampler = emcee.EnsembleSampler(n_walkers, m, target, vectorize=True,
-                                    moves=moves if moves is not None else (
-                                        default_moves() if population is None
-                                        else population_moves(population)))
+    if moves is None:
+        moves = default_moves() if population is None else population_moves(population)
+    independence = any(isinstance(mv, emcee.moves.MHMove)
+                       and isinstance(mv.get_proposal, PopulationProposal)
+                       and w >= 0.5 * sum(wt for _, wt in moves) for mv, w in moves)
+    sampler = emcee.EnsembleSampler(n_walkers, m, target, vectorize=True, moves=moves)
     # call the target directly: emcee's wrapper prints a traceback of every exception it
     # sees (a Ctrl-C included) before re-raising it
     sampler.log_prob_fn = target
@@ -554,4 +560,5 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
         samples=_frozen(kept.reshape(-1, m)),
         samples_log_prob=_frozen(lps[burn_in::thin].reshape(-1)), burn_in=burn_in, thin=thin,
         tau=_frozen(tau), acceptance_fraction=_frozen(accept),
-        n_evaluations=target.n_evaluations, resumed_from=start, warnings=tuple(warnings))
+        n_evaluations=target.n_evaluations, resumed_from=start, warnings=tuple(warnings),
+        population_moves=independence)

@@ -227,7 +227,8 @@ def save_results(results, case_file: Path) -> None:
             "posterior": {"names": list(post.names), "burn_in": post.burn_in,
                           "thin": post.thin, "n_evaluations": post.n_evaluations,
                           "resumed_from": post.resumed_from, "warnings": list(post.warnings),
-                          "burn_in_rule": post.burn_in_rule},
+                          "burn_in_rule": post.burn_in_rule,
+                          "population_moves": post.population_moves},
             "diagnostics": mr.diagnostics.to_dict(),
             "laplace": None if mr.laplace is None else
             {"log_z": mr.laplace.log_z, "method": mr.laplace.method, "label": mr.laplace.label},
@@ -326,7 +327,8 @@ def load_results(out):
                                acceptance_fraction=_frozen(a["acceptance_fraction"]),
                                n_evaluations=p["n_evaluations"],
                                resumed_from=p["resumed_from"], warnings=tuple(p["warnings"]),
-                               burn_in_rule=p["burn_in_rule"])
+                               burn_in_rule=p["burn_in_rule"],
+                               population_moves=p.get("population_moves", False))
         d = dict(m["diagnostics"])
         d["names"] = tuple(d["names"])
         d["warnings"] = tuple(d["warnings"])

@@ -144,6 +144,7 @@ def test_population_moves_sample_a_twisted_gaussian_exactly_and_faster(rng):
     assert abs(s[:, 0].var() - 1.0) < 0.1
     assert abs(s[:, 1].var() / var1 - 1.0) < 0.15
     assert np.max(res.tau) < np.max(local.tau) / 3
+    assert res.population_moves and not local.population_moves
     assert len(population_moves(pop)) == 4
 
 
