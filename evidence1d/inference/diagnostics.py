@@ -13,10 +13,12 @@ Thresholds (a run that fails any of them is flagged, with the consequence and th
 * chain length > 50 τ, τ the integrated autocorrelation time (emcee documentation, common
   practice);
 * mean acceptance fraction in [0.15, 0.7] (common practice for ensemble samplers,
-  Foreman-Mackey et al. 2013).  The upper limit guards against local moves too short to
-  go anywhere; it is not applied (``independence=True``) when most moves are independence
-  proposals, whose acceptance tends to 1 as the proposal approaches the posterior
-  (Tierney 1994): there a high acceptance is the aim, and R-hat, ESS and τ judge mixing.
+  Foreman-Mackey et al. 2013).  The range is a proxy for the step size of local moves
+  (too long: nothing accepted; too short: everything accepted, nothing explored).  It is
+  not applied (``independence=True``) when most moves are independence proposals: their
+  acceptance tends to 1 as the proposal approaches the posterior (Tierney 1994), and is
+  low, without harm, where the population that shapes them under-weights the best mode;
+  there R-hat, ESS and τ, which measure mixing directly, decide alone.
 
 The walkers of an ensemble are treated as the chains of R-hat (common practice).  arviz 0.2x
 and 1.x differ in their entry points; the calls below try the current form first and fall back,
@@ -128,7 +130,7 @@ def diagnose(chain, names, log_prob=None, acceptance=None, tau=None,
     tau : ndarray (m,), optional
         Autocorrelation times; computed with emcee.autocorr.integrated_time(tol=0) if absent.
     independence : bool
-        Most moves were independence proposals: no upper limit on the acceptance.
+        Most moves were independence proposals: the acceptance is reported, not checked.
 
     Returns
     -------
@@ -189,9 +191,7 @@ def diagnose(chain, names, log_prob=None, acceptance=None, tau=None,
                         "the burn-in are uncertain; run at least "
                         f"{int(np.ceil(t['length_over_tau_min'] * v))} steps")
     lo, hi = t["acceptance_range"]
-    if independence:
-        hi = 1.0
-    if acc is not None and not lo <= acc <= hi:
+    if acc is not None and not independence and not lo <= acc <= hi:
         warn.append(f"mean acceptance fraction {acc:.2f} lies outside [{lo}, {hi}]: the "
                     "walkers move badly, so mixing is poor; check the priors' ranges and the "
                     "starting points, or change the moves")

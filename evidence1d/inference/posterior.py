@@ -118,6 +118,10 @@ class PosteriorResult:
         Problems noticed while choosing burn-in (chain too short for its τ).
     population_moves : bool
         Most moves were independence proposals from a population (:func:`population_moves`).
+    move_acceptance : dict
+        ``{"population": f, "local": f}``: acceptance fractions of the population proposals
+        and of the local moves in this session's steps (empty for a chain read whole from
+        its checkpoint).
     """
 
     names: tuple
@@ -133,6 +137,7 @@ class PosteriorResult:
     resumed_from: int = 0
     warnings: tuple = field(default_factory=tuple)
     population_moves: bool = False
+    move_acceptance: dict = field(default_factory=dict)
     burn_in_rule: str = (f"burn-in = {BURN_IN_FACTOR:g} × max τ (capped at half the chain); "
                          f"thin = max(1, ⌊{THIN_FACTOR:g} × min τ⌋)")
 
@@ -153,6 +158,7 @@ class PosteriorResult:
             "n_samples": int(self.samples.shape[0]), "n_evaluations": self.n_evaluations,
             "resumed_from": self.resumed_from, "burn_in_rule": self.burn_in_rule,
             "population_moves": self.population_moves,
+            "move_acceptance": dict(self.move_acceptance),
             "warnings": list(self.warnings),
             "mean": dict(zip(self.names, np.mean(self.samples, axis=0).tolist())),
             "sd": dict(zip(self.names, np.std(self.samples, axis=0, ddof=1).tolist())),
@@ -317,6 +323,42 @@ def population_moves(population):
     rest = 1.0 - POPULATION_WEIGHT
     return ([(emcee.moves.MHMove(proposal), POPULATION_WEIGHT)]
             + [(mv, w * rest) for mv, w in default_moves()])
+
+
+class _Tallied:
+    """An emcee move that counts its own proposals and acceptances (emcee counts only the
+    total over all moves).  Delegates everything else, so the chain is unchanged."""
+
+    def __init__(self, move):
+        self.move = move
+        self.accepted = 0
+        self.proposed = 0
+
+    def propose(self, model, state):
+        state, accepted = self.move.propose(model, state)
+        self.accepted += int(np.sum(accepted))
+        self.proposed += int(np.size(accepted))
+        return state, accepted
+
+    def tune(self, state, accepted):
+        return self.move.tune(state, accepted)
+
+    @property
+    def is_population(self) -> bool:
+        return (isinstance(self.move, emcee.moves.MHMove)
+                and isinstance(self.move.get_proposal, PopulationProposal))
+
+
+def _move_acceptance(tallied) -> dict:
+    """Acceptance fractions of the population proposals and of the local moves (this
+    session's steps only; empty if none were made)."""
+    out = {}
+    for key, group in (("population", [t for t in tallied if t.is_population]),
+                       ("local", [t for t in tallied if not t.is_population])):
+        n = sum(t.proposed for t in group)
+        if n:
+            out[key] = sum(t.accepted for t in group) / n
+    return out
 
 
 def _initial_walkers(target, prior, rng, n_walkers, optimise):
@@ -484,10 +526,10 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
         backend, start = _open_checkpoint(checkpoint, resume, prior.free_names, n_walkers, m)
     if moves is None:
         moves = default_moves() if population is None else population_moves(population)
-    independence = any(isinstance(mv, emcee.moves.MHMove)
-                       and isinstance(mv.get_proposal, PopulationProposal)
-                       and w >= 0.5 * sum(wt for _, wt in moves) for mv, w in moves)
-    sampler = emcee.EnsembleSampler(n_walkers, m, target, vectorize=True, moves=moves)
+    tallied = [(_Tallied(mv), w) for mv, w in moves]
+    independence = any(t.is_population and w >= 0.5 * sum(wt for _, wt in tallied)
+                       for t, w in tallied)
+    sampler = emcee.EnsembleSampler(n_walkers, m, target, vectorize=True, moves=tallied)
     # call the target directly: emcee's wrapper prints a traceback of every exception it
     # sees (a Ctrl-C included) before re-raising it
     sampler.log_prob_fn = target
@@ -561,4 +603,5 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
         samples_log_prob=_frozen(lps[burn_in::thin].reshape(-1)), burn_in=burn_in, thin=thin,
         tau=_frozen(tau), acceptance_fraction=_frozen(accept),
         n_evaluations=target.n_evaluations, resumed_from=start, warnings=tuple(warnings),
-        population_moves=independence)
+        population_moves=independence,
+        move_acceptance=_move_acceptance([t for t, _ in tallied]))

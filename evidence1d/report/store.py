@@ -228,7 +228,8 @@ def save_results(results, case_file: Path) -> None:
                           "thin": post.thin, "n_evaluations": post.n_evaluations,
                           "resumed_from": post.resumed_from, "warnings": list(post.warnings),
                           "burn_in_rule": post.burn_in_rule,
-                          "population_moves": post.population_moves},
+                          "population_moves": post.population_moves,
+                          "move_acceptance": dict(post.move_acceptance)},
             "diagnostics": mr.diagnostics.to_dict(),
             "laplace": None if mr.laplace is None else
             {"log_z": mr.laplace.log_z, "method": mr.laplace.method, "label": mr.laplace.label},
@@ -328,7 +329,8 @@ def load_results(out):
                                n_evaluations=p["n_evaluations"],
                                resumed_from=p["resumed_from"], warnings=tuple(p["warnings"]),
                                burn_in_rule=p["burn_in_rule"],
-                               population_moves=p.get("population_moves", False))
+                               population_moves=p.get("population_moves", False),
+                               move_acceptance=p.get("move_acceptance", {}))
         d = dict(m["diagnostics"])
         d["names"] = tuple(d["names"])
         d["warnings"] = tuple(d["warnings"])
