@@ -65,8 +65,11 @@ def _resume_and_compare(case, out, ref, capsys, *extra):
     assert set(got["models"]) == set(ref["models"])
     for name, r in ref["models"].items():
         g = got["models"][name]
-        # the evidence is deterministic given the seed: reused or recomputed, it is equal
-        assert g["log_evidence"] == r["log_evidence"], name
+        # the evidence is deterministic given the seed: reused or recomputed, it is equal to
+        # rounding (the interrupted run computed its islands in pool workers, the reference
+        # in this process; they have been seen to differ in the last bit, 1e-16 relative)
+        assert abs(g["log_evidence"] - r["log_evidence"]) <= 1e-12 * abs(r["log_evidence"]), \
+            name
         for p, q in r["parameters"].items():
             a = g["parameters"][p]
             sd = max(q["q84"] - q["q16"], a["q84"] - a["q16"]) / 2.0
