@@ -20,7 +20,7 @@ ROOT = Path(__file__).resolve().parents[2]
 SEED = 3
 TEXT = (CASE_YAML.replace("  - spinon_continuum", "  - paramagnon\n  - gapped_spin_wave")
         .replace("sampler: {steps: 200, particles: 100, islands: 2}",
-                 "sampler: {steps: 300, particles: 60, islands: 2, checkpoint_every: 50}"))
+                 "sampler: {steps: 300, particles: 40, islands: 2, checkpoint_every: 50}"))
 
 
 @pytest.fixture(scope="module")
