@@ -1,6 +1,7 @@
 """Process pools of a run: how many workers, how they start, and how a Ctrl-C stops them.
 
-Used by :func:`evidence1d.runner.run` (one job per model family) and by
+Used by :func:`evidence1d.runner.run` (one job per evidence island, then one per model
+family) and by
 :func:`evidence1d.report.figures.write_figures` (one job per figure).  Jobs are run with the
 ``fork`` start method where the platform has it (``spawn`` on Windows), results come back in
 job order, and an exception in the parent (a Ctrl-C included) stops every worker at once.
@@ -74,7 +75,8 @@ def run_in_pool(fn, jobs: list, workers: int, on_result=None) -> list:
         from threadpoolctl import threadpool_limits
         results = []
         # one BLAS thread here too, as in the workers: threaded BLAS sums in another order,
-        # and the numbers must not depend on the number of processes, to the last bit
+        # and the numbers must not depend on the number of processes (a last-bit difference
+        # of unknown cause remains; tests/reliability/test_interrupt.py compares to rounding)
         with threadpool_limits(limits=1, user_api="blas"):
             for job in jobs:
                 results.append(fn(*job))

@@ -118,6 +118,11 @@ def _model_seeds(seed: int, names):
     return {n: tuple(c.spawn(4)) for n, c in zip(names, children)}
 
 
+def _evidence_file(out: Path | None, name: str) -> Path | None:
+    """Where a family's finished evidence is kept for ``--resume`` (None: not written)."""
+    return None if out is None else out / "chains" / f"{name}.evidence.pkl"
+
+
 def _save_evidence(path: Path | None, ev, settings) -> None:
     """Keep a finished evidence run (atomically) so that ``--resume`` need not redo it."""
     if path is None:
@@ -185,8 +190,7 @@ def _evidences(case, names, settings, seeds, out: Path | None, resume: bool, pro
         problem = case.problem(n)
         check_evidence_settings(problem.prior, settings["particles"], settings["islands"],
                                 settings["ess_fraction"])
-        ev_file = None if out is None else out / "chains" / f"{n}.evidence.pkl"
-        ev = _load_evidence(ev_file, settings) if resume else None
+        ev = _load_evidence(_evidence_file(out, n), settings) if resume else None
         if ev is not None:
             evidences[n] = ev
             continue
@@ -202,16 +206,12 @@ def _evidences(case, names, settings, seeds, out: Path | None, resume: bool, pro
             done = run_in_pool(_island_job, jobs, workers, on_result=lambda _: bar.update(1))
         finally:
             bar.close()
-        opts = _evidence_options(settings)
-        record = evidence_settings(settings["particles"], settings["islands"],
-                                   settings["ess_fraction"],
-                                   min_sweeps=opts.get("min_sweeps", 5))
+        record = evidence_settings(n_islands=settings["islands"], **_evidence_options(settings))
         for n in dict.fromkeys(owner):
             runs = [r for r, o in zip(done, owner) if o == n]
             ev = combine_islands([r for r, _ in runs], case.problem(n).names, record,
                                  [w for _, w in runs if w])
-            _save_evidence(None if out is None else out / "chains" / f"{n}.evidence.pkl",
-                           ev, settings)
+            _save_evidence(_evidence_file(out, n), ev, settings)
             evidences[n] = ev
     return {n: evidences[n] for n in names}
 
