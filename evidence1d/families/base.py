@@ -48,6 +48,12 @@ class SpectralPoints:
         Gaussian energy-resolution standard deviation in meV (FWHM / 2.3548).
     temperature : float
         Sample temperature in K.
+    sigma_Q_par, sigma_Q_perp : float or ndarray, shape (n,)
+        Gaussian momentum-resolution standard deviations in Å⁻¹ along the chain and across
+        it (along a); 0 (default) means no momentum resolution.  A family whose
+        :attr:`Family.handles_q_resolution` is true applies them itself (for example through
+        σ_eff² = σ² + (∂ω/∂Q_∥ σ_Q∥)² + (∂ω/∂Q_⊥ σ_Q⊥)² for a sharp mode); for any other
+        family the generic layer averages the family's answer over Gauss–Hermite nodes in Q.
     """
 
     Q_par: np.ndarray
@@ -59,6 +65,14 @@ class SpectralPoints:
     energy: np.ndarray
     sigma: np.ndarray
     temperature: float
+    sigma_Q_par: np.ndarray | float = 0.0
+    sigma_Q_perp: np.ndarray | float = 0.0
+
+    @property
+    def has_q_resolution(self) -> bool:
+        """Whether any momentum-resolution width is non-zero."""
+        return bool(np.any(np.asarray(self.sigma_Q_par) > 0)
+                    or np.any(np.asarray(self.sigma_Q_perp) > 0))
 
     @property
     def q_par(self) -> np.ndarray:
@@ -97,6 +111,13 @@ class Family:
 
     #: physical parameter names, in the order of the model card
     parameters: tuple[str, ...] = ()
+
+    #: sample spins the family's physics holds for (``None``: any spin S > 0); the case
+    #: loader rejects any other spin with a one-line error
+    spins: tuple[float, ...] | None = None
+
+    #: whether :meth:`spectrum` applies the momentum resolution of ``pts`` itself
+    handles_q_resolution: bool = False
 
     def __init__(self, spin: float = 0.5):
         self.spin = float(spin)
