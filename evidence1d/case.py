@@ -47,7 +47,10 @@ _SAMPLE = Spec({
 }, what="the sample block")
 
 _RESOLUTION = Spec({"fwhm": Field(as_float_list, required=True,
-                                  help="FWHM polynomial coefficients c0 + c1 E + ... in meV")},
+                                  help="FWHM polynomial coefficients c0 + c1 E + ... in meV"),
+                    "q_fwhm": Field(as_float_list, default=None,
+                                    help="momentum-resolution FWHM [along the chain, across "
+                                         "it] in the dataset's wavevector unit")},
                    what="resolution")
 _POWDER = Spec({"n_theta": Field(as_positive_int, default=16),
                 "n_phi": Field(as_positive_int, default=4)}, what="powder_average")
@@ -244,6 +247,31 @@ def _check_resolution(ds, doc, where) -> None:
                         "energies", f"{where}.resolution.fwhm")
 
 
+def _check_q_resolution(b, doc, where) -> None:
+    """A momentum resolution is two non-negative widths, for single-crystal data only."""
+    qf = b["resolution"].get("q_fwhm")
+    if qf is None:
+        return
+    key = f"{where}.resolution.q_fwhm"
+    if b["kind"] != "crystal_spectrum":
+        raise doc.error("a momentum resolution applies to single-crystal spectra only; for a "
+                        "powder spectrum remove 'q_fwhm'", key)
+    if len(qf) != 2 or not all(v >= 0 for v in qf):
+        raise doc.error(f"expected two widths >= 0 [along the chain, across it] in the "
+                        f"dataset's wavevector unit; got {list(qf)!r} instead", key)
+
+
+def _check_spin(card, sample, doc, where) -> None:
+    """A family whose physics holds for certain spins only rejects any other sample spin."""
+    from .families import FAMILY_CLASSES
+    spins = getattr(FAMILY_CLASSES[card.family], "spins", None)
+    if spins is not None and not any(abs(sample.spin - s) < 1e-9 for s in spins):
+        allowed = " or ".join(f"{s:g}" for s in spins)
+        raise doc.error(f"model '{card.name}' describes spin {allowed} only, but the sample's "
+                        f"spin is {sample.spin:g}; remove the model from 'models' or correct "
+                        "sample.spin", where)
+
+
 def load_case(path) -> Case:
     """Read and validate a case file.
 
@@ -300,6 +328,7 @@ def load_case(path) -> Case:
                                        " {fwhm: [c0, c1, ...]} in meV"), where)
             b["resolution"] = check_mapping(b["resolution"], _RESOLUTION,
                                             f"{where}.resolution", doc)
+            _check_q_resolution(b, doc, where)
             if b["powder_average"] is not None:
                 b["powder_average"] = check_mapping(b["powder_average"], _POWDER,
                                                     f"{where}.powder_average", doc)
@@ -346,6 +375,7 @@ def load_case(path) -> Case:
             card = load_card(cpath)
         if card.name in models:
             raise doc.error(f"model '{card.name}' is listed twice", where)
+        _check_spin(card, sample, doc, where)
         overrides = {}
         for pk, spec in (m["priors"] or {}).items():
             if pk not in card.parameters:

@@ -39,6 +39,23 @@ SAMPLE_EXTRAS = {
 }
 
 
+def _q_sigmas(dataset, sample) -> tuple[float, float]:
+    """Momentum-resolution standard deviations (Å⁻¹) along and across the chain.
+
+    ``resolution.q_fwhm`` holds FWHMs in the dataset's wavevector unit; r.l.u. along the
+    chain (c) and across it (a) convert with 2π/c and 2π/a, as the wavevectors do.
+    """
+    from ..physics.neutron import FWHM_PER_SIGMA
+    qf = (dataset.options.get("resolution") or {}).get("q_fwhm")
+    if not qf:
+        return 0.0, 0.0
+    f_par, f_perp = float(qf[0]), float(qf[1])
+    if dataset.units.get("wavevector") == "rlu":
+        f_par *= 2.0 * np.pi / sample.lattice["c"]
+        f_perp *= 2.0 * np.pi / sample.lattice["a"]
+    return f_par / FWHM_PER_SIGMA, f_perp / FWHM_PER_SIGMA
+
+
 def _span(y):
     lo, hi = np.percentile(y, [2.0, 98.0])
     return float(max(hi - lo, 1e-12 * max(abs(hi), 1.0), 1e-300))
@@ -86,11 +103,13 @@ class DatasetPredictor:
             self._E = E
             if dataset.kind == "crystal_spectrum":
                 Q_par, Q_a = dataset.x["Q_par"], dataset.x["Q_perp"]
+                sq_par, sq_perp = _q_sigmas(dataset, sample)
                 self._pts = SpectralPoints(Q_par=Q_par, Q_a=Q_a, Q_b=np.zeros_like(Q_par),
                                            d=sample.spin_spacing, a_perp=sample.lattice["a"],
                                            b_perp=sample.lattice["b"], energy=E,
                                            sigma=self._sigma,
-                                           temperature=float(opt["temperature"]))
+                                           temperature=float(opt["temperature"]),
+                                           sigma_Q_par=sq_par, sigma_Q_perp=sq_perp)
                 self._Q = self._pts.Q
                 self._ndir = 1
             else:
@@ -215,7 +234,11 @@ class DatasetPredictor:
         if ds.kind in ("crystal_spectrum", "powder_spectrum"):
             from ..physics import neutron
             g = p.get("g", 2.0)
-            S = fam.spectrum(p, self._pts)
+            if self._pts.has_q_resolution and not fam.handles_q_resolution:
+                from .qresolution import q_averaged_spectrum
+                S = q_averaged_spectrum(fam, p, self._pts)
+            else:
+                S = fam.spectrum(p, self._pts)
             if self._ndir > 1:
                 S = (S.reshape(S.shape[0], -1, self._ndir) * self._wdir).sum(axis=-1)
             F = neutron.magnetic_form_factor(self._Q, self.sample.ion, self.sample.charge, g)
