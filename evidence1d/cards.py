@@ -3,7 +3,9 @@
 A card names the registered :class:`~evidence1d.families.base.Family` that computes its
 predictions, says whether the family is one-dimensional, and lists its physical parameters
 in sampling order with units, descriptions and default priors.  Bundled cards live in the
-top-level ``models/`` folder; a case file may point at a card file of the user's own.
+top-level ``models/`` folder of the source tree (the one copy in version control); the build
+ships that folder inside the wheel as ``evidence1d/models/`` (pyproject.toml maps it).  A case
+file may point at a card file of the user's own.
 """
 from __future__ import annotations
 
@@ -15,9 +17,22 @@ from .schema import Field, Spec, as_bool, as_float, as_str, check_mapping, load_
 
 __all__ = ["ModelCard", "load_card", "bundled_cards", "card_path", "CARD_DIRS"]
 
-#: folders searched for bundled cards: the source tree's models/ and the installed copy
-CARD_DIRS = (Path(__file__).resolve().parent.parent / "models",
-             Path(__file__).resolve().parent / "cards")
+_PACKAGE = Path(__file__).resolve().parent
+
+
+def _card_dirs() -> tuple:
+    """Folders that hold the bundled cards: the copy inside an installed wheel
+    (``evidence1d/models/``), then the source tree's top-level ``models/`` (a checkout or an
+    editable install; recognised by the ``pyproject.toml`` beside it, so that an unrelated
+    ``models`` folder next to an installed package is never read)."""
+    dirs = [_PACKAGE / "models"]
+    if (_PACKAGE.parent / "pyproject.toml").is_file():
+        dirs.append(_PACKAGE.parent / "models")
+    return tuple(dirs)
+
+
+#: folders searched for bundled cards, in order (the first card of a name wins)
+CARD_DIRS = _card_dirs()
 
 
 def _as_str_list(v, where):

@@ -9,6 +9,7 @@ import argparse
 import sys
 from pathlib import Path
 
+from . import __version__
 from .errors import InputError
 
 __all__ = ["main"]
@@ -32,6 +33,8 @@ def _parser() -> argparse.ArgumentParser:
                     "evidences and Bayes factors.",
         epilog="run 'evidence1d COMMAND --help' for each command's options and an example")
     p.add_argument("--debug", action="store_true", help="show tracebacks of errors")
+    p.add_argument("--version", action="version", version=f"evidence1d {__version__}",
+                   help="print the version and exit")
     sub = p.add_subparsers(dest="command", metavar="COMMAND")
     fmt = argparse.RawDescriptionHelpFormatter
 
