@@ -19,10 +19,17 @@ the line shape neglects it so that the spectrum is continuous through Δ = 1.
 Its resolution convolution with detailed balance, :func:`spinon_spectrum`, lives in
 :mod:`evidence1d.physics.chain_spectrum` and is re-exported here.
 
-The amplitude A(q) follows from the first-moment sum rule of the total structure factor,
-∫ ω S(q, ω) dω = −2 (1 − cos q) E_0/N   (Hohenberg & Brinkman 1974),
-exact at Δ = 1; for Δ ≠ 1 the same relation is used with the exact XXZ ground-state energy
-E_0(Δ) (a documented choice: the true total first moment differs by O(Δ − 1) terms).
+The amplitude A(q) follows from the exact first moments of the three spin components
+(double-commutator sum rule, Hohenberg & Brinkman 1974;
+:mod:`evidence1d.physics.chain_ground_state`),
+M1^zz = −2J(1 − cos q)C_xx and M1^xx = M1^yy = J[(Δ − 1)(C_xx − C_zz) − (1 − cos q)(ΔC_xx + C_zz)],
+with the ground-state correlators C_zz = ∂e₀/∂Δ, C_xx = (e₀ − ΔC_zz)/2 (Hellmann–Feynman).
+All three components share the edges, so the summed line shape is the Müller shape with
+the summed moment: A = Σ_a A_a, A_a √(ω_T² − ω_L²) = M1^aa.  For Δ < 1 the q-independent
+part of each transverse moment, J(Δ − 1)(C_xx − C_zz), is left out (it cannot live in a
+continuum that collapses onto ω = 0 at q → 0; see
+:func:`~evidence1d.physics.chain_ground_state.continuum_first_moment`).  At Δ = 1 this is
+the classic −2(1 − cos q)E_0/N.
 
 Regularisation: the lower edge used by the line shape is floored at ``OMEGA_FLOOR`` × ω_T
 (ω_L → 0 at q → 0 and q → π in the gapless regime), which caps the logarithmically
@@ -41,37 +48,24 @@ L. Hulthén, Ark. Mat. Astron. Fys. 26A, No. 11 (1938).
 """
 from __future__ import annotations
 
-import functools
-import math
-
 import numpy as np
-from scipy import interpolate
 
-from ..errors import InputError
+from .chain_ground_state import (_E0_ERROR, _E0_GRID, _as_params, _e0_spline,  # noqa: F401
+                                 _ground_state_energy_fast, continuum_first_moment,
+                                 first_moment, first_moment_components,
+                                 nearest_neighbour_correlators, xxz_ground_state_energy)
 
 __all__ = ["spinon_bounds", "spinon_gap", "xxz_ground_state_energy", "first_moment",
-           "muller_edges", "muller_amplitude", "muller_density", "muller_cumulative",
+           "first_moment_components", "nearest_neighbour_correlators",
+           "continuum_first_moment", "muller_edges", "muller_amplitude", "muller_density",
+           "muller_cumulative",
            "spinon_spectrum", "OMEGA_FLOOR"]
 
 #: Floor of the line-shape lower edge, as a fraction of the upper edge ω_T.
 OMEGA_FLOOR = 1e-3
-_E0_GRID = (-0.9, 4.0, 2e-3)        # tabulated E_0(Δ): first node, last node, spacing
-_E0_ERROR = 1e-11                   # stated bound of the interpolation error of E_0/(NJ)
 
 
 # ------------------------------------------------------------------ helpers and checks
-def _as_params(J, delta):
-    J = np.asarray(J, dtype=float)
-    delta = np.asarray(delta, dtype=float)
-    if not np.all(np.isfinite(J)) or np.any(J <= 0):
-        raise InputError("the exchange J must be positive and finite (meV); "
-                         f"got minimum {np.min(J)!r}")
-    if not np.all(np.isfinite(delta)) or np.any(delta <= -1):
-        raise InputError("the XXZ anisotropy Δ must be finite and > -1; "
-                         f"got minimum {np.min(delta)!r}")
-    return J, delta
-
-
 def _reduced_phase(q):
     """Map any real chain phase onto [0, π] using 2π periodicity and q → −q."""
     q = np.asarray(q, dtype=float)
@@ -208,125 +202,6 @@ def spinon_gap(J, delta):
     return np.where(delta > 1.0, 2.0 * J * iJ * kp, 0.0)
 
 
-def xxz_ground_state_energy(delta):
-    """Ground-state energy per site E_0/(N J) of the infinite S = 1/2 XXZ chain.
-
-    Δ = cos γ < 1: Δ/4 − (sin γ / 2) ∫ sinh((π−γ)x) / (sinh(πx) cosh(γx)) dx over the real
-    line (evaluated by a trapezoid rule in ln x); Δ = cosh φ > 1:
-    Δ/4 − sinh φ [1/2 + 2 Σ_{n≥1} 1/(e^{2nφ} + 1)] (Euler–Maclaurin for φ < 0.1);
-    Δ = 1: 1/4 − ln 2 (Hulthén 1938).
-
-    Parameters
-    ----------
-    delta : array_like
-        Anisotropy Δ > −1.
-
-    Returns
-    -------
-    ndarray
-        E_0 / (N J), dimensionless (−1/π at Δ = 0, → −Δ/4 for Δ → ∞).
-
-    References
-    ----------
-    C. N. Yang & C. P. Yang, Phys. Rev. 150, 327 (1966) (from memory); des Cloizeaux &
-    Gaudin (1966); Hulthén (1938).
-    """
-    delta = np.asarray(delta, dtype=float)
-    if not np.all(np.isfinite(delta)) or np.any(delta <= -1):
-        raise InputError(f"the XXZ anisotropy Δ must be finite and > -1; got {delta!r}")
-    d = delta[..., None]
-    # |Δ| < 1: x = y/γ, y = e^u; R = sinh((π/γ−1)y)/sinh(πy/γ) written with expm1
-    gamma = np.arccos(np.clip(d, -1.0 + 1e-15, 1.0))
-    u = np.linspace(math.log(1e-8), math.log(40.0), 801)
-    y = np.exp(u)
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        beta = np.pi / gamma
-        ratio = np.exp(-y) * np.expm1(-2.0 * (beta - 1.0) * y) / np.expm1(-2.0 * beta * y)
-    ratio = np.where(gamma > 0, ratio, np.exp(-y))
-    f = ratio / np.cosh(y) * y
-    integral = np.sum(0.5 * (f[..., 1:] + f[..., :-1]) * np.diff(u), axis=-1)
-    r0 = 1.0 - gamma / np.pi                                 # R(0) = (β − 1)/β
-    integral = integral + r0[..., 0] * y[0]
-    e_xy = delta / 4.0 - np.sinc(gamma[..., 0] / np.pi) * integral
-    # Δ > 1
-    phi = np.arccosh(np.maximum(d, 1.0))
-    n = np.arange(1, 501)
-    with np.errstate(over="ignore"):
-        direct = np.sum(1.0 / (np.exp(np.minimum(2.0 * n * phi, 700.0)) + 1.0), axis=-1)
-    p = np.maximum(phi[..., 0], 1e-300)
-    # 1/2 + 2 Σ_{n≥1} 1/(e^{2nφ}+1); Euler–Maclaurin (Abramowitz & Stegun 23.1.30) for small φ
-    bracket = np.where(p < 0.1, math.log(2.0) / p + p / 12.0 + p ** 3 / 360.0
-                       + p ** 5 / 1890.0, 0.5 + 2.0 * direct)
-    e_z = delta / 4.0 - np.sinh(p) * bracket
-    e_z = np.where(phi[..., 0] > 0, e_z, 0.25 - math.log(2.0))
-    return np.where(delta > 1.0, e_z, np.where(delta == 1.0, 0.25 - math.log(2.0), e_xy))
-
-
-@functools.lru_cache(maxsize=1)
-def _e0_spline():
-    """Cubic spline of :func:`xxz_ground_state_energy` on the uniform grid ``_E0_GRID``.
-
-    Returns the first node, the spacing, the node count and the piecewise-polynomial
-    coefficients (4, n − 1).  Measured against the direct evaluation at quarter and half
-    steps: largest error 5e-12 (near Δ = −0.9 and Δ = 1.005), below ``_E0_ERROR``.
-    """
-    lo, hi, h = _E0_GRID
-    n = int(round((hi - lo) / h)) + 1
-    x = lo + h * np.arange(n)
-    spline = interpolate.CubicSpline(x, xxz_ground_state_energy(x))
-    c = np.ascontiguousarray(spline.c)
-    c.setflags(write=False)
-    return lo, h, n, c
-
-
-def _ground_state_energy_fast(delta):
-    """E_0/(NJ) from the spline of :func:`_e0_spline` (error < ``_E0_ERROR``), direct outside.
-
-    Cubic-spline interpolation: de Boor, *A Practical Guide to Splines* (1978).
-    """
-    delta = np.asarray(delta, dtype=float)
-    lo, h, n, c = _e0_spline()
-    u = (delta - lo) / h
-    i = np.clip(np.floor(u), 0, n - 2).astype(np.intp)
-    dx = delta - (lo + h * i)
-    out = ((c[0, i] * dx + c[1, i]) * dx + c[2, i]) * dx + c[3, i]
-    outside = (u < 0) | (u > n - 1)
-    if np.any(outside):                          # rare: Δ < −0.9 or Δ > 4, direct
-        out = np.array(out, dtype=float)
-        out[outside] = xxz_ground_state_energy(delta[outside])
-    return out
-
-
-def first_moment(q, J, delta):
-    """First frequency moment of the total structure factor, M1 = −2 (1 − cos q) E_0/N.
-
-    Parameters
-    ----------
-    q : array_like, shape (n,)
-        Chain phase in radians.
-    J : array_like, shape (n_sets, 1)
-        Exchange in meV (> 0).
-    delta : array_like, shape (n_sets, 1)
-        Anisotropy Δ > −1.
-
-    Returns
-    -------
-    ndarray, shape (n_sets, n)
-        ∫ ω S(q, ω) dω over ω > 0 in meV (S per spin, summed over components).  Exact for
-        Δ = 1; for Δ ≠ 1 the same form with E_0(Δ) is this package's stated choice.
-        E_0(Δ) comes from a cubic spline of :func:`xxz_ground_state_energy` on a 0.002
-        grid over −0.9 ≤ Δ ≤ 4 (error below 1e-11 J per site), from the direct evaluation
-        outside that range.
-
-    References
-    ----------
-    P. C. Hohenberg & W. F. Brinkman, Phys. Rev. B 10, 128 (1974); cubic splines,
-    C. de Boor, A Practical Guide to Splines (Springer, 1978).
-    """
-    J, delta = _as_params(J, delta)
-    return -2.0 * (1.0 - np.cos(np.asarray(q, dtype=float))) * J * _ground_state_energy_fast(delta)
-
-
 # ------------------------------------------------------------------------ Müller shape
 def _h(r):
     """arccosh(1/r) / √(1 − r²) for 0 < r ≤ 1, stable at r → 1 (value 1)."""
@@ -340,7 +215,7 @@ def _muller(q, J, delta):
     """Line-shape edges (floored ω_L, ω_T), amplitude A and total weight, (n_sets, n)."""
     lower, _, top = _edges(q, J, delta)
     wl = np.maximum(lower, OMEGA_FLOOR * top)
-    m1 = first_moment(q, J, delta)
+    m1 = continuum_first_moment(q, J, delta)
     valid = (top > 0) & (wl < top)
     safe_top = np.where(valid, top, 1.0)
     r = np.where(valid, wl / safe_top, 1.0)
@@ -381,7 +256,10 @@ def muller_edges(q, J, delta):
 def muller_amplitude(q, J, delta):
     """Amplitude A(q) of the Müller shape from the first-moment sum rule.
 
-    ∫ ω A / √(ω² − ω_L²) dω over [ω_L, ω_T] = A √(ω_T² − ω_L²) = M1(q).
+    ∫ ω A / √(ω² − ω_L²) dω over [ω_L, ω_T] = A √(ω_T² − ω_L²) = M1_c(q), the moment
+    carried by the continuum (:func:`continuum_first_moment`: the exact total moment of
+    the three components, less the q-independent transverse part for Δ < 1).  The
+    components share the edges, so A = A_xx + A_yy + A_zz with A_a √(ω_T² − ω_L²) = M1^aa.
 
     Parameters
     ----------

@@ -30,8 +30,10 @@ def _brute(q, E, s, T, J, D):
 @pytest.mark.parametrize("delta", [0.0, 0.6, 1.0, 1.7])
 @pytest.mark.parametrize("q", [0.4, 2.0, np.pi - 1e-3])
 def test_muller_sum_rules(q, delta):
-    # first-moment sum rule with E0 (Hohenberg & Brinkman, PRB 10, 128, 1974) and the
-    # closed-form cumulative A arccosh(w/wL) (Abramowitz & Stegun 3.3.44)
+    # the line shape integrates to the first moment it is given (Hohenberg & Brinkman,
+    # PRB 10, 128, 1974; components from chain_ground_state) and its weight to the
+    # closed-form cumulative A arccosh(w/wL) (Abramowitz & Stegun 3.3.44); independent
+    # quadrature (scipy.integrate.quad)
     J = np.array([[1.3]])
     d = np.array([[delta]])
     qa = np.array([q])
@@ -42,12 +44,20 @@ def test_muller_sum_rules(q, delta):
         return
     dens = lambda w: chain.muller_density(qa, np.array([w]), J, d)[0, 0]
     m1, _ = integrate.quad(lambda w: w * dens(w), wl, top, limit=200)
-    assert m1 == pytest.approx(chain.first_moment(qa, J, d)[0, 0], rel=1e-6)
+    m1_c = chain.continuum_first_moment(qa, J, d)[0, 0]
+    assert m1 == pytest.approx(m1_c, rel=1e-6)
     m0, _ = integrate.quad(dens, wl, top, limit=400)
     W = chain.muller_cumulative(qa, np.array([top * 2]), J, d)[0, 0]
     assert m0 == pytest.approx(W, rel=1e-5)
-    assert chain.first_moment(qa, J, d)[0, 0] == pytest.approx(
-        -2 * (1 - np.cos(q)) * 1.3 * chain.xxz_ground_state_energy(delta))
+    # per component: the summed shape carries M1^zz + 2 M1^xx, less 2 M1^xx(0) for Delta < 1
+    m_xx, m_zz = (a[0, 0] for a in chain.first_moment_components(qa, J, d))
+    m_xx0 = chain.first_moment_components(np.array([0.0]), J, d)[0][0, 0]
+    assert m1_c == pytest.approx(m_zz + 2 * m_xx - (2 * m_xx0 if delta < 1 else 0.0),
+                                 rel=1e-12)
+    assert chain.first_moment(qa, J, d)[0, 0] == pytest.approx(m_zz + 2 * m_xx, rel=1e-12)
+    if delta == 1.0:   # isotropic point: the classic -2 (1 - cos q) E0/N, nothing left out
+        assert m1 == pytest.approx(-2 * (1 - np.cos(q)) * 1.3 * chain.xxz_ground_state_energy(
+            delta), rel=1e-6)
 
 
 def test_spectrum_matches_brute_force_convolution():
