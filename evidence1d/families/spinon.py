@@ -44,6 +44,9 @@ class SpinonFamily(Family):
 
     parameters = ("J", "delta", "g")
 
+    #: the two-spinon continuum and the chain thermodynamics hold for S = 1/2 only
+    spins = (0.5,)
+
     def spectrum(self, p: dict, pts: SpectralPoints) -> np.ndarray:
         """Resolution-convolved S(q, E) per spin in 1/meV, detailed balance applied.
 

@@ -118,6 +118,8 @@ def test_batch_equals_loop_and_periodicity():
 def test_family_adapter():
     fam = SpinonFamily()
     assert fam.parameters == ("J", "delta", "g")
+    # the family contract's declared spins (families/base.py): spinons exist for S = 1/2 only
+    assert SpinonFamily.spins == (0.5,) and fam.spins == (0.5,)
     pts = SpectralPoints(Q_par=np.linspace(0.1, 1.5, 30), Q_a=np.zeros(30), Q_b=np.zeros(30),
                          d=3.0, a_perp=5.0, b_perp=5.0, energy=np.linspace(0.5, 8, 30),
                          sigma=np.full(30, 0.2), temperature=5.0)
