@@ -42,8 +42,11 @@ _SAMPLE = Spec({
     "spin_spacing": Field(as_positive_float, required=True,
                           help="spin spacing d along the chain in Å"),
     "lattice": Field(_any, required=True, help="{a, b, c} in Å"),
-    "formula_units_per_ion": Field(as_positive_float, default=1.0,
-                                   help="formula units per magnetic ion"),
+    "ions_per_formula_unit": Field(as_positive_float, default=None,
+                                   help="magnetic ions per formula unit (per-formula-unit data)"),
+    "formula_units_per_ion": Field(as_positive_float, default=None,
+                                   help="older spelling: formula units per magnetic ion, the "
+                                        "inverse of ions_per_formula_unit"),
 }, what="the sample block")
 
 _RESOLUTION = Spec({"fwhm": Field(as_float_list, required=True,
@@ -59,7 +62,11 @@ _DATASET = Spec({
     "name": Field(as_str, default=None, help="dataset name (default: file name)"),
     "kind": Field(one_of(*KINDS), required=True, help=f"one of {', '.join(KINDS)}"),
     "file": Field(as_str, required=True, help="data file path"),
-    "units": Field(_mapping, required=True, help="units of the columns"),
+    "units": Field(_mapping, default={}, help="units of the columns (or in the headers)"),
+    "columns": Field(_mapping, default={}, help="column of the kind -> header in the file"),
+    "masked": Field(one_of("error", "drop"), default="error",
+                    help="points with non-finite values or errors <= 0: error or drop"),
+    "entry": Field(as_str, default=None, help="HDF5/NeXus files: the NXentry or NXdata group"),
     "temperature": Field(as_positive_float, default=None, help="sample temperature in K"),
     "resolution": Field(_any, default=None, help="{fwhm: [c0, c1, ...]} in meV"),
     "background": Field(one_of("none", "flat", "linear"), default="linear"),
@@ -125,6 +132,9 @@ class Sample:
     lattice : dict
         a, b, c in Å (chain along c).
     formula_units_per_ion : float
+        1 / ions_per_formula_unit (1 if undeclared).
+    ions_per_formula_unit : float or None
+        Magnetic ions per formula unit, None if the case file does not say.
     """
 
     name: str
@@ -135,6 +145,7 @@ class Sample:
     spin_spacing: float
     lattice: dict
     formula_units_per_ion: float
+    ions_per_formula_unit: float | None = None
 
 
 @dataclass(frozen=True)
@@ -303,10 +314,17 @@ def load_case(path) -> Case:
 
     s = check_mapping(top["sample"], _SAMPLE, "sample", doc)
     lattice = check_mapping(s["lattice"], _LATTICE, "sample.lattice", doc)
+    ions = s["ions_per_formula_unit"]
+    if s["formula_units_per_ion"] is not None:
+        if ions is not None:
+            raise doc.error("give ions_per_formula_unit or the older formula_units_per_ion, "
+                            "not both", "sample.formula_units_per_ion")
+        ions = 1.0 / s["formula_units_per_ion"]
     sample = Sample(name=s["name"], ion=s["ion"], charge=s["charge"], spin=s["spin"],
                     g_prior=None if s["g"] is None else prior(s["g"], "sample.g"),
                     spin_spacing=s["spin_spacing"], lattice=lattice,
-                    formula_units_per_ion=s["formula_units_per_ion"])
+                    formula_units_per_ion=1.0 / ions if ions else 1.0,
+                    ions_per_formula_unit=ions)
     from .physics.neutron import magnetic_form_factor
     try:
         magnetic_form_factor(1.0, sample.ion, sample.charge, 2.0)

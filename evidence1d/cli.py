@@ -98,8 +98,26 @@ def _cmd_check(args):
     from .report.console import case_table
     case = load_case(args.case)
     print(case_table(case))
+    notes = _data_notes(case)
+    if notes:
+        print("\n" + "\n".join(notes))
     print("\ncase is valid")
     return 0
+
+
+def _data_notes(case):
+    """Lines about the data files: masked points dropped, columns not used."""
+    lines = []
+    for ds in case.datasets:
+        if ds.masked:
+            rules = ", ".join(f"{k}: {v}" for k, v in ds.masked.items())
+            lines.append(f"dataset '{ds.name}': dropped {ds.n_masked} masked point(s) "
+                         f"({rules}); {ds.n} kept")
+        if ds.unused_columns:
+            cols = ", ".join(repr(c) for c in ds.unused_columns)
+            lines.append(f"warning: dataset '{ds.name}': column(s) {cols} of {ds.path.name} "
+                         "not used")
+    return lines
 
 
 def _cmd_run(args):

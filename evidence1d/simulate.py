@@ -127,11 +127,9 @@ def write_dataset(ds, y, err, path, *, note: str, fu_per_ion: float = 1.0) -> No
     fu_per_ion : float
         The sample's formula units per magnetic ion (for per-formula-unit data).
     """
-    from .data import read_table
     from .data.kinds import KINDS
+    from .data.table import parse_column_name
     spec = KINDS[ds.kind]
-    table = read_table(ds.path)
-    lower = {c.lower(): c for c in table.columns}
     fu = fu_per_ion if ds.options.get("per") == "formula_unit" else 1.0
     if ds.kind == "susceptibility":
         f = U.CHI_UNITS[ds.units["chi"]] * fu
@@ -141,18 +139,21 @@ def write_dataset(ds, y, err, path, *, note: str, fu_per_ion: float = 1.0) -> No
         f = 1.0
     value_col = {"crystal_spectrum": "intensity", "powder_spectrum": "intensity",
                  "susceptibility": "chi", "heat_capacity": "C", "entropy": "S"}[ds.kind]
+    # the value's unit goes into the header when the template's header carried it
+    vunit = spec.column_units.get(value_col)
+    tag = (f" ({ds.units[vunit]})" if vunit and parse_column_name(
+        ds.columns.get(value_col, value_col))[1] is not None else "")
     cols, header = [], []
-    for canon, aliases in spec.columns.items():
+    for canon in spec.columns:
         if canon == value_col:
-            header.append(canon)
+            header.append(canon + tag)
             cols.append(y / f)
         elif canon == "error":
-            header.append("error")
+            header.append("error" + tag)
             cols.append(err / f)
-        else:
-            src = next(lower[a] for a in aliases if a in lower)
-            header.append(src)
-            cols.append(table.columns[src])
+        else:  # the template's points as read (masked points left out), header as written
+            header.append(ds.columns[canon])
+            cols.append(ds.raw[canon])
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
     tmp = path.with_suffix(path.suffix + ".tmp")
