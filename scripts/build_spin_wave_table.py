@@ -1,10 +1,11 @@
 """Regenerate the shipped magnon-gas table ``spin_wave_thermo.npz`` (and its ``.json``).
 
 The linear spin-wave energy of the coupled chains (:mod:`evidence1d.physics.magnon`) in units
-of S J_0 (J_0 = 2 J + 4 J_⊥) depends only on r = J_⊥/J, Δ and the wavevector, through
-J(Q)/J_0 = (cos q + r (cos q_a + cos q_b)) / (1 + 2 r).  The magnon-gas C/R, S/R and the
-zone average ⟨n(n+1)⟩ are therefore functions of τ = k_B T / (S J_0), r and Δ alone, for
-every spin S.  This script tabulates
+of S J_0 (J_0 = 2 J + z_⊥ J_⊥) depends only on r = J_⊥/J, Δ and the wavevector, through
+J(Q)/J_0 = (cos q + r v) / (1 + z_⊥ r / 2) with v = cos q_a + cos q_b for z_⊥ = 4 chains
+(rectangular) and v = cos q_a for z_⊥ = 2 (chains in planes).  The magnon-gas C/R, S/R and
+the zone average ⟨n(n+1)⟩ are therefore functions of τ = k_B T / (S J_0), r and Δ alone, for
+every spin S, one table per geometry.  This script tabulates
 
     Y_k(ln τ, asinh(r / r_0), asinh(g / g_0)) = ln F_k + g / τ,   g = √(Δ² − 1),
 
@@ -14,11 +15,12 @@ logarithmic for r ≫ r_0 and g ≫ g_0 (the crossovers 1D → 3D at τ ~ √r a
 gapped at τ ~ g are scale-free) and linear, hence analytic, through r = 0 and Δ = 1.
 
 Zone quadrature (more accurate than the product rule of the direct path at low τ): the
-interchain sum v = cos q_a + cos q_b is integrated with its exact density, the square-
-lattice density of states p(v) = K(1 − v²/4) / π² (K the complete elliptic integral of the
-first kind, parameter m), and the chain phase q uniformly; both with the tanh-sinh
+interchain sum v = cos q_a + cos q_b (z_⊥ = 4) is integrated with its exact density, the
+square-lattice density of states p(v) = K(1 − v²/4) / π² (K the complete elliptic integral
+of the first kind, parameter m), and the chain phase q uniformly; both with the tanh-sinh
 (double-exponential) rule, v on [−2, 0] and [0, 2] (the logarithmic van Hove singularity
-at v = 0 sits at an end point).  The node deficits min(1 − J(Q)/J_0, 1 + J(Q)/J_0) are
+at v = 0 sits at an end point).  For z_⊥ = 2, v = cos q_a and q_a is integrated uniformly
+like q.  The node deficits min(1 − J(Q)/J_0, 1 + J(Q)/J_0) are
 compressed per r onto ``N_BINS`` log-spaced values by linear cloud-in-cell assignment in
 the log, which conserves the weight and the mean log; energies then come from
 :func:`evidence1d.physics.magnon.reduced_energy` and the sums from
@@ -62,6 +64,7 @@ R_0, R_MAX, N_R = 5e-11, 100.0, 59          # x = asinh(r / R_0)
 G_0, DELTA_MAX, N_G = 1e-6, 3.0, 46         # y = asinh(√(Δ² − 1) / G_0)
 DE_STEP, DE_TMAX = 0.04, 3.2                # tanh-sinh step and half range in t
 N_BINS = 6000                               # log-spaced deficits per r
+Z_PERP = (2, 4)                             # interchain geometries tabulated
 D_MIN = 1e-18                               # smallest deficit kept apart
 
 
@@ -76,11 +79,15 @@ def tanh_sinh(a, b, h=DE_STEP, t_max=DE_TMAX):
     return to_a, to_b, w
 
 
-def zone_nodes_reduced():
-    """Nodes of the zone average: (1 − cos q, 1 + cos q, 2 − v, 2 + v) and weights (sum 1)."""
+def zone_nodes_reduced(z_perp=4):
+    """Nodes of the zone average: (1 − cos q, 1 + cos q, z/2 − v, z/2 + v), weights (sum 1)."""
     qa, qb, wq = tanh_sinh(0.0, np.pi)
     one_m_u, one_p_u = 2.0 * np.sin(0.5 * qa) ** 2, 2.0 * np.sin(0.5 * qb) ** 2
     wq = wq / np.pi
+    U = lambda a: a[:, None]                                  # noqa: E731
+    if z_perp == 2:                                           # v = cos q_a, q_a uniform
+        return (U(one_m_u), U(one_p_u), one_m_u[None, :], one_p_u[None, :],
+                U(wq / wq.sum()) * (wq / wq.sum())[None, :])
     # v on [0, 2]: distance to 0 is |v|, to 2 is 2 − v; mirrored for [−2, 0]
     v0, v2, wv = tanh_sinh(0.0, 2.0)
     dens = special.ellipkm1(v0 * v0 / 4.0) / np.pi ** 2     # K(m), 1 − m = v²/4
@@ -88,17 +95,16 @@ def zone_nodes_reduced():
     two_p_v = np.concatenate([4.0 - v2, v2])
     wv = np.concatenate([wv * dens, wv * dens])
     wv = wv / wv.sum()                                        # exact normalisation is 1
-    U = lambda a: a[:, None]                                  # noqa: E731
     return (U(one_m_u), U(one_p_u), two_m_v[None, :], two_p_v[None, :],
             U(wq / wq.sum()) * wv[None, :])
 
 
-def deficit_bins(r, nodes, n_bins=N_BINS):
+def deficit_bins(r, nodes, n_bins=N_BINS, z_perp=4):
     """Deficits d = min(1 ∓ J(Q)/J_0) compressed onto log-spaced values; weights sum 1."""
     omu, opu, tmv, tpv, w = nodes
-    # J(Q)/J_0 = (u + r v)/(1 + 2 r) (magnon.exchange_sum divided by J_0)
-    d_m = (omu + r * tmv) / (1.0 + 2.0 * r)
-    d_p = (opu + r * tpv) / (1.0 + 2.0 * r)
+    # J(Q)/J_0 = (u + r v)/(1 + z r / 2) (magnon.exchange_sum divided by J_0)
+    d_m = (omu + r * tmv) / (1.0 + 0.5 * z_perp * r)
+    d_p = (opu + r * tpv) / (1.0 + 0.5 * z_perp * r)
     d = np.minimum(d_m, d_p).ravel()
     lg = np.log(np.maximum(d, D_MIN))
     lo, hi = np.log(D_MIN), 0.0
@@ -125,29 +131,34 @@ def build():
     r = R_0 * np.sinh(x)
     delta = np.sqrt(1.0 + (G_0 * np.sinh(y)) ** 2)
     tau = np.exp(s)
-    nodes = zone_nodes_reduced()
-    out = np.empty((3, N_R, N_G, s.size))
-    for i, ri in enumerate(r):
-        d, wb = deficit_bins(ri, nodes)
-        for k, dk in enumerate(delta):
-            out[:, i, k, :] = table_point(d, wb, dk, tau)
-        print(f"r = {ri:.3e} done ({i + 1}/{N_R})", flush=True)
-    return s, x, y, out, nodes[-1].size
+    out = np.empty((3, len(Z_PERP), N_R, N_G, s.size))
+    n_nodes = {}
+    for iz, z in enumerate(Z_PERP):
+        nodes = zone_nodes_reduced(z)
+        n_nodes[z] = int(nodes[-1].size)
+        for i, ri in enumerate(r):
+            d, wb = deficit_bins(ri, nodes, z_perp=z)
+            for k, dk in enumerate(delta):
+                out[:, iz, i, k, :] = table_point(d, wb, dk, tau)
+            print(f"z_perp = {z}, r = {ri:.3e} done ({i + 1}/{N_R})", flush=True)
+    return s, x, y, out, n_nodes
 
 
 def self_check(table_file):
     """Largest relative difference table vs the direct product rule (n_grid = 48, T ≥ 2 K)."""
     rng = np.random.default_rng(7)
     J = np.exp(rng.uniform(np.log(0.1), np.log(20.0), (40, 1)))
-    Jp, D = rng.uniform(0.0, 2.0, (40, 1)), rng.uniform(1.0, 1.5, (40, 1))
+    Jp, D = rng.uniform(0.0, 2.0, (40, 1)), rng.uniform(1.0, 3.0, (40, 1))
     T = np.geomspace(2.0, 400.0, 30)
-    a = bose_thermo.magnon_gas(T, J, Jp, D, 0.5, n_grid=48, n_bins=None, method="direct")
-    b = bose_thermo.magnon_gas(T, J, Jp, D, 0.5, method="table")
-    tau = bose_thermo.K_B_MEV * T / (0.5 * (2.0 * J + 4.0 * Jp))
     res = {}
-    for k in ("c_over_r", "s_over_r"):
-        ok = (a[k] > 1e-6) & (tau <= np.exp(LN_TAU[1]))     # inside the tabulated τ range
-        res[k] = float(np.max(np.abs(b[k][ok] / a[k][ok] - 1.0)))
+    for z in Z_PERP:
+        a = bose_thermo.magnon_gas(T, J, Jp, D, 0.5, n_grid=48, n_bins=None,
+                                   method="direct", z_perp=z)
+        b = bose_thermo.magnon_gas(T, J, Jp, D, 0.5, method="table", z_perp=z)
+        tau = bose_thermo.K_B_MEV * T / (0.5 * (2.0 * J + z * Jp))
+        for k in ("c_over_r", "s_over_r"):
+            ok = (a[k] > 1e-6) & (tau <= np.exp(LN_TAU[1]))  # inside the tabulated τ range
+            res[f"z_perp={z}:{k}"] = float(np.max(np.abs(b[k][ok] / a[k][ok] - 1.0)))
     return res
 
 
@@ -157,8 +168,8 @@ def main():
     seconds = time.perf_counter() - t0
     OUT.parent.mkdir(parents=True, exist_ok=True)
     np.savez_compressed(OUT, ln_tau=s, x_r=x, y_gap=y, r_0=R_0, g_0=G_0,
-                        y_c=out[0].astype(np.float32), y_s=out[1].astype(np.float32),
-                        y_l=out[2].astype(np.float32))
+                        z_perp=np.array(Z_PERP), y_c=out[0].astype(np.float32),
+                        y_s=out[1].astype(np.float32), y_l=out[2].astype(np.float32))
     bose_thermo.spin_wave_table.cache_clear()
     check = self_check(OUT)
     meta = {
@@ -169,9 +180,10 @@ def main():
                  "x_r = asinh(r / r_0)": [0.0, float(x[-1]), int(x.size)], "r_0": R_0,
                  "r_max": R_MAX,
                  "y_gap = asinh(sqrt(delta^2 - 1) / g_0)": [0.0, float(y[-1]), int(y.size)],
-                 "g_0": G_0, "delta_max": DELTA_MAX},
-        "quadrature": {"rule": "tanh-sinh in q and in v with the square-lattice density",
-                       "step": DE_STEP, "t_max": DE_TMAX, "nodes": int(n_nodes),
+                 "g_0": G_0, "delta_max": DELTA_MAX, "z_perp": list(Z_PERP)},
+        "quadrature": {"rule": "tanh-sinh in q; in v with the square-lattice density "
+                                "(z_perp = 4) or in q_a (z_perp = 2)",
+                       "step": DE_STEP, "t_max": DE_TMAX, "nodes": {str(k): v for k, v in n_nodes.items()},
                        "deficit_bins": N_BINS},
         "functions": {"y_c": "ln(C/R) + g/tau", "y_s": "ln(S/R) + g/tau",
                       "y_l": "ln<n(n+1)> + g/tau"},

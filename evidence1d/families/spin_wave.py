@@ -1,19 +1,22 @@
-"""The gapped spin-wave family: coupled chains with collinear Néel order (3D).
+"""The ordered family: renormalised spin waves of S = 1/2 chains with 3D Néel order.
 
-Physics in :mod:`evidence1d.physics.magnon` (dispersion, one-magnon intensity, Néel
-temperature) and :mod:`evidence1d.physics.bose_thermo` (magnon gas, Curie–Weiss); neutron
-factors from :mod:`evidence1d.physics.neutron`.  The 1D limit J_⊥ = 0 is contained (T_N = 0,
-dispersion 2 J S |sin q| at Δ = 1), so the card declares ``nested_1d_limit`` on ``J_perp``.
+Physics in :mod:`evidence1d.physics.ordered_magnon` (renormalised dispersion, gradient and
+single-mode intensities), :mod:`evidence1d.physics.ordered_thermo` (exact chain
+thermodynamics dressed by interchain mean field above T_N, ordered state below) and
+:mod:`evidence1d.physics.magnon` (spin-wave formulas, interchain geometry, Schulz's T_N).
+J_⊥ = 0 gives the spinon family's χ(T), C(T) and S(T) exactly and a mode on the
+des Cloizeaux–Pearson dispersion (Δ = 1), so the card declares ``nested_1d_limit`` on
+``J_perp``.
 
 Hamiltonian: H = Σ_⟨ij⟩ J_ij [S^x_i S^x_j + S^y_i S^y_j + Δ S^z_i S^z_j], J along the chain,
-J_⊥ to the 4 neighbouring chains, J, J_⊥ > 0 antiferromagnetic, Δ ≥ 1 easy axis.
+J_⊥ to each of z_⊥ neighbouring chains, J, J_⊥ > 0 antiferromagnetic, Δ ≥ 1 easy axis.
 """
 from __future__ import annotations
 
 import numpy as np
 
 from ..errors import InputError
-from ..physics import bose_thermo, magnon
+from ..physics import bose_thermo, magnon, ordered_magnon, ordered_thermo
 from .base import Family, SpectralPoints
 
 __all__ = ["SpinWaveFamily", "MOMENT_AXES"]
@@ -23,55 +26,60 @@ MOMENT_AXES = (None, "par", "a", "b")
 
 
 class SpinWaveFamily(Family):
-    """Linear spin waves of coupled Heisenberg–XXZ chains with a Néel-ordered ground state.
+    """Renormalised spin waves of weakly coupled S = 1/2 XXZ chains with Néel order.
 
     Parameters
     ----------
     spin : float
-        Spin quantum number S of the magnetic ion.
+        Spin of the magnetic ion; only 1/2 (the renormalisation and the chain tables are
+        those of S = 1/2 chains).
     moment_axis : {None, 'par', 'a', 'b'}, optional
         Direction of the ordered moments (the easy axis z): along the chain, along a or
         along b.  The unpolarised cross-section of the two transverse modes carries the
         factor (1 + Q̂_z²) S^{xx}; with ``None`` (default) Q̂_z² is replaced by its average
         1/3 over moment directions, i.e. the factor 4/3.
-    n_grid : int, optional
-        Zone-quadrature nodes per phase for the thermodynamics (direct path only).
+    interchain : {4, 2}, optional
+        Neighbouring chains of each chain: 4 (rectangular, ±a and ±b; default) or 2
+        (planar, ±a).  6 (triangular) is rejected: frustrated, no collinear Néel state.
     thermo_method : {'table', 'direct'}, optional
-        Magnon-gas thermodynamics from the shipped spline table (default; ~300 times
-        faster, see :mod:`evidence1d.physics.bose_thermo`) or from the zone quadrature.
+        Magnon gas below T_N from the shipped spline table (default) or from the zone
+        quadrature (reference).
 
     Notes
     -----
     Parameters (names of the model card ``gapped_spin_wave``): ``J`` (meV), ``J_perp``
-    (meV), ``delta`` (Δ, 1), ``damping`` (Lorentzian HWHM, meV), ``g`` (1).
-    ``spectrum`` returns (1 + Q̂_z²) S^{xx}(Q, E) per spin, with S^{xx} from
-    :func:`evidence1d.physics.magnon.transverse_spectrum` (longitudinal two-magnon
-    scattering neglected).
+    (meV), ``delta`` (Δ, 1), ``damping`` (η = Γ_Q/ħω_Q, 1), ``g`` (1).  ``spectrum``
+    returns (1 + Q̂_z²) S^{xx}(Q, E) per spin (longitudinal scattering neglected) with the
+    momentum resolution applied through the dispersion gradient.
 
     References
     ----------
-    R. M. White, Quantum Theory of Magnetism, 3rd ed. (Springer, 2007), Ch. 6;
-    G. L. Squires, Introduction to the Theory of Thermal Neutron Scattering (CUP, 1978),
-    Ch. 7 (polarisation factor δ_αβ − Q̂_α Q̂_β);
-    H. J. Schulz, Phys. Rev. Lett. 77, 2790 (1996).
+    des Cloizeaux & Pearson, Phys. Rev. 128, 2131 (1962); H. J. Schulz, Phys. Rev. Lett.
+    77, 2790 (1996); Scalapino, Imry & Pincus, Phys. Rev. B 11, 2042 (1975); G. L. Squires,
+    Introduction to the Theory of Thermal Neutron Scattering (CUP, 1978), Ch. 7
+    (polarisation factor δ_αβ − Q̂_α Q̂_β).
     """
 
     parameters = ("J", "J_perp", "delta", "damping", "g")
+    spins = (0.5,)
+    handles_q_resolution = True
 
-    def __init__(self, spin: float = 0.5, moment_axis=None, n_grid: int = bose_thermo.N_GRID,
+    def __init__(self, spin: float = 0.5, moment_axis=None, interchain=4,
                  thermo_method: str = "table"):
         super().__init__(spin)
+        if abs(self.spin - ordered_magnon.SPIN) > 1e-9:
+            raise InputError(f"the gapped_spin_wave family describes S = 1/2 chains only; "
+                             f"got spin {spin!r}")
         if thermo_method not in bose_thermo.METHODS:
             raise InputError(f"the 'thermo_method' option of gapped_spin_wave must be one of "
                              f"{', '.join(bose_thermo.METHODS)}; got {thermo_method!r} instead")
-        self.thermo_method = thermo_method
         if moment_axis not in MOMENT_AXES:
             raise InputError(f"the 'moment_axis' option of gapped_spin_wave must be one of "
                              f"par, a, b or null; got {moment_axis!r} instead")
-        if self.spin <= 0:
-            raise InputError(f"the spin of the magnetic ion must be > 0; got {spin!r}")
+        self.z_perp = magnon.check_interchain(interchain)
+        self.interchain = self.z_perp
+        self.thermo_method = thermo_method
         self.moment_axis = moment_axis
-        self.n_grid = int(n_grid)
 
     def _polarisation(self, pts: SpectralPoints) -> np.ndarray:
         if self.moment_axis is None:
@@ -88,9 +96,10 @@ class SpinWaveFamily(Family):
         Parameters
         ----------
         p : dict of str to ndarray (n_sets, 1)
-            ``J``, ``J_perp``, ``delta``, ``damping`` (meV except Δ).
+            ``J``, ``J_perp`` (meV), ``delta``, ``damping`` (η, dimensionless).
         pts : SpectralPoints
-            Wavevectors, spacings, energies, resolution σ and temperature.
+            Wavevectors, spacings, energies, energy resolution σ, momentum resolution
+            σ_Q∥, σ_Q⊥ (Å⁻¹, along the chain and along a) and temperature.
 
         Returns
         -------
@@ -98,47 +107,53 @@ class SpinWaveFamily(Family):
 
         References
         ----------
-        R. M. White (2007), Ch. 6; Squires (1978), Ch. 7.
+        Hohenberg & Brinkman, Phys. Rev. B 10, 128 (1974); Squires (1978), Ch. 7;
+        Cooper & Nathans, Acta Cryst. 23, 357 (1967).
         """
-        s = magnon.transverse_spectrum(pts.q_par, pts.q_a, pts.q_b, pts.energy, pts.sigma,
-                                       pts.temperature, p["J"], p["J_perp"], p["delta"],
-                                       self.spin, damping=p.get("damping"))
+        s = ordered_magnon.transverse_spectrum(
+            pts.q_par, pts.q_a, pts.q_b, pts.energy, pts.sigma, pts.temperature,
+            _col(p["J"]), _col(p["J_perp"]), _col(p["delta"]), self.z_perp,
+            damping=None if p.get("damping") is None else _col(p["damping"]),
+            sigma_q_par=np.asarray(pts.sigma_Q_par, float) * pts.d,
+            sigma_q_a=np.asarray(pts.sigma_Q_perp, float) * pts.a_perp)
         return self._polarisation(pts) * s
 
     def susceptibility(self, p: dict, T: np.ndarray, direction: str = "powder") -> np.ndarray:
-        """Curie–Weiss above T_N, ordered-state form below (emu/mol of magnetic ion).
+        """Chain χ dressed by interchain mean field above T_N, ordered state below (emu/mol).
 
-        See :func:`evidence1d.physics.bose_thermo.spin_wave_susceptibility`.
+        See :func:`evidence1d.physics.ordered_thermo.ordered_susceptibility`.
 
         References
         ----------
-        R. M. White (2007), Ch. 4; H. J. Schulz, Phys. Rev. Lett. 77, 2790 (1996).
+        Scalapino, Imry & Pincus (1975); Schulz (1996).
         """
-        return bose_thermo.spin_wave_susceptibility(T, p["J"], p["J_perp"], p["delta"],
-                                                    self.spin, p.get("g", 2.0), direction,
-                                                    self.n_grid, self.thermo_method)
+        return ordered_thermo.ordered_susceptibility(
+            T, _col(p["J"]), _col(p["J_perp"]), _col(p["delta"]), _col(p.get("g", 2.0)),
+            direction, self.z_perp, self.thermo_method)
 
     def heat_capacity(self, p: dict, T: np.ndarray) -> np.ndarray:
-        """Magnon-gas heat capacity joined to the high-temperature series, J/(mol K).
+        """Exact chain C above T_N, scaled magnon gas below, J/(mol K).
 
-        See :func:`evidence1d.physics.bose_thermo.spin_wave_heat_capacity`.
+        See :func:`evidence1d.physics.ordered_thermo.ordered_heat_capacity`.
 
         References
         ----------
-        R. M. White (2007), Ch. 6; Rushbrooke & Wood, Mol. Phys. 1, 257 (1958).
+        Klümper (1993); White (2007), Ch. 6.
         """
-        return bose_thermo.spin_wave_heat_capacity(T, p["J"], p["J_perp"], p["delta"],
-                                                   self.spin, self.n_grid, self.thermo_method)
+        return ordered_thermo.ordered_heat_capacity(T, _col(p["J"]), _col(p["J_perp"]),
+                                                    _col(p["delta"]), self.z_perp,
+                                                    self.thermo_method)
 
     def entropy(self, p: dict, T: np.ndarray) -> np.ndarray:
         """Magnetic entropy ∫ C/T dT of :meth:`heat_capacity`, J/(mol K).
 
         References
         ----------
-        R. M. White (2007), Ch. 6.
+        White (2007), Ch. 6.
         """
-        return bose_thermo.spin_wave_entropy(T, p["J"], p["J_perp"], p["delta"], self.spin,
-                                             self.n_grid, self.thermo_method)
+        return ordered_thermo.ordered_entropy(T, _col(p["J"]), _col(p["J_perp"]),
+                                              _col(p["delta"]), self.z_perp,
+                                              self.thermo_method)
 
     def neel_temperature(self, p: dict) -> np.ndarray:
         """Néel temperature in K from Schulz's coupled-chain relation, shape (n_sets, 1).
@@ -147,4 +162,8 @@ class SpinWaveFamily(Family):
         ----------
         H. J. Schulz, Phys. Rev. Lett. 77, 2790 (1996).
         """
-        return magnon.neel_temperature(p["J"], p["J_perp"])
+        return magnon.neel_temperature(_col(p["J"]), _col(p["J_perp"]), self.z_perp)
+
+
+def _col(a):
+    return np.asarray(a, dtype=float).reshape(-1, 1)

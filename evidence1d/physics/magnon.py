@@ -2,11 +2,14 @@
 
 Model
 -----
-Spins S on a simple orthorhombic lattice of chains: the chain runs along c with spin spacing
-d, neighbouring chains sit at a_⊥ along a and b_⊥ along b.  Each spin has 2 neighbours along
-the chain (exchange J) and 4 on the neighbouring chains (exchange J_⊥).  Every bond carries
-the same easy-axis exchange anisotropy Δ ≥ 1 (XXZ form, the convention of the whole
-project):
+Spins S on an orthorhombic lattice of chains: the chain runs along c with spin spacing d,
+neighbouring chains sit at a_⊥ along a and b_⊥ along b.  Each spin has 2 neighbours along
+the chain (exchange J) and z_⊥ on the neighbouring chains (exchange J_⊥), in one of the
+interchain geometries of :data:`INTERCHAIN`: z_⊥ = 4 (rectangular: ±a and ±b) or z_⊥ = 2
+(chains in planes: ±a only).  A triangular arrangement (z_⊥ = 6) is frustrated for
+antiferromagnetic J_⊥ and has no collinear Néel ground state, so it is rejected.  Every
+bond carries the same easy-axis exchange anisotropy Δ ≥ 1 (XXZ form, the convention of the
+whole project):
 
     H = Σ_⟨ij⟩ J_ij [S^x_i S^x_j + S^y_i S^y_j + Δ S^z_i S^z_j],   J, J_⊥ > 0 antiferromagnetic.
 
@@ -17,17 +20,23 @@ the Néel state with ordering vector (π/d, π/a_⊥, π/b_⊥), moments along z
 Linear spin-wave theory (Holstein–Primakoff bosons to order S, Bogoliubov transformation)
 gives, in the chemical Brillouin zone (one spin per cell),
 
-    J(Q)  = 2 J cos q + 2 J_⊥ (cos q_a + cos q_b),      J_0 = J(0) = 2 J + 4 J_⊥,
+    J(Q)  = 2 J cos q + J_⊥(Q_⊥),   J_⊥(Q_⊥) = 2 J_⊥ (cos q_a + cos q_b)  [z_⊥ = 4]
+                                      or 2 J_⊥ cos q_a                   [z_⊥ = 2],
+    J_0 = J(0) = 2 J + z_⊥ J_⊥,
     A     = S Δ J_0,     B(Q) = S J(Q),
     ħω(Q) = √(A² − B(Q)²) = S √((Δ J_0)² − J(Q)²),
 
-with q = Q_∥ d, q_a = Q_a a_⊥, q_b = Q_b b_⊥.  The gap, at Q = 0 and at the ordering vector,
+with q = Q_∥ d, q_a = Q_a a_⊥, q_b = Q_b b_⊥ (the ordering vector is (π, π, π) for z_⊥ = 4
+and (π, π, any) for z_⊥ = 2).  The gap, at Q = 0 and at the ordering vector,
 is ħω_gap = S J_0 √(Δ² − 1).  Each transverse spin component (x or y) has the one-magnon
 structure factor per spin
 
     S^{xx}(Q, ω) = (S/2) (A − B(Q)) / ω(Q) · {[n(ω) + 1] δ(ω − ω_Q) + n(ω) δ(ω + ω_Q)},
 
-strong at the ordering vector (B = −S J_0) and weak at Q = 0.
+strong at the ordering vector (B = −S J_0) and weak at Q = 0.  The gradient of ω(Q)
+(:func:`dispersion_gradient`) is analytic: ∂ω/∂q = 2 S² J J(Q) sin q / ω and likewise for
+the interchain phases.  For the S = 1/2 coupled chains the ordered family uses these
+formulas with renormalised exchanges (:mod:`evidence1d.physics.ordered_magnon`).
 
 References
 ----------
@@ -38,29 +47,76 @@ T. Holstein & H. Primakoff, Phys. Rev. 58, 1098 (1940).
 J. H. P. Colpa, Physica A 93, 327 (1978) (diagonalisation of quadratic boson Hamiltonians).
 H. J. Schulz, Phys. Rev. Lett. 77, 2790 (1996) (Néel temperature of weakly coupled S = 1/2
 chains).
+G. H. Wannier, Phys. Rev. 79, 357 (1950) (the triangular Ising antiferromagnet: frustration,
+no Néel order).
 """
 from __future__ import annotations
 
 import numpy as np
 from scipy import special
 
+from ..errors import InputError
 from ..units import K_B_MEV
-from . import neutron
 
 __all__ = [
-    "exchange_sum", "reduced_energy", "energy_from_exchange_sum", "dispersion", "spin_wave_gap", "one_magnon_weight",
-    "spin_wave_velocities", "transverse_spectrum", "schulz_interchain_coupling",
+    "INTERCHAIN", "check_interchain", "exchange_sum", "reduced_energy",
+    "energy_from_exchange_sum", "dispersion", "dispersion_gradient", "spin_wave_gap",
+    "one_magnon_weight", "spin_wave_velocities", "schulz_interchain_coupling",
     "neel_temperature", "OMEGA_FLOOR",
 ]
 
 #: Smallest spin-wave energy as a fraction of S J_0 (keeps 1/ω finite at a Goldstone point).
 OMEGA_FLOOR = 1e-6
-_SCHULZ_A = 1.28      # Schulz (1996): J_⊥ = T_N / (1.28 √ln(5.8 J / T_N))
+_SCHULZ_A = 1.28      # Schulz (1996): J_⊥ = T_N / (1.28 √ln(5.8 J / T_N)), z_⊥ = 4
 _SCHULZ_B = 5.8
 
+#: interchain geometries: number of neighbouring chains z_⊥ -> what they are
+INTERCHAIN = {4: "rectangular: neighbouring chains at ±a and ±b",
+              2: "planar: neighbouring chains at ±a only (chains form ac planes)"}
 
-def exchange_sum(q_par, q_a, q_b, J, J_perp):
-    """Fourier sum of the exchange J(Q) = 2 J cos q + 2 J_⊥ (cos q_a + cos q_b).
+
+def check_interchain(z_perp):
+    """Validate an interchain geometry (number of neighbouring chains z_⊥).
+
+    Parameters
+    ----------
+    z_perp : int
+        2 (planar) or 4 (rectangular); 6 (triangular) is rejected because antiferromagnetic
+        J_⊥ on a triangular arrangement of chains is frustrated and has no collinear Néel
+        state for linear spin-wave theory to expand about.
+
+    Returns
+    -------
+    int
+        ``z_perp`` as an int.
+
+    Raises
+    ------
+    InputError
+        Any other value.
+
+    References
+    ----------
+    G. H. Wannier, Phys. Rev. 79, 357 (1950) (frustration of the triangular antiferromagnet).
+    """
+    if isinstance(z_perp, (int, np.integer)) and not isinstance(z_perp, bool) \
+            and int(z_perp) in INTERCHAIN:
+        return int(z_perp)
+    if z_perp == 6:
+        raise InputError("interchain: 6 (triangular chains) is frustrated for "
+                         "antiferromagnetic J_perp and has no collinear Néel state; use 4 "
+                         "(rectangular) or 2 (planar)")
+    raise InputError(f"the 'interchain' option must be 4 (rectangular) or 2 (planar) "
+                     f"neighbouring chains; got {z_perp!r} instead")
+
+
+def _perp_sum(q_a, q_b, z_perp):
+    """cos q_a + cos q_b (z_⊥ = 4) or cos q_a (z_⊥ = 2)."""
+    return np.cos(q_a) + np.cos(q_b) if z_perp == 4 else np.cos(q_a) + 0.0 * np.asarray(q_b)
+
+
+def exchange_sum(q_par, q_a, q_b, J, J_perp, z_perp=4):
+    """Fourier sum of the exchange J(Q) = 2 J cos q + J_⊥(Q_⊥) (module notes).
 
     Parameters
     ----------
@@ -68,6 +124,8 @@ def exchange_sum(q_par, q_a, q_b, J, J_perp):
         Phases Q_∥ d, Q_a a_⊥, Q_b b_⊥ in radians, shape (n,).
     J, J_perp : array_like
         Exchanges in meV, shape (n_sets, 1); H = Σ J_ij S_i·S_j (XXZ form), J > 0 AFM.
+    z_perp : {4, 2}, optional
+        Interchain geometry (:data:`INTERCHAIN`); q_b is ignored for 2.
 
     Returns
     -------
@@ -79,13 +137,13 @@ def exchange_sum(q_par, q_a, q_b, J, J_perp):
     R. M. White, Quantum Theory of Magnetism (2007), Ch. 6 (lattice Fourier transform of
     the exchange).
     """
-    return 2.0 * J * np.cos(q_par) + 2.0 * J_perp * (np.cos(q_a) + np.cos(q_b))
+    return 2.0 * J * np.cos(q_par) + 2.0 * J_perp * _perp_sum(q_a, q_b, z_perp)
 
 
-def _a_and_b(q_par, q_a, q_b, J, J_perp, delta, spin):
-    J0 = 2.0 * J + 4.0 * J_perp
+def _a_and_b(q_par, q_a, q_b, J, J_perp, delta, spin, z_perp=4):
+    J0 = 2.0 * J + z_perp * J_perp
     A = spin * delta * J0
-    B = spin * exchange_sum(q_par, q_a, q_b, J, J_perp)
+    B = spin * exchange_sum(q_par, q_a, q_b, J, J_perp, z_perp)
     return A, B, spin * J0
 
 
@@ -117,7 +175,7 @@ def reduced_energy(d_minus, d_plus, delta):
     return np.maximum(np.sqrt(np.maximum(w2, 0.0)), OMEGA_FLOOR)
 
 
-def energy_from_exchange_sum(J_Q, J, J_perp, delta, spin):
+def energy_from_exchange_sum(J_Q, J, J_perp, delta, spin, z_perp=4):
     """Spin-wave energy S √((Δ J_0)² − J(Q)²) from a given exchange sum J(Q).
 
     Parameters
@@ -128,6 +186,8 @@ def energy_from_exchange_sum(J_Q, J, J_perp, delta, spin):
         Exchanges in meV and anisotropy Δ ≥ 1 (XXZ convention, J > 0 AFM).
     spin : float
         Spin S.
+    z_perp : {4, 2}, optional
+        Interchain geometry (J_0 = 2 J + z_⊥ J_⊥).
 
     Returns
     -------
@@ -138,7 +198,7 @@ def energy_from_exchange_sum(J_Q, J, J_perp, delta, spin):
     ----------
     R. M. White, Quantum Theory of Magnetism, 3rd ed. (Springer, 2007), Ch. 6.
     """
-    J0 = 2.0 * np.asarray(J, float) + 4.0 * np.asarray(J_perp, float)
+    J0 = 2.0 * np.asarray(J, float) + z_perp * np.asarray(J_perp, float)
     J_Q = np.asarray(J_Q, float)
     safe = np.where(J0 > 0, J0, 1.0)
     # J_0 ∓ J(Q) are exact differences near the minima (Sterbenz), so ω keeps its digits
@@ -147,7 +207,7 @@ def energy_from_exchange_sum(J_Q, J, J_perp, delta, spin):
     return spin * J0 * reduced_energy(d_m, d_p, delta)
 
 
-def dispersion(q_par, q_a, q_b, J, J_perp, delta, spin):
+def dispersion(q_par, q_a, q_b, J, J_perp, delta, spin, z_perp=4):
     """Linear spin-wave energy ħω(Q) = S √((Δ J_0)² − J(Q)²) of the coupled-chain Néel state.
 
     Parameters
@@ -161,6 +221,8 @@ def dispersion(q_par, q_a, q_b, J, J_perp, delta, spin):
         Easy-axis exchange anisotropy Δ ≥ 1 (dimensionless), shape (n_sets, 1).
     spin : float
         Spin quantum number S.
+    z_perp : {4, 2}, optional
+        Interchain geometry (:data:`INTERCHAIN`).
 
     Returns
     -------
@@ -173,12 +235,54 @@ def dispersion(q_par, q_a, q_b, J, J_perp, delta, spin):
     R. M. White, Quantum Theory of Magnetism, 3rd ed. (Springer, 2007), Ch. 6;
     T. Holstein & H. Primakoff, Phys. Rev. 58, 1098 (1940).
     """
-    return energy_from_exchange_sum(exchange_sum(q_par, q_a, q_b, J, J_perp), J, J_perp,
-                                    delta, spin)
+    return energy_from_exchange_sum(exchange_sum(q_par, q_a, q_b, J, J_perp, z_perp), J,
+                                    J_perp, delta, spin, z_perp)
 
 
-def spin_wave_gap(J, J_perp, delta, spin):
-    """Spin-wave gap S J_0 √(Δ² − 1), J_0 = 2 J + 4 J_⊥, at Q = 0 and the ordering vector.
+def dispersion_gradient(q_par, q_a, q_b, J, J_perp, delta, spin, z_perp=4):
+    """Spin-wave energy and its analytic derivatives with respect to the three phases.
+
+    From ω² = S² ((Δ J_0)² − J(Q)²): ∂ω/∂q = 2 S² J J(Q) sin q / ω,
+    ∂ω/∂q_a = 2 S² J_⊥ J(Q) sin q_a / ω, and for z_⊥ = 4 ∂ω/∂q_b = 2 S² J_⊥ J(Q) sin q_b / ω
+    (0 for z_⊥ = 2).  Near a Goldstone point the ratio stays finite (the velocity); where
+    ω sits on its floor the derivatives are set by the floored ω.
+
+    Parameters
+    ----------
+    q_par, q_a, q_b : array_like
+        Phases in radians, shape (n,).
+    J, J_perp, delta : array_like
+        Exchanges in meV and anisotropy Δ ≥ 1, shape (n_sets, 1) (XXZ convention, J > 0
+        AFM).
+    spin : float
+        Spin S.
+    z_perp : {4, 2}, optional
+        Interchain geometry.
+
+    Returns
+    -------
+    omega, d_q, d_qa, d_qb : ndarray, shape (n_sets, n)
+        ħω in meV and ∂ħω/∂(phase) in meV per radian; multiply by d, a_⊥ or b_⊥ (Å) for
+        ∂ħω/∂Q in meV Å.
+
+    References
+    ----------
+    R. M. White, Quantum Theory of Magnetism, 3rd ed. (Springer, 2007), Ch. 6 (the
+    dispersion differentiated in closed form).
+    """
+    J = np.asarray(J, float)
+    Jp = np.asarray(J_perp, float)
+    J_Q = exchange_sum(q_par, q_a, q_b, J, Jp, z_perp)
+    omega = energy_from_exchange_sum(J_Q, J, Jp, delta, spin, z_perp)
+    f = 2.0 * spin * spin * J_Q / omega
+    d_q = f * J * np.sin(q_par)
+    d_qa = f * Jp * np.sin(q_a)
+    d_qb = f * Jp * np.sin(q_b) if z_perp == 4 else np.zeros_like(d_q)
+    return omega, d_q, d_qa, d_qb
+
+
+def spin_wave_gap(J, J_perp, delta, spin, z_perp=4):
+    """Spin-wave gap S J_0 √(Δ² − 1), J_0 = 2 J + z_⊥ J_⊥, at Q = 0 and the ordering vector.
 
     Parameters
     ----------
@@ -188,6 +292,8 @@ def spin_wave_gap(J, J_perp, delta, spin):
         Easy-axis anisotropy Δ ≥ 1.
     spin : float
         Spin S.
+    z_perp : {4, 2}, optional
+        Interchain geometry.
 
     Returns
     -------
@@ -199,12 +305,12 @@ def spin_wave_gap(J, J_perp, delta, spin):
     R. M. White, Quantum Theory of Magnetism (2007), Ch. 6 (anisotropy gap of the
     two-sublattice antiferromagnet).
     """
-    J0 = 2.0 * np.asarray(J, float) + 4.0 * np.asarray(J_perp, float)
+    J0 = 2.0 * np.asarray(J, float) + z_perp * np.asarray(J_perp, float)
     d = np.asarray(delta, float)
     return spin * J0 * np.sqrt(np.maximum(d * d - 1.0, 0.0))
 
 
-def one_magnon_weight(q_par, q_a, q_b, J, J_perp, delta, spin):
+def one_magnon_weight(q_par, q_a, q_b, J, J_perp, delta, spin, z_perp=4):
     """Zero-temperature one-magnon weight of one transverse spin component per spin.
 
     w(Q) = (S/2) (A − B(Q)) / ω(Q), A = S Δ J_0, B = S J(Q): the integral over energy of
@@ -218,6 +324,8 @@ def one_magnon_weight(q_par, q_a, q_b, J, J_perp, delta, spin):
         Exchanges (meV) and anisotropy, shape (n_sets, 1); XXZ convention, J > 0 AFM.
     spin : float
         Spin S.
+    z_perp : {4, 2}, optional
+        Interchain geometry.
 
     Returns
     -------
@@ -229,16 +337,17 @@ def one_magnon_weight(q_par, q_a, q_b, J, J_perp, delta, spin):
     R. M. White, Quantum Theory of Magnetism (2007), Ch. 6 (transverse correlation function
     of the antiferromagnet in spin-wave theory); J. H. P. Colpa, Physica A 93, 327 (1978).
     """
-    A, B, _ = _a_and_b(q_par, q_a, q_b, J, J_perp, delta, spin)
-    omega = energy_from_exchange_sum(B / spin, J, J_perp, delta, spin)
+    A, B, _ = _a_and_b(q_par, q_a, q_b, J, J_perp, delta, spin, z_perp)
+    omega = energy_from_exchange_sum(B / spin, J, J_perp, delta, spin, z_perp)
     return 0.5 * spin * (A - B) / omega
 
 
-def spin_wave_velocities(J, J_perp, spin, d=1.0, a_perp=1.0, b_perp=1.0):
+def spin_wave_velocities(J, J_perp, spin, d=1.0, a_perp=1.0, b_perp=1.0, z_perp=4):
     """Spin-wave velocities at a Goldstone point of the isotropic (Δ = 1) model.
 
     Expanding ω near the ordering vector: ħω ≈ √(c_∥² k_∥² + c_⊥² (k_a² + k_b²)) with
-    c_∥ = S √(2 J J_0) d and c_⊥ = S √(2 J_⊥ J_0) a_⊥ (b_⊥ for b), J_0 = 2 J + 4 J_⊥.
+    c_∥ = S √(2 J J_0) d and c_⊥ = S √(2 J_⊥ J_0) a_⊥ (b_⊥ for b; 0 for z_⊥ = 2),
+    J_0 = 2 J + z_⊥ J_⊥.
 
     Parameters
     ----------
@@ -248,6 +357,8 @@ def spin_wave_velocities(J, J_perp, spin, d=1.0, a_perp=1.0, b_perp=1.0):
         Spin S.
     d, a_perp, b_perp : float, optional
         Spacings in Å; with the default 1 the velocities are per radian of phase (meV).
+    z_perp : {4, 2}, optional
+        Interchain geometry.
 
     Returns
     -------
@@ -261,67 +372,21 @@ def spin_wave_velocities(J, J_perp, spin, d=1.0, a_perp=1.0, b_perp=1.0):
     """
     J = np.asarray(J, float)
     J_perp = np.asarray(J_perp, float)
-    J0 = 2.0 * J + 4.0 * J_perp
+    J0 = 2.0 * J + z_perp * J_perp
     v_par = spin * np.sqrt(2.0 * J * J0) * d
     v_perp = spin * np.sqrt(2.0 * J_perp * J0)
-    return v_par, v_perp * a_perp, v_perp * b_perp
-
-
-def transverse_spectrum(q_par, q_a, q_b, energy, sigma, temperature, J, J_perp, delta,
-                        spin, damping=None):
-    """Resolution-convolved one-magnon S^{xx}(Q, E) of one transverse component, per spin.
-
-    Two modes at E = ±ħω(Q) with weights w(Q) · E[n(E)+1]/ω evaluated at E = ±ω, so that
-    the areas obey detailed balance S(Q, −ω)/S(Q, ω) = e^{−ω/k_BT}; each mode is a Gaussian
-    of the resolution width (a Voigt profile with Lorentzian HWHM ``damping`` if given).
-
-    Parameters
-    ----------
-    q_par, q_a, q_b : ndarray, shape (n,)
-        Phases in radians.
-    energy, sigma : ndarray, shape (n,)
-        Energy transfer and resolution standard deviation in meV.
-    temperature : float
-        Sample temperature in K.
-    J, J_perp, delta : ndarray, shape (n_sets, 1)
-        Exchanges in meV and anisotropy Δ (XXZ convention, J > 0 AFM).
-    spin : float
-        Spin S.
-    damping : ndarray, shape (n_sets, 1), optional
-        Lorentzian HWHM in meV; ``None`` or all zero gives sharp modes.
-
-    Returns
-    -------
-    ndarray, shape (n_sets, n)
-        S^{xx}(Q, E) in 1/meV per spin.
-
-    References
-    ----------
-    R. M. White, Quantum Theory of Magnetism (2007), Ch. 6; S. W. Lovesey, Theory of
-    Neutron Scattering from Condensed Matter, Vol. 1 (1984), Ch. 4 (detailed balance).
-    """
-    A, B, _ = _a_and_b(q_par, q_a, q_b, J, J_perp, delta, spin)
-    omega = energy_from_exchange_sum(B / spin, J, J_perp, delta, spin)
-    w0 = 0.5 * spin * (A - B) / omega
-    centers = np.stack([omega, -omega], axis=-1)                   # (n_sets, n, 2)
-    loss = w0 * neutron.bose_energy_factor(omega, temperature) / omega    # w0 [n(ω) + 1]
-    gain = loss * neutron.boltzmann_ratio(omega, temperature)             # w0 n(ω)
-    weights = np.stack([loss, gain], axis=-1)
-    gamma = None
-    if damping is not None:
-        gamma = np.asarray(damping, dtype=float)
-        if np.all(gamma == 0.0):
-            gamma = None
-        else:
-            gamma = np.broadcast_to(gamma, omega.shape)[..., None]
-    return neutron.convolve_modes(energy, sigma, centers, weights, gamma)
+    return v_par, v_perp * a_perp, v_perp * b_perp * (z_perp == 4)
 
 
 # ------------------------------------------------------------------------ Néel temperature
-def schulz_interchain_coupling(T_N, J):
+def schulz_interchain_coupling(T_N, J, z_perp=4):
     """Interchain exchange that gives the Néel temperature T_N of coupled S = 1/2 chains.
 
-    J_⊥ = k_B T_N / (1.28 √ln(5.8 J / k_B T_N)), for k_B T_N < 5.8 J (z_⊥ = 4 neighbours).
+    J_⊥ = (4/z_⊥) k_B T_N / (1.28 √ln(5.8 J / k_B T_N)), for k_B T_N < 5.8 J.  Schulz's
+    relation is derived for z_⊥ = 4 from the interchain mean-field (random-phase)
+    criterion z_⊥ J_⊥ χ_s(T_N) = 1 with the chain's staggered susceptibility χ_s, so it
+    depends on z_⊥ J_⊥ only; the factor 4/z_⊥ carries it to other geometries (our
+    generalisation, exact within that criterion).
 
     Parameters
     ----------
@@ -329,6 +394,8 @@ def schulz_interchain_coupling(T_N, J):
         Néel temperature in K (≥ 0).
     J : array_like
         Chain exchange in meV (H = J Σ S_i·S_{i+1}, J > 0 AFM).
+    z_perp : {4, 2}, optional
+        Number of neighbouring chains.
 
     Returns
     -------
@@ -345,13 +412,14 @@ def schulz_interchain_coupling(T_N, J):
     with np.errstate(divide="ignore", invalid="ignore"):
         L = np.log(_SCHULZ_B * J / np.where(t > 0, t, 1.0))
         out = t / (_SCHULZ_A * np.sqrt(np.where(L > 0, L, np.nan)))
-    return np.where(t > 0, out, 0.0)
+    return np.where(t > 0, out, 0.0) * (4.0 / z_perp)
 
 
-def neel_temperature(J, J_perp):
+def neel_temperature(J, J_perp, z_perp=4):
     """Néel temperature of weakly coupled chains from Schulz's relation, inverted.
 
-    Solves J_⊥ = k_B T_N / (1.28 √ln(5.8 J / k_B T_N)) for T_N.  With x = k_B T_N / J and
+    Solves (z_⊥/4) J_⊥ = k_B T_N / (1.28 √ln(5.8 J / k_B T_N)) for T_N (the z_⊥ scaling as
+    in :func:`schulz_interchain_coupling`).  With x = k_B T_N / J and
     L = ln(5.8 / x) the relation reads 2L + ln L = 2 ln(5.8 J / (1.28 J_⊥)), whose solution
     is L = W(2 (5.8 J / 1.28 J_⊥)²) / 2 with W the principal Lambert function; the
     right-hand side is monotonic, so the root is unique for every J_⊥ > 0.  For very small
@@ -374,7 +442,7 @@ def neel_temperature(J, J_perp):
     Adv. Comput. Math. 5, 329 (1996).
     """
     J = np.asarray(J, dtype=float)
-    Jp = np.asarray(J_perp, dtype=float)
+    Jp = np.asarray(J_perp, dtype=float) * (z_perp / 4.0)
     J, Jp = np.broadcast_arrays(J, Jp)
     pos = (Jp > 0) & (J > 0)
     c = np.where(pos, np.log(_SCHULZ_B / _SCHULZ_A) + np.log(np.where(pos, J, 1.0))

@@ -1,11 +1,12 @@
 """The shipped spin-wave thermodynamics table of the coupled-chain antiferromagnet.
 
-In units of S J_0 (J_0 = 2 J + 4 J_⊥) the linear spin-wave dispersion of
-:mod:`evidence1d.physics.magnon` depends only on r = J_⊥/J and Δ, so the magnon-gas zone
-averages C/R, S/R and ⟨n(n+1)⟩ (:func:`log_zone_averages`) are functions of
-τ = k_B T / (S J_0), r and Δ for every spin S.  ``tables/spin_wave_thermo.npz`` (built by
+In units of S J_0 (J_0 = 2 J + z_⊥ J_⊥) the linear spin-wave dispersion of
+:mod:`evidence1d.physics.magnon` depends only on r = J_⊥/J, Δ and the interchain geometry
+(z_⊥ = 2 or 4 neighbouring chains), so the magnon-gas zone averages C/R, S/R and ⟨n(n+1)⟩
+(:func:`log_zone_averages`) are functions of τ = k_B T / (S J_0), r and Δ for every spin S,
+one table per geometry.  ``tables/spin_wave_thermo.npz`` (built by
 ``scripts/build_spin_wave_table.py`` with a finer zone rule than the direct path of
-:mod:`evidence1d.physics.bose_thermo`) holds Y = ln F + g/τ, g = √(Δ² − 1), on a uniform
+:mod:`evidence1d.physics.bose_thermo`) holds, per geometry, Y = ln F + g/τ, g = √(Δ² − 1), on a uniform
 grid in (ln τ, asinh(r/r_0), asinh(g/g_0)): the shift g/τ takes out the activated factor,
 the asinh coordinates are logarithmic away from and analytic through r = 0 and Δ = 1.
 
@@ -103,22 +104,30 @@ class _Table:
         with np.load(path) as raw:
             self.s, self.x, self.y = (raw[k].astype(float) for k in ("ln_tau", "x_r", "y_gap"))
             self.r_0, self.g_0 = float(raw["r_0"]), float(raw["g_0"])
+            self.z_perp = tuple(int(z) for z in raw["z_perp"])
             data = np.stack([raw[k].astype(float) for k in ("y_c", "y_s", "y_l")], -1)
-        for ax, grid in enumerate((self.x, self.y, self.s)):     # data: (n_r, n_g, n_s, 3)
-            data = np.moveaxis(np.tensordot(_spline_matrix(grid.size), data, (1, ax)), 0, ax)
-        self.coef = [np.ascontiguousarray(data[..., k]) for k in range(3)]   # C, S, n(n+1)
+        self.coef = {}
+        for iz, z in enumerate(self.z_perp):                  # data: (n_z, n_r, n_g, n_s, 3)
+            d = data[iz]
+            for ax, grid in enumerate((self.x, self.y, self.s)):
+                d = np.moveaxis(np.tensordot(_spline_matrix(grid.size), d, (1, ax)), 0, ax)
+            self.coef[z] = [np.ascontiguousarray(d[..., k]) for k in range(3)]  # C, S, n(n+1)
         self.r_max = self.r_0 * np.sinh(self.x[-1])
         self.delta_max = np.sqrt(1.0 + (self.g_0 * np.sinh(self.y[-1])) ** 2)
 
-    def columns(self, J, J_perp, delta, spin, funcs=(0, 1, 2)):
+    def columns(self, J, J_perp, delta, spin, funcs=(0, 1, 2), z_perp=4):
         """Spline columns along ln τ per set (of ``funcs``: 0 C, 1 S, 2 ⟨n(n+1)⟩), energy
-        unit S J_0, gap g and the in-table mask."""
+        unit S J_0 (J_0 = 2 J + z_⊥ J_⊥), gap g and the in-table mask."""
+        if z_perp not in self.coef:
+            raise InputError(f"the magnon-gas table holds interchain geometries "
+                             f"{self.z_perp}; got z_perp = {z_perp!r}")
+        coef = self.coef[z_perp]
         J, Jp, d = np.broadcast_arrays(*(np.asarray(a, float).reshape(-1, 1)
                                          for a in (J, J_perp, delta)))
         with np.errstate(divide="ignore", invalid="ignore"):
             r = np.where(J > 0, Jp / np.where(J > 0, J, 1.0), np.inf)
-        inside = ((J > 0) & (Jp >= 0) & (r <= self.r_max) & (d >= 1.0)
-                  & (d <= self.delta_max))[:, 0]
+        inside = ((J > 0) & (Jp >= 0) & (r <= self.r_max * (1 + 1e-12)) & (d >= 1.0)
+                  & (d <= self.delta_max * (1 + 1e-12)))[:, 0]
         g = np.sqrt(np.maximum(d * d - 1.0, 0.0))
         pos = []
         for v, grid in ((np.arcsinh(r / self.r_0), self.x), (np.arcsinh(g / self.g_0), self.y)):
@@ -128,9 +137,9 @@ class _Table:
         a4 = np.arange(4)
         idx = ((ir[:, None] + a4)[:, :, None], (ig[:, None] + a4)[:, None, :])
         w = (br[:, :, None] * bg[:, None, :]).reshape(-1, 1, 16)
-        cols = np.stack([(w @ self.coef[k][idx].reshape(w.shape[0], 16, -1))[:, 0]
+        cols = np.stack([(w @ coef[k][idx].reshape(w.shape[0], 16, -1))[:, 0]
                          for k in funcs], -1)
-        return cols, spin * (2.0 * J + 4.0 * Jp), g, inside
+        return cols, spin * (2.0 * J + z_perp * Jp), g, inside
 
     def evaluate(self, cols, ln_tau):
         """Y (n_sets, n, 3) and dY/d ln τ at ln τ (n_sets, n); linear beyond the grid."""
