@@ -7,10 +7,13 @@ Kinds
                       ``error``; wavevectors in r.l.u. or Å⁻¹.
 ``powder_spectrum``   powder neutron spectrum: ``Q`` (|Q|, Å⁻¹), ``energy``, ``intensity``,
                       ``error``.
-``susceptibility``    ``T``, ``chi``, ``error``; emu/mol or m³/mol; per magnetic ion or per
-                      formula unit.
+``susceptibility``    ``T``, ``chi``, ``error``; emu/mol or m³/mol.
 ``heat_capacity``     ``T``, ``C``, ``error``; J/mol/K or mJ/mol/K.
 ``entropy``           magnetic entropy ``T``, ``S``, ``error``; J/mol/K or mJ/mol/K.
+
+Thermodynamic kinds take ``per: formula_unit`` (divided by the sample's
+``ions_per_formula_unit``).  Points with a non-finite value or error, or an error <= 0, are
+an error unless the dataset says ``masked: drop``.
 
 Internal units: meV, K, Å⁻¹, emu/mol of magnetic ion, J/(mol K) of magnetic ion.
 """
@@ -200,7 +203,7 @@ def _declared_units(block, spec, kind):
 def _read_source(path, block, spec):
     if Path(path).suffix.lower() in NEXUS_SUFFIXES:
         from .nexus import read_nexus
-        return read_nexus(path, block["kind"], entry=block.get("entry"))
+        return read_nexus(path, entry=block.get("entry"))
     if block.get("entry") is not None:
         raise InputError("'entry' names a group of an HDF5/NeXus file, but the data file is "
                          f"text; remove 'entry' or use a {', '.join(NEXUS_SUFFIXES)} file",
@@ -280,7 +283,10 @@ def load_dataset(block: dict, path: Path, *, name: str, sample) -> Dataset:
     where = block["_where"]
     declared = _declared_units(block, spec, kind)
     table = _read_source(path, block, spec)
-    found, unused = match_columns(table, spec, block.get("columns"), where=where)
+    # HDF5: the signal is the measured value and its errors the error, whatever their names
+    mapping = {spec.value if r == "value" else r: c for r, c in table.roles.items()}
+    mapping.update(block.get("columns") or {})
+    found, unused = match_columns(table, spec, mapping, where=where)
     units = merge_header_units(table, spec, found, declared, where=where)
     for ukey, accepted in spec.units.items():
         if ukey not in units:

@@ -44,6 +44,8 @@ class Table:
         HDF5 files: column to the HDF5 path of its array.
     shape : tuple of int or None
         HDF5 files: shape of the signal array (to name a point by its index).
+    roles : dict of str to str
+        HDF5 files: the columns that are the signal (``value``) and its errors (``error``).
     """
 
     path: Path
@@ -54,6 +56,7 @@ class Table:
     header_line: int | None = None
     keys: dict = field(default_factory=dict)
     shape: tuple | None = None
+    roles: dict = field(default_factory=dict)
 
     def __len__(self) -> int:
         return len(self.lines)
@@ -65,7 +68,7 @@ class Table:
         path of the array with the point's index.
         """
         if self.keys:
-            key = self.keys.get(column)
+            key = self.keys.get(column, self.keys.get(None))
             if key is not None and row is not None and self.shape is not None:
                 idx = np.unravel_index(int(self.lines[row]), self.shape)
                 key = f"{key}[{', '.join(str(int(i)) for i in idx)}]"
