@@ -116,11 +116,12 @@ def _delimiter(text: str):
     return None
 
 
-def split_header(text: str, delim=None) -> list:
+def split_header(text: str, delim=None, attach_units: bool = True) -> list:
     """Split a header line into column names.
 
     With white space as the delimiter a bracketed unit stays with its name (``E (meV)``,
-    ``C [J/(mol K)]``); surrounding quotes are removed.
+    ``C [J/(mol K)]``; ``attach_units=False`` keeps a cell that starts with a bracket on its
+    own, for a row of units); surrounding quotes are removed.
     """
     if delim is not None:
         parts = [p.strip() for p in text.split(delim)]
@@ -129,7 +130,7 @@ def split_header(text: str, delim=None) -> list:
         for tok in text.split():
             open_ = sum(parts[-1].count(c) for c in "([") - sum(parts[-1].count(c)
                                                                  for c in ")]") if parts else 0
-            if parts and (open_ > 0 or tok[0] in "(["):
+            if parts and (open_ > 0 or (attach_units and tok[0] in "([")):
                 parts[-1] += " " + tok
             else:
                 parts.append(tok)
@@ -183,6 +184,24 @@ def _find_header(raw, known):
     return None, None, None
 
 
+def _units_row(raw, header_line, header, known, delim):
+    """(line, cells) of a row of units right under the header (``K  emu/mol  emu/mol``,
+    commented or not), or None: as many cells as columns, none a number or a column name."""
+    for n in range(header_line + 1, len(raw) + 1):
+        text = raw[n - 1].strip()
+        if not text:
+            continue
+        content = text.lstrip("#").strip()
+        if not content:
+            continue
+        cells = split_header(content, delim, attach_units=False)
+        if (len(cells) != len(header) or any(_is_number(c) for c in cells)
+                or any(parse_column_name(c)[0].lower() in known for c in cells)):
+            return None
+        return n, cells
+    return None
+
+
 def read_table(path, *, known=None, allow_nonfinite: bool = False) -> Table:
     """Read a delimited text table.
 
@@ -192,12 +211,14 @@ def read_table(path, *, known=None, allow_nonfinite: bool = False) -> Table:
         Text file: optional ``#`` comment lines, a header line naming the columns, then one
         row per line. Comma, semicolon, tab or white space separate the cells.  If the first
         line that is not a comment holds numbers only, the last comment line above it whose
-        fields are column names (at least two of them in ``known``) is the header.
+        fields are column names (at least two of them in ``known``) is the header.  A row of
+        units right under the header (``K  emu/mol  emu/mol``) gives the units of columns
+        whose names carry none.
     known : set of str, optional
         Lower-case column names recognised in a commented header (any names if omitted).
     allow_nonfinite : bool
-        Accept NaN and infinite cells (the caller decides what they mean); by default they
-        are an error.
+        Accept NaN and infinite cells, and read empty cells as NaN (the caller decides what
+        they mean); by default they are an error.
 
     Returns
     -------
@@ -232,10 +253,17 @@ def read_table(path, *, known=None, allow_nonfinite: bool = False) -> Table:
     names, units = {}, {}
     for h in header:
         names[h], units[h] = parse_column_name(h)
+    units_line = None if known is None else _units_row(raw, header_line, header, known, delim)
+    if units_line is not None:
+        n_u, cells = units_line
+        for h, cell in zip(header, cells):
+            cell = cell.strip().strip("[]()").strip()
+            if units[h] is None and cell not in ("", "-", "1"):
+                units[h] = cell
     rows, lines = [], []
     for n, text in enumerate(raw, start=1):
         body = text.split("#", 1)[0].strip()
-        if n <= header_line or not body:
+        if n <= header_line or not body or (units_line is not None and n == units_line[0]):
             continue
         cells = _split(body, delim)
         if len(cells) != len(header):
@@ -244,7 +272,7 @@ def read_table(path, *, known=None, allow_nonfinite: bool = False) -> Table:
         values = []
         for name, cell in zip(header, cells):
             try:
-                x = float(cell)
+                x = float(cell) if (cell or not allow_nonfinite) else math.nan  # empty: NaN
             except ValueError:
                 hint = ("; decimal commas are not read: use a point" if "," in cell
                         else "")

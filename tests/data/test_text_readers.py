@@ -267,3 +267,32 @@ def test_read_table_still_rejects_nan_by_default(tmp_path):
     with pytest.raises(InputError, match="not finite"):
         read_table(p)
     assert math.isnan(read_table(p, allow_nonfinite=True).columns["chi"][0])
+
+
+# ------------------------------------------------------------------ units rows, empty cells
+@pytest.mark.parametrize("head", ["T chi dchi\nK emu/mol emu/mol",
+                                  "# T chi dchi\n# K [emu/mol] [emu/mol]",
+                                  "T, chi, dchi\nK, m3/mol, m3/mol"])
+def test_row_of_units_under_the_header(folder, head):
+    edit_file(folder / "case.yaml", "units: {temperature: K, chi: emu/mol}", "units: {}")
+    _chi_file(folder, head, sep=", " if "," in head else " ")
+    ds = _ds(load_case(folder / "case.yaml"), "chi")
+    assert ds.n == len(T)
+    assert ds.units == {"temperature": "K", "chi": "m3/mol" if "m3" in head else "emu/mol"}
+
+
+def test_units_row_clash_is_an_error(folder, capsys):
+    _chi_file(folder, "T chi err\nK m3/mol m3/mol")
+    code, err = check_command(capsys, folder / "case.yaml")
+    assert code == 2 and "unit clash" in err and "column 'chi'" in err
+
+
+def test_empty_cells_are_masked_points(folder, capsys):
+    rows = [f"{t:.3f},{'' if i == 4 else f'{c:.6g}'},1e-4" for i, (t, c) in enumerate(zip(T, CHI))]
+    _chi_file(folder, "T,chi,error", rows=rows)
+    code, err = check_command(capsys, folder / "case.yaml")
+    assert code == 2 and "chi.csv:6" in err and "column 'chi'" in err and "masked: drop" in err
+    edit_file(folder / "case.yaml", "units: {temperature: K, chi: emu/mol}",
+              "units: {temperature: K, chi: emu/mol}\n    masked: drop")
+    ds = _ds(load_case(folder / "case.yaml"), "chi")
+    assert ds.n == len(T) - 1 and ds.masked["non-finite value"] == 1
