@@ -84,7 +84,9 @@ _DATASET = Spec({
 
 _MODEL = Spec({"name": Field(as_str, default=None, help="bundled model name"),
                "card": Field(as_str, default=None, help="path of a model card of your own"),
-               "priors": Field(_mapping, default={}, help="prior overrides")},
+               "priors": Field(_mapping, default={}, help="prior overrides"),
+               "options": Field(_mapping, default={},
+                                help="family options overriding the card's (e.g. interchain)")},
               what="a model entry")
 
 #: sampler settings and their defaults (``--quick`` scales them down)
@@ -283,6 +285,22 @@ def _check_spin(card, sample, doc, where) -> None:
                         "sample.spin", where)
 
 
+def _with_options(card, options, sample, doc, where):
+    """The card with the case file's family options laid over its own, checked by building
+    the family once (unknown options and bad values are one-line errors at ``where``)."""
+    import dataclasses
+
+    from .families import FAMILY_CLASSES
+    from .problem import _make_family
+    new = dataclasses.replace(card, options={**card.options, **options})
+    try:
+        _make_family(FAMILY_CLASSES[card.family], new, sample)
+    except InputError as exc:
+        key = exc.key.split(".", 1)[-1] if exc.key and exc.key.startswith("options.") else None
+        raise doc.error(exc.message, f"{where}.{key}" if key else where) from None
+    return new
+
+
 def load_case(path) -> Case:
     """Read and validate a case file.
 
@@ -394,6 +412,8 @@ def load_case(path) -> Case:
         if card.name in models:
             raise doc.error(f"model '{card.name}' is listed twice", where)
         _check_spin(card, sample, doc, where)
+        if m["options"]:
+            card = _with_options(card, m["options"], sample, doc, f"{where}.options")
         overrides = {}
         for pk, spec in (m["priors"] or {}).items():
             if pk not in card.parameters:

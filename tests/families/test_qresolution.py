@@ -94,11 +94,3 @@ def test_bad_q_fwhm_is_one_line_error(valid_case, capsys, bad):
               f"resolution: {{fwhm: [0.1, 0.02], q_fwhm: {bad}}}")
     code, err = check_command(capsys, valid_case)
     assert code == 2 and "q_fwhm" in err and len(err.splitlines()) == 1, err
-
-
-def test_family_spin_declared_rejects_other_spin(valid_case, capsys, monkeypatch):
-    from evidence1d.families.spinon import SpinonFamily
-    monkeypatch.setattr(SpinonFamily, "spins", (0.5,))
-    edit_file(valid_case, "spin: 0.5", "spin: 1")
-    code, err = check_command(capsys, valid_case)
-    assert code == 2 and "spin 0.5 only" in err and len(err.splitlines()) == 1, err
