@@ -195,15 +195,17 @@ def ordered_susceptibility(T, J, J_perp, delta, g, direction="powder", z_perp=4,
     T, J, Jp, d, TN, ordered = _prepare(T, J, J_perp, delta, z_perp)
     below = T[None, :] < TN
     any_below = bool(np.any(below))
-    out = 0.0
     parts = {"z": ("chi_star", d), "xy": ("chi_star_perp", 1.0)}
     weights = {"z": 1.0 / 3.0, "xy": 2.0 / 3.0} if direction == "powder" else {direction: 1.0}
+    keys = tuple(parts[c][0] for c in weights)
+    chain = _chain(T, J, d, keys)
+    chain_N = _chain_at(TN, J, d, keys) if any_below else None
+    out = 0.0
     for comp, wgt in weights.items():
         key, kappa = parts[comp]
-        chi = rpa_susceptibility(_chain(T, J, d, (key,))[key], J, Jp, kappa, z_perp)
+        chi = rpa_susceptibility(chain[key], J, Jp, kappa, z_perp)
         if any_below:
-            chi_N = rpa_susceptibility(_chain_at(TN, J, d, (key,))[key], J, Jp, kappa,
-                                       z_perp)
+            chi_N = rpa_susceptibility(chain_N[key], J, Jp, kappa, z_perp)
             if comp == "xy":
                 low = np.broadcast_to(chi_N, chi.shape)
             else:
