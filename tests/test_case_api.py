@@ -29,14 +29,14 @@ def test_parameter_names_physical_then_nuisance(tmp_path):
         "sampler: {", "sampler: {marginalise: false, ")
     case = evidence1d.load_case(write_valid_case(tmp_path / "c", text))
     names = case.parameter_names("gapped_spin_wave")
-    # damping is fixed at 0 by the card's default prior, so it is not sampled
-    assert names[:4] == ["J", "J_perp", "delta", "g"]
-    assert names[4:] == NUISANCES
+    # the damping ratio is sampled by the card's default prior
+    assert names[:5] == ["J", "J_perp", "delta", "damping", "g"]
+    assert names[5:] == NUISANCES
     assert case.marginalised_names("gapped_spin_wave") == []
 
 
 def test_marginalised_nuisances_are_not_sampled(case):
-    assert case.parameter_names("gapped_spin_wave") == ["J", "J_perp", "delta", "g"]
+    assert case.parameter_names("gapped_spin_wave") == ["J", "J_perp", "delta", "damping", "g"]
     assert sorted(case.marginalised_names("gapped_spin_wave")) == sorted(NUISANCES)
 
 
