@@ -11,6 +11,7 @@ from pathlib import Path
 
 from .cards import ModelCard, card_path, load_card
 from .data import KINDS, SPECTRUM_KINDS, Dataset, load_dataset
+from .data.geometry import make_geometry
 from .errors import InputError, closest_key
 from .schema import (Field, Spec, as_bool, as_float_list, as_int, as_positive_float,
                      as_positive_int, as_str, check_mapping, load_yaml, one_of)
@@ -30,8 +31,11 @@ def _mapping(v, where):
 
 _LATTICE = Spec({"a": Field(as_positive_float, required=True, help="Å"),
                  "b": Field(as_positive_float, required=True, help="Å"),
-                 "c": Field(as_positive_float, required=True, help="Å, along the chain")},
-                what="lattice (a, b, c in Å; chain along c)")
+                 "c": Field(as_positive_float, required=True, help="Å"),
+                 "alpha": Field(as_positive_float, default=90.0, help="degrees, b to c"),
+                 "beta": Field(as_positive_float, default=90.0, help="degrees, a to c"),
+                 "gamma": Field(as_positive_float, default=90.0, help="degrees, a to b")},
+                what="lattice (a, b, c in Å; alpha, beta, gamma in degrees, default 90)")
 
 _SAMPLE = Spec({
     "name": Field(as_str, default="sample", help="sample name"),
@@ -41,7 +45,9 @@ _SAMPLE = Spec({
     "g": Field(_mapping, default=None, help="prior of the g factor {kind: normal, ...}"),
     "spin_spacing": Field(as_positive_float, required=True,
                           help="spin spacing d along the chain in Å"),
-    "lattice": Field(_any, required=True, help="{a, b, c} in Å"),
+    "lattice": Field(_any, required=True, help="{a, b, c} in Å, {alpha, beta, gamma} in °"),
+    "chain": Field(_any, default="c", help="chain direction: a crystal axis (a, b, c) or a "
+                                           "real-space vector [u, v, w]"),
     "ions_per_formula_unit": Field(as_positive_float, default=None,
                                    help="magnetic ions per formula unit (per-formula-unit data)"),
     "formula_units_per_ion": Field(as_positive_float, default=None,
@@ -132,11 +138,13 @@ class Sample:
     spin_spacing : float
         d in Å.
     lattice : dict
-        a, b, c in Å (chain along c).
+        a, b, c in Å; alpha, beta, gamma in degrees.
     formula_units_per_ion : float
         1 / ions_per_formula_unit (1 if undeclared).
     ions_per_formula_unit : float or None
         Magnetic ions per formula unit, None if the case file does not say.
+    geometry : evidence1d.data.geometry.Geometry or None
+        Reciprocal lattice and chain direction (Q_∥, Q_⊥ from H, K, L).
     """
 
     name: str
@@ -148,6 +156,7 @@ class Sample:
     lattice: dict
     formula_units_per_ion: float
     ions_per_formula_unit: float | None = None
+    geometry: object = None
 
 
 @dataclass(frozen=True)
@@ -332,6 +341,10 @@ def load_case(path) -> Case:
 
     s = check_mapping(top["sample"], _SAMPLE, "sample", doc)
     lattice = check_mapping(s["lattice"], _LATTICE, "sample.lattice", doc)
+    try:
+        geometry = make_geometry(lattice, s["chain"])
+    except InputError as exc:
+        raise doc.error(exc.message, exc.key) from None
     ions = s["ions_per_formula_unit"]
     if s["formula_units_per_ion"] is not None:
         if ions is not None:
@@ -342,7 +355,7 @@ def load_case(path) -> Case:
                     g_prior=None if s["g"] is None else prior(s["g"], "sample.g"),
                     spin_spacing=s["spin_spacing"], lattice=lattice,
                     formula_units_per_ion=1.0 / ions if ions else 1.0,
-                    ions_per_formula_unit=ions)
+                    ions_per_formula_unit=ions, geometry=geometry)
     from .physics.neutron import magnetic_form_factor
     try:
         magnetic_form_factor(1.0, sample.ion, sample.charge, 2.0)

@@ -144,7 +144,7 @@ def write_dataset(ds, y, err, path, *, note: str, fu_per_ion: float = 1.0) -> No
     tag = (f" ({ds.units[vunit]})" if vunit and parse_column_name(
         ds.columns.get(value_col, value_col))[1] is not None else "")
     cols, header = [], []
-    for canon in spec.columns:
+    for canon in (ds.columns or spec.columns):  # the columns the template file supplied
         if canon == value_col:
             header.append(canon + tag)
             cols.append(y / f)

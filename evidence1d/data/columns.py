@@ -54,6 +54,7 @@ def match_columns(table, spec, overrides=None, *, where=""):
     ----------
     table : Table
     spec : KindSpec
+        Its ``optional`` columns may be absent.
     overrides : dict, optional
         The dataset block's ``columns`` mapping: column of the kind to header name.
     where : str
@@ -94,6 +95,8 @@ def match_columns(table, spec, overrides=None, *, where=""):
             continue
         hits = list(dict.fromkeys(c for a in names for c in by_bare.get(a, [])
                                   if c not in found.values()))
+        if not hits and canon in spec.optional:
+            continue
         if not hits:
             raise InputError(f"missing column '{canon}' (accepted headers: "
                              f"{', '.join(names[:8])}{', ...' if len(names) > 8 else ''}); "

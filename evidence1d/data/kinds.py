@@ -2,9 +2,13 @@
 
 Kinds
 -----
-``crystal_spectrum``  single-crystal neutron spectrum: ``q_par`` (along the chain, c axis),
-                      ``q_perp`` (across the chain, a axis), ``energy``, ``intensity``,
-                      ``error``; wavevectors in r.l.u. or Å⁻¹.
+``crystal_spectrum``  single-crystal neutron spectrum: ``energy``, ``intensity``, ``error`` and
+                      the wavevector either as Miller indices ``H``, ``K``, ``L`` (r.l.u.,
+                      converted with the sample's lattice and chain direction, see
+                      :mod:`~evidence1d.data.geometry`) or as components ``q_par`` (along
+                      the chain), ``q_perp`` (across it, along n₁) and optionally
+                      ``q_perp2`` (along n₂) in Å⁻¹.  ``q_par``/``q_perp`` in r.l.u. are L
+                      and H of a cell with the chain along c and right angles.
 ``powder_spectrum``   powder neutron spectrum: ``Q`` (|Q|, Å⁻¹), ``energy``, ``intensity``,
                       ``error``.
 ``susceptibility``    ``T``, ``chi``, ``error``; emu/mol or m³/mol.
@@ -30,7 +34,7 @@ from ..errors import InputError, closest_key
 from .columns import known_names, match_columns, merge_header_units, normalise_unit
 from .table import read_table
 
-__all__ = ["KINDS", "KindSpec", "Dataset", "load_dataset", "SPECTRUM_KINDS", "THERMO_KINDS",
+__all__ = ["KINDS", "CRYSTAL_HKL", "KindSpec", "Dataset", "load_dataset", "SPECTRUM_KINDS", "THERMO_KINDS",
            "MASK_RULES", "NEXUS_SUFFIXES"]
 
 #: file suffixes read as HDF5/NeXus (everything else is delimited text)
@@ -58,6 +62,8 @@ class KindSpec:
     error_stems : tuple of str or None
         Spellings of the value from which error headers are formed (``d<stem>``,
         ``<stem>_err``, ...); None: every spelling of the value column.
+    optional : tuple of str
+        Columns that may be absent.
     """
 
     columns: dict
@@ -67,23 +73,27 @@ class KindSpec:
     value: str = "intensity"
     column_units: dict = field(default_factory=dict)
     error_stems: tuple | None = None
+    optional: tuple = ()
 
 
 _ENERGY = ("energy", "e", "en", "omega", "w", "hw", "energy_transfer", "deltae", "de_transfer")
 _INTENSITY = ("intensity", "i", "counts", "s", "sqw", "signal")
 _TEMPERATURE = ("t", "temperature", "temp", "t_sample")
+_CRYSTAL_ERROR = ("error", "di", "err", "sigma", "dintensity")
 
 KINDS = {
     "crystal_spectrum": KindSpec(
         columns={"q_par": ("q_par", "qpar", "q_l", "ql", "l"),
                  "q_perp": ("q_perp", "qperp", "q_h", "qh", "h"),
+                 "q_perp2": ("q_perp2", "qperp2"),
                  "energy": _ENERGY, "intensity": _INTENSITY,
-                 "error": ("error", "di", "err", "sigma", "dintensity")},
+                 "error": _CRYSTAL_ERROR},
         units={"energy": U.ENERGY_UNITS, "wavevector": U.WAVEVECTOR_UNITS, "intensity": None},
         min_points=10, description="single-crystal neutron spectrum (cuts or maps)",
         value="intensity",
-        column_units={"q_par": "wavevector", "q_perp": "wavevector", "energy": "energy",
-                      "intensity": "intensity", "error": "intensity"}),
+        column_units={"q_par": "wavevector", "q_perp": "wavevector", "q_perp2": "wavevector",
+                      "energy": "energy", "intensity": "intensity", "error": "intensity"},
+        optional=("q_perp2",)),
     "powder_spectrum": KindSpec(
         columns={"Q": ("q", "|q|", "qmod", "q_abs", "modq", "absq"), "energy": _ENERGY,
                  "intensity": _INTENSITY,
@@ -112,6 +122,15 @@ KINDS = {
         min_points=5, description="magnetic entropy S_mag(T)", value="S",
         column_units={"T": "temperature", "S": "entropy", "error": "entropy"}),
 }
+#: a crystal spectrum whose wavevectors are Miller indices H, K, L (r.l.u.)
+CRYSTAL_HKL = KindSpec(
+    columns={"H": ("h",), "K": ("k",), "L": ("l",), "energy": _ENERGY,
+             "intensity": _INTENSITY, "error": _CRYSTAL_ERROR},
+    units={"energy": U.ENERGY_UNITS, "wavevector": U.WAVEVECTOR_UNITS, "intensity": None},
+    min_points=10, description="single-crystal neutron spectrum with H, K, L",
+    value="intensity",
+    column_units={"H": "wavevector", "K": "wavevector", "L": "wavevector", "energy": "energy",
+                  "intensity": "intensity", "error": "intensity"})
 SPECTRUM_KINDS = ("crystal_spectrum", "powder_spectrum")
 THERMO_KINDS = ("susceptibility", "heat_capacity", "entropy")
 
@@ -128,8 +147,9 @@ class Dataset:
         One of :data:`KINDS`.
     path : pathlib.Path
     x : dict of str to ndarray
-        Independent variables in internal units: ``Q_par``, ``Q_perp`` (Å⁻¹) and ``energy``
-        (meV) for a crystal spectrum; ``Q``, ``energy`` for a powder; ``T`` (K) otherwise.
+        Independent variables in internal units: ``Q_par``, ``Q_perp``, ``Q_perp2`` (Å⁻¹;
+        along the chain and the two directions n₁, n₂ across it, see
+        :mod:`~evidence1d.data.geometry`) and ``energy`` (meV) for a crystal spectrum; ``Q``, ``energy`` for a powder; ``T`` (K) otherwise.
     y, err : ndarray
         Measured values and their one-standard-deviation errors (internal units; intensity
         as given).
@@ -175,8 +195,10 @@ class Dataset:
         return int(sum(self.masked.values()))
 
     def ranges(self) -> dict:
-        """(min, max) of each independent variable, for the check table."""
-        return {k: (float(np.min(v)), float(np.max(v))) for k, v in self.x.items()}
+        """(min, max) of each independent variable, for the check table (a second Q⊥
+        component that is zero everywhere is left out)."""
+        return {k: (float(np.min(v)), float(np.max(v))) for k, v in self.x.items()
+                if not (k == "Q_perp2" and not np.any(v))}
 
 
 #: the rules of ``masked: drop``, in the order a point is attributed to them
@@ -201,6 +223,9 @@ def _declared_units(block, spec, kind):
 
 
 def _read_source(path, block, spec):
+    known = known_names(spec, block.get("columns"))
+    if spec is KINDS["crystal_spectrum"]:
+        known |= known_names(CRYSTAL_HKL)
     if Path(path).suffix.lower() in NEXUS_SUFFIXES:
         from .nexus import read_nexus
         return read_nexus(path, entry=block.get("entry"))
@@ -208,8 +233,60 @@ def _read_source(path, block, spec):
         raise InputError("'entry' names a group of an HDF5/NeXus file, but the data file is "
                          f"text; remove 'entry' or use a {', '.join(NEXUS_SUFFIXES)} file",
                          key=f"{block['_where']}.entry")
-    return read_table(path, known=known_names(spec, block.get("columns")),
-                      allow_nonfinite=True)
+    return read_table(path, known=known, allow_nonfinite=True)
+
+
+def _crystal_layout(table, block) -> tuple:
+    """(spec, column mapping) of a crystal spectrum: Miller indices H, K, L when the
+    dataset maps any of them or the file has columns named H, K and L; else the components
+    q_par, q_perp (and q_perp2)."""
+    mapping = dict(block.get("columns") or {})
+    hkl = {k: k.upper() for k in mapping if str(k).lower() in ("h", "k", "l")}
+    mapping = {hkl.get(k, k): v for k, v in mapping.items()}
+    bare = {table.names.get(c, c).lower() for c in table.columns}
+    comp = any(k in mapping for k in ("q_par", "q_perp", "q_perp2"))
+    use_hkl = bool(hkl) or (not comp and {"h", "k", "l"} <= bare)
+    return (CRYSTAL_HKL if use_hkl else KINDS["crystal_spectrum"]), mapping
+
+
+def _crystal_wavevectors(cols, units, geometry, block) -> dict:
+    """Q_par, Q_perp, Q_perp2 (Å⁻¹) of a crystal spectrum's points.
+
+    Miller indices go through the reciprocal lattice (:meth:`Geometry.components`);
+    ``q_par``/``q_perp`` in r.l.u. are L and H of the default geometry (2πL/c, 2πH/a, and
+    ``q_perp2`` 2πK/b); in Å⁻¹ they are the components themselves (``q_perp2`` 0 if absent).
+    """
+    where = block["_where"]
+    if "H" in cols:
+        qp, q1, q2 = geometry.components(cols["H"], cols["K"], cols["L"])
+        x = {"Q_par": qp, "Q_perp": q1, "Q_perp2": q2}
+    elif units["wavevector"] == "rlu":
+        if not geometry.is_default:
+            raise InputError("q_par and q_perp in r.l.u. are L and H of a cell with the chain "
+                             f"along c and right angles, but the sample has "
+                             f"{geometry.describe()}; give the wavevectors as columns H, K, L "
+                             "(r.l.u.) or as q_par, q_perp in 1/A",
+                             key=f"{where}.units.wavevector")
+        # Q along the chain (c axis) = 2π L / c; across (a axis) = 2π H / a
+        x = {"Q_par": 2.0 * math.pi * cols["q_par"] / geometry.c,
+             "Q_perp": 2.0 * math.pi * cols["q_perp"] / geometry.a}
+        x["Q_perp2"] = (2.0 * math.pi * cols["q_perp2"] / geometry.b if "q_perp2" in cols
+                        else np.zeros_like(x["Q_par"]))
+    else:
+        x = {"Q_par": cols["q_par"].copy(), "Q_perp": cols["q_perp"].copy(),
+             "Q_perp2": (cols["q_perp2"].copy() if "q_perp2" in cols
+                         else np.zeros_like(cols["q_par"]))}
+    qf = (block.get("resolution") or {}).get("q_fwhm")
+    if qf and units["wavevector"] == "rlu":
+        want = geometry.rlu_width_factors()
+        used = (2.0 * math.pi / geometry.c, 2.0 * math.pi / geometry.a)
+        if not np.allclose(want, used, rtol=1e-9):
+            raise InputError("resolution.q_fwhm in r.l.u. is converted with 2π/c along the "
+                             "chain and 2π/a across it, but for a sample with "
+                             f"{geometry.describe()} one r.l.u. is {want[0]:.4g} and "
+                             f"{want[1]:.4g} 1/A; give the data in 1/A (q_par, q_perp) or "
+                             "leave q_fwhm out", key=f"{where}.resolution.q_fwhm")
+    return x
 
 
 def _masked_points(table, spec, found, cols, mode):
@@ -263,8 +340,9 @@ def load_dataset(block: dict, path: Path, *, name: str, sample) -> Dataset:
     name : str
         Dataset name.
     sample : object
-        The case's sample (lattice parameters ``a``, ``c`` in Å for r.l.u. conversion;
-        ``ions_per_formula_unit`` and ``formula_units_per_ion`` for per-formula-unit data).
+        The case's sample (``geometry``, or the ``lattice`` a, b, c in Å, for wavevectors
+        in r.l.u.; ``ions_per_formula_unit`` and ``formula_units_per_ion`` for
+        per-formula-unit data).
 
     Returns
     -------
@@ -283,11 +361,20 @@ def load_dataset(block: dict, path: Path, *, name: str, sample) -> Dataset:
     where = block["_where"]
     declared = _declared_units(block, spec, kind)
     table = _read_source(path, block, spec)
+    columns = block.get("columns") or {}
+    if kind == "crystal_spectrum":
+        spec, columns = _crystal_layout(table, block)
     # HDF5: the signal is the measured value and its errors the error, whatever their names
     mapping = {spec.value if r == "value" else r: c for r, c in table.roles.items()}
-    mapping.update(block.get("columns") or {})
+    mapping.update(columns)
     found, unused = match_columns(table, spec, mapping, where=where)
     units = merge_header_units(table, spec, found, declared, where=where)
+    if spec is CRYSTAL_HKL:
+        if units.get("wavevector", "rlu") != "rlu":
+            raise InputError(f"columns H, K, L are Miller indices in r.l.u., but the "
+                             f"wavevector unit is {units['wavevector']}; declare rlu or leave "
+                             "it out", key=f"{where}.units.wavevector")
+        units["wavevector"] = "rlu"
     for ukey, accepted in spec.units.items():
         if ukey not in units:
             raise InputError(f"missing unit '{ukey}' for a {kind} dataset; declare "
@@ -319,12 +406,11 @@ def load_dataset(block: dict, path: Path, *, name: str, sample) -> Dataset:
         x["energy"] = U.energy_to_mev(cols["energy"], units["energy"])
         y = cols["intensity"]
         if kind == "crystal_spectrum":
-            if units["wavevector"] == "rlu":
-                # Q along the chain (c axis) = 2π L / c; across (a axis) = 2π H / a
-                x["Q_par"] = 2.0 * math.pi * cols["q_par"] / sample.lattice["c"]
-                x["Q_perp"] = 2.0 * math.pi * cols["q_perp"] / sample.lattice["a"]
-            else:
-                x["Q_par"], x["Q_perp"] = cols["q_par"].copy(), cols["q_perp"].copy()
+            geometry = getattr(sample, "geometry", None)
+            if geometry is None:
+                from .geometry import make_geometry
+                geometry = make_geometry(sample.lattice)
+            x.update(_crystal_wavevectors(cols, units, geometry, block))
         else:
             if np.any(cols["Q"] < 0):
                 i = int(np.flatnonzero(cols["Q"] < 0)[0])

@@ -150,7 +150,8 @@ def test_header_unit_errors(folder, capsys, header, words):
 
 
 def test_wavevector_header_units(folder, capsys):
-    """r.l.u. in the headers: Q_par = 2 pi L / c (chain along c), Q_perp = 2 pi H / a."""
+    """r.l.u. in the headers: Q_par = 2 pi L / c (chain along c), Q_perp = 2 pi H / a;
+    with H, K and L all present K is used too (Q_perp2 = 2 pi K / b)."""
     edit_file(folder / "case.yaml", "units: {energy: meV, wavevector: rlu, intensity: arb}",
               "units: {intensity: arb}")
     q = np.linspace(0.05, 0.95, 12)
@@ -160,10 +161,11 @@ def test_wavevector_header_units(folder, capsys):
     ds = _ds(load_case(folder / "case.yaml"), "map")
     np.testing.assert_allclose(ds.x["Q_par"], 2 * math.pi * np.round(q, 4) / 6.0)
     np.testing.assert_allclose(ds.x["Q_perp"], 2 * math.pi * 0.1 / 7.0)
-    assert ds.unused_columns == ("K",)
+    np.testing.assert_allclose(ds.x["Q_perp2"], 0.0)
+    assert ds.unused_columns == () and ds.columns["K"] == "K"
     assert main(["check", str(folder / "case.yaml")]) == 0
     out = capsys.readouterr().out
-    assert "warning: dataset 'map': column(s) 'K' of map.csv not used" in out
+    assert "not used" not in out
     # the two wavevector columns must agree on their unit
     (folder / "map.csv").write_text(text.replace("L (r.l.u.)", "L (1/A)"))
     code, err = check_command(capsys, folder / "case.yaml")
