@@ -96,3 +96,24 @@ def test_large_and_small_t_asymptotes_are_continuous():
     assert np.ptp(ts._I_quad(8.0) + np.pi * 8.0 + 0.5 * np.log(8.0)
                   - (ts._I_quad(10.0) + np.pi * 10.0 + 0.5 * np.log(10.0))) < 1e-2
     assert np.all(np.isfinite(ts.I_function(t)))
+
+
+def test_windowed_weights_reproduce_exact_convolution():
+    """Gaussian convolution by the windowed rule against the exact convolution of the
+    piecewise-linear cumulative weight (neutron.convolve_cumulative)."""
+    from evidence1d.physics.neutron import convolve_cumulative
+    q = np.linspace(0.1, 3.1, 200)
+    E = np.linspace(0.2, 3.4, 200)
+    sig = 0.05 + 0.01 * E
+    J = np.array([[1.0], [1.3]])
+    wl, wu = spinon_bounds(q, J, np.ones_like(J))
+    om, w = ts.windowed_weights(E, sig, wl, wu)
+    G = np.exp(-0.5 * ((E[None, :, None] - om) / sig[None, :, None]) ** 2) \
+        / (np.sqrt(2 * np.pi) * sig[None, :, None])
+    val = (w * G).sum(-1)
+    omc, Wc = ts.two_spinon_cumulative(q, J)
+    ref = convolve_cumulative(E, sig, omc, np.broadcast_to(Wc, omc.shape))
+    assert np.max(np.abs(val - ref)) < 2e-3 * ref.max()
+    # windows that miss the continuum carry no weight
+    far = E + 6 * sig < wl
+    assert np.all(w[far] == 0.0)
