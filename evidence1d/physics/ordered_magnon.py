@@ -262,10 +262,19 @@ def transverse_spectrum(q_par, q_a, q_b, energy, sigma, temperature, J, J_perp, 
                         z_perp=4, damping=None, sigma_q_par=0.0, sigma_q_a=0.0):
     """Resolution-broadened one-magnon S^{xx}(Q, E) of one transverse component, per spin.
 
-    Two modes at E = ±ħω(Q) with areas w [n(ω) + 1] and w n(ω) (detailed balance of the
-    areas); each a Voigt profile whose Gaussian width includes the momentum resolution
-    through the analytic gradient, σ_eff² = σ² + (∂ω/∂q σ_q∥)² + (∂ω/∂q_a σ_qa)², and whose
-    Lorentzian half width is Γ_Q = η ħω(Q) (η the damping ratio).
+    The project's finite-temperature convention, S = χ''(n + 1)/π point by point, with the
+    response of a damped mode χ''(E) = π W [L(E − ω) − L(E + ω)] (Lorentzians of half width
+    Γ_Q = η ħω_Q, η the damping ratio) and W = w π / (2 arctan(ω/Γ)) so that the energy-loss
+    weight at T = 0 is the single-mode weight w; the resolution is applied afterwards:
+
+        S(E) = G_σ ∗ f,   f(E') = W [n(E') + 1] [L(E' − ω) − L(E' + ω)].
+
+    Split f = W [(n(ω) + 1) L(E' − ω) + n(ω) L(E' + ω)] + R(E'): the first part convolves
+    exactly into Voigt profiles (:func:`voigt`), which is the whole answer for a sharp mode
+    (areas w [n(ω) + 1] and w n(ω), exact detailed balance of the areas); the remainder R,
+    proportional to Γ and finite at E' = 0, is convolved with a 3-node Gauss–Hermite rule.
+    The Gaussian width includes the momentum resolution through the analytic gradient,
+    σ_eff² = σ² + (∂ω/∂q σ_q∥)² + (∂ω/∂q_a σ_qa)².
 
     Parameters
     ----------
@@ -287,18 +296,20 @@ def transverse_spectrum(q_par, q_a, q_b, energy, sigma, temperature, J, J_perp, 
     Returns
     -------
     ndarray, shape (n_sets, n)
-        S^{xx}(Q, E) in 1/meV per spin.
+        S^{xx}(Q, E) in 1/meV per spin; detailed balance S(−E) = e^{−E/k_BT} S(E) holds
+        point by point as σ → 0.
 
     References
     ----------
     Hohenberg & Brinkman (1974); S. W. Lovesey, Theory of Neutron Scattering from
-    Condensed Matter, Vol. 1 (1984), Ch. 4 (detailed balance); M. J. Cooper & R. Nathans,
-    Acta Cryst. 23, 357 (1967) (Gaussian resolution, linearised dispersion); Abramowitz &
-    Stegun (1964), Eq. 7.4.13 (Voigt profile).
+    Condensed Matter, Vol. 1 (1984), Ch. 4 (fluctuation–dissipation, detailed balance);
+    M. J. Cooper & R. Nathans, Acta Cryst. 23, 357 (1967) (Gaussian resolution, linearised
+    dispersion); Abramowitz & Stegun (1964), Eqs. 7.4.13 (Voigt profile) and 25.4.46
+    (Gauss–Hermite rule).
     """
     omega, d_q, d_qa, w = magnon_modes(q_par, q_a, q_b, J, J_perp, delta, z_perp)
-    loss = w * neutron.bose_energy_factor(omega, temperature) / omega     # w [n(ω) + 1]
-    gain = loss * neutron.boltzmann_ratio(omega, temperature)             # w n(ω)
+    n1 = neutron.bose_energy_factor(omega, temperature) / omega           # n(ω) + 1
+    n0 = n1 * neutron.boltzmann_ratio(omega, temperature)                 # n(ω)
     sig2 = np.asarray(sigma, float) ** 2
     if np.any(np.asarray(sigma_q_par) > 0) or np.any(np.asarray(sigma_q_a) > 0):
         sig2 = sig2 + (d_q * sigma_q_par) ** 2 + (d_qa * sigma_q_a) ** 2
@@ -306,10 +317,31 @@ def transverse_spectrum(q_par, q_a, q_b, energy, sigma, temperature, J, J_perp, 
     E = np.asarray(energy, float)
     eta = None if damping is None else np.asarray(damping, float)
     if eta is None or np.all(eta == 0.0):
-        return (loss * neutron.gaussian(E - omega, sig)
-                + gain * neutron.gaussian(E + omega, sig))
-    gamma = np.maximum(eta, 0.0) * omega
-    return loss * voigt(E - omega, sig, gamma) + gain * voigt(E + omega, sig, gamma)
+        return w * (n1 * neutron.gaussian(E - omega, sig) + n0 * neutron.gaussian(E + omega, sig))
+    eta = np.maximum(eta, 0.0)
+    gamma = eta * omega
+    with np.errstate(divide="ignore"):
+        W = w * np.where(eta > 0, 0.5 * np.pi / np.arctan(1.0 / eta), 1.0)
+    out = W * (n1 * voigt(E - omega, sig, gamma) + n0 * voigt(E + omega, sig, gamma))
+    x, h = neutron.gauss_hermite(3)
+    for xi, hi in zip(x, h):
+        out = out + hi * W * _bose_remainder(E + xi * sig, omega, gamma, n1, n0, temperature)
+    return np.maximum(out, 0.0)            # f ≥ 0; rounding of the remainder can dip below
+
+
+def _bose_remainder(e, omega, gamma, n1, n0, temperature):
+    """R/W = (n(e) + 1)[L(e − ω) − L(e + ω)] − (n(ω) + 1) L(e − ω) − n(ω) L(e + ω).
+
+    (n(e) + 1)[L(e − ω) − L(e + ω)] = e (n(e) + 1) · 4Γω / (π P), P = ((e − ω)² + Γ²)
+    ((e + ω)² + Γ²), finite at e = 0; zero where Γ = 0.
+    """
+    g2 = gamma * gamma
+    lm = (e - omega) ** 2 + g2
+    lp = (e + omega) ** 2 + g2
+    with np.errstate(divide="ignore", invalid="ignore"):
+        full = neutron.bose_energy_factor(e, temperature) * (4.0 * omega) / (lm * lp)
+        rem = gamma / np.pi * (full - n1 / lm - n0 / lp)
+    return np.where(gamma > 0, rem, 0.0)
 
 
 def voigt(x, sigma, gamma, cut=VOIGT_CUT):

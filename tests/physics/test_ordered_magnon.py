@@ -163,24 +163,41 @@ def _line(E, eta=None, sigma=0.02, T=5.0, qp=1.1, qa=0.4, sq=0.0, sqa=0.0):
 
 
 def test_detailed_balance_damping_and_area():
-    # Areas: w [n + 1] on the loss side, w n on the gain side (Lovesey 1984, Ch. 4); a Voigt
-    # profile has unit area (Abramowitz & Stegun 7.4.13), so damping moves no weight.
+    # Sharp mode: areas w [n + 1] on the loss side, w n on the gain side (Lovesey 1984,
+    # Ch. 4).
     E = np.linspace(-40, 40, 160001)
     dE = E[1] - E[0]
     w, _, _, wt = om.magnon_modes(np.array([1.1]), np.array([0.4]), np.array([0.3]),
                                   col(2.0), col(0.2), col(1.1), 4)
     w, wt = w[0, 0], wt[0, 0]
-    n = 1 / np.expm1(w / (K_B_MEV * 5.0))
+    kT = K_B_MEV * 5.0
+    n = 1 / np.expm1(w / kT)
     s = _line(E)[0]
     np.testing.assert_allclose(s[E > 0].sum() * dE, wt * (n + 1), rtol=1e-6)
     np.testing.assert_allclose(s[E < 0].sum() * dE, wt * n, rtol=1e-6)
-    sd = _line(E, eta=col(0.05))[0]
-    np.testing.assert_allclose(sd.sum() * dE, wt * (2 * n + 1), rtol=3e-3)
-    # the Lorentzian half width is η ω: with a tiny Gaussian the half maximum sits at ω ± ηω
-    sl = _line(E, eta=col(0.3), sigma=1e-4, T=0.0)[0]
-    peak = sl.max()
-    above = E[(sl >= peak / 2)]
-    np.testing.assert_allclose([above.min(), above.max()], [w * 0.7, w * 1.3], atol=2e-3)
+    # Damped mode, η = 0.2: S = G_σ ∗ W (n(E)+1)[L(E−ω) − L(E+ω)], W = w π/(2 arctan(1/η));
+    # the resolution conserves area, so the area is the integral of that closed form
+    # (scipy quad), and at T = 0 the loss side carries exactly w.
+    from scipy import integrate
+    eta = 0.2
+    g = eta * w
+    W = wt * np.pi / (2 * np.arctan(1 / eta))
+    L = lambda x: g / np.pi / (x * x + g * g)                             # noqa: E731
+    f = lambda e: W * (L(e - w) - L(e + w)) / -np.expm1(-e / kT)           # noqa: E731
+    ref = sum(integrate.quad(f, a, b, limit=400, points=pts)[0] for a, b, pts in
+              ((-200, -1e-9, [-w]), (1e-9, 200, [w])))
+    E = np.linspace(-200, 200, 800001)
+    sd = _line(E, eta=col(eta))[0]
+    np.testing.assert_allclose(sd.sum() * (E[1] - E[0]), ref, rtol=2e-3)
+    s0 = _line(E, eta=col(eta), T=0.0)[0]
+    np.testing.assert_allclose(s0[E > 0].sum() * (E[1] - E[0]), wt, rtol=2e-3)
+    # with a resolution much narrower than the line the shape is the closed form itself,
+    # and detailed balance holds point by point
+    e = np.array([-3.0, -w, -0.5, -0.01, 0.01, 0.5, w, 3.0])
+    narrow = _line(e, eta=col(eta), sigma=1e-4)[0]
+    np.testing.assert_allclose(narrow, f(e), rtol=1e-6)
+    np.testing.assert_allclose(narrow[:4] / narrow[::-1][:4], np.exp(-np.abs(e[:4]) / kT),
+                               rtol=1e-6)
 
 
 def test_momentum_resolution_against_brute_force_average():
