@@ -17,6 +17,8 @@ _REGISTRY = {
     "spinon_continuum": ("evidence1d.families.spinon", "SpinonFamily"),
     "gapped_spin_wave": ("evidence1d.families.spin_wave", "SpinWaveFamily"),
     "paramagnon": ("evidence1d.families.paramagnon", "ParamagnonFamily"),
+    "paramagnon_incommensurate": ("evidence1d.families.paramagnon",
+                                  "IncommensurateParamagnonFamily"),
 }
 
 
