@@ -96,9 +96,10 @@ def _parse_sets(items):
 def _cmd_check(args):
     from .case import load_case
     from .report.console import case_table
+    from .sanity import case_warnings
     case = load_case(args.case)
     print(case_table(case))
-    notes = _data_notes(case)
+    notes = _data_notes(case) + case_warnings(case)
     if notes:
         print("\n" + "\n".join(notes))
     print("\ncase is valid")
