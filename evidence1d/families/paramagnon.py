@@ -17,6 +17,7 @@ import numpy as np
 from ..errors import InputError
 from ..physics import paramagnon as pm
 from ..physics import paramagnon_thermo as pt
+from ..physics import paramagnon_zone as pz
 from ..units import K_B_MEV, R_GAS
 from .base import DIRECTIONS, Family, SpectralPoints
 
@@ -181,17 +182,17 @@ class ParamagnonFamily(Family):
         Returns
         -------
         log_gamma or gamma, weight : ndarray, shape (n_sets, m)
-            ln Γ (meV) and weights from :func:`paramagnon_thermo.compress_rates`, or the
+            ln Γ (meV) and weights from :func:`paramagnon_zone.compress_rates`, or the
             uncompressed rates Γ_Q (meV) and zone weights with ``compress=False``.
 
         References
         ----------
-        :mod:`evidence1d.physics.paramagnon_thermo` (zone quadrature).
+        :mod:`evidence1d.physics.paramagnon_zone` (zone quadrature).
         """
         d, a, b = self._spacings()
-        gamma, w = pt.zone_rates(p["xi_par"], p["xi_perp"], p["gamma0"], d, a, b,
+        gamma, w = pz.zone_rates(p["xi_par"], p["xi_perp"], p["gamma0"], d, a, b,
                                  self.center, self._q0(p))
-        return pt.compress_rates(gamma, w) if compress else (gamma, w)
+        return pz.compress_rates(gamma, w) if compress else (gamma, w)
 
     @property
     def entropy_ceiling(self) -> float:

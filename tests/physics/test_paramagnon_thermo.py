@@ -10,6 +10,7 @@ from scipy import integrate, optimize, special
 from evidence1d.families.paramagnon import IncommensurateParamagnonFamily, ParamagnonFamily
 from evidence1d.physics import paramagnon as pm
 from evidence1d.physics import paramagnon_thermo as pt
+from evidence1d.physics import paramagnon_zone as pz
 from evidence1d.units import K_B_MEV, R_GAS
 
 LATTICE = (3.0, 7.0, 7.5)
@@ -109,7 +110,7 @@ def _brute(center, xp, xt, g0, q0=None, n=48):
                                              ("incommensurate", 6.0, 1.5, 0.37),
                                              ("zone_boundary", 0.0, 0.0, None)])
 def test_zone_rule_against_brute_force_midpoint(center, xp, xt, q0):
-    G, W = pt.zone_rates(col(xp), col(xt), col(1.3), *LATTICE, center,
+    G, W = pz.zone_rates(col(xp), col(xt), col(1.3), *LATTICE, center,
                          None if q0 is None else col(q0))
     Gb = _brute(center, xp, xt, 1.3, q0)
     for T in (0.5, 5.0, 60.0):
@@ -124,9 +125,9 @@ def test_zone_rule_low_temperature_against_bessel_average():
     # ⟨1/(1 + κ)⟩ over the zone from the Bessel representation (Abramowitz & Stegun 1964,
     # 9.6.19) and, for a chain, the elementary ⟨1/(1 + b sin²(q/2))⟩ = 1/√(1 + b)
     xp, xt, g0 = col(0.0, 6.0, 50.0, 20.0), col(0.0, 1.5, 20.0, 0.0), col(1.0, 2.0, 0.5, 3.0)
-    G, W = pt.zone_rates(xp, xt, g0, *LATTICE)
+    G, W = pz.zone_rates(xp, xt, g0, *LATTICE)
     inv = np.sum(W / G, axis=1, keepdims=True)
-    np.testing.assert_allclose(inv, pt.zone_average_inverse_rate(g0, xp, xt, *LATTICE),
+    np.testing.assert_allclose(inv, pz.zone_average_inverse_rate(g0, xp, xt, *LATTICE),
                                rtol=2e-5)
     b = (2 * 20.0 / 3.0) ** 2
     assert inv[3, 0] * 3.0 == pytest.approx(1 / math.sqrt(1 + b), rel=1e-5)
@@ -135,7 +136,7 @@ def test_zone_rule_low_temperature_against_bessel_average():
     g = (np.arange(n) + 0.5) / n * 2 * np.pi
     qq = np.meshgrid(g, g, g, indexing="ij")
     k = pm.oz_denominator(*qq, 6.0, 1.5, *LATTICE)
-    assert pt.zone_average_inverse_rate(1.0, 6.0, 1.5, *LATTICE) \
+    assert pz.zone_average_inverse_rate(1.0, 6.0, 1.5, *LATTICE) \
         == pytest.approx(np.mean(1 / (1 + k)), rel=1e-4)
 
 
@@ -149,9 +150,9 @@ def test_refined_rule_and_compression_converge(center):
     g0, q0 = col(*np.exp(rng.uniform(np.log(0.05), np.log(50), k))), col(*rng.uniform(0, 1, k))
     q0 = q0 if center == "incommensurate" else None
     T = np.geomspace(0.3, 300, 5)
-    fine = pt.zone_rates(xp, xt, g0, *LATTICE, center, q0, panels=((9, 5), (7, 4)))
-    G, W = pt.zone_rates(xp, xt, g0, *LATTICE, center, q0)
-    lg, w = pt.compress_rates(G, W)
+    fine = pz.zone_rates(xp, xt, g0, *LATTICE, center, q0, panels=((9, 5), (7, 4)))
+    G, W = pz.zone_rates(xp, xt, g0, *LATTICE, center, q0)
+    lg, w = pz.compress_rates(G, W)
     for q in ("c", "s"):
         full = [pt.gas_thermodynamics(T, np.log(a), b, (q,))[q] for a, b in (fine, (G, W))]
         comp = pt.gas_thermodynamics(T, lg, w, (q,))[q]
@@ -235,6 +236,6 @@ def test_low_temperature_gamma_for_every_centre():
                 center="zone_centre"), IncommensurateParamagnonFamily(lattice=LATTICE)):
         np.testing.assert_allclose(fam.heat_capacity(p, T) / T, fam.low_temperature_gamma(p),
                                    rtol=2e-4)
-    bessel = pt.spin_fluctuation_gamma(p["gamma0"], p["xi_par"], p["xi_perp"], *LATTICE)
+    bessel = pz.spin_fluctuation_gamma(p["gamma0"], p["xi_par"], p["xi_perp"], *LATTICE)
     np.testing.assert_allclose(ParamagnonFamily(lattice=LATTICE).low_temperature_gamma(p),
                                bessel, rtol=2e-5)
