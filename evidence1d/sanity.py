@@ -160,8 +160,11 @@ def spacing_warnings(sample) -> list:
     geo = getattr(sample, "geometry", None)
     if geo is None:
         return []
-    R = float(np.linalg.norm(geo.chain_vector))
-    ratio = R / sample.spin_spacing
+    with np.errstate(all="ignore"):
+        R = float(np.linalg.norm(geo.chain_vector))
+        ratio = R / sample.spin_spacing
+    if not np.isfinite(ratio):
+        return []
     n = round(ratio)
     if n >= 1 and abs(ratio - n) <= 0.02 * n:
         return []
@@ -210,9 +213,10 @@ def case_warnings(case) -> list:
     -------
     list of str
     """
-    out = spacing_warnings(case.sample) + geometry_warnings(case)
-    for ds in case.datasets:
-        if ds.kind.endswith("spectrum"):
-            out += resolution_warnings(ds)
-            out += energy_warnings(case, ds)
+    with np.errstate(all="ignore"):          # absurd but accepted inputs must not crash
+        out = spacing_warnings(case.sample) + geometry_warnings(case)
+        for ds in case.datasets:
+            if ds.kind.endswith("spectrum"):
+                out += resolution_warnings(ds)
+                out += energy_warnings(case, ds)
     return out
