@@ -1,4 +1,4 @@
-"""The ``evidence1d`` command: check, run, report, simulate.
+"""The ``evidence1d`` command: init, check, run, report, simulate.
 
 Only wiring lives here: argument parsing, calling the library, printing, exit codes.
 User errors print one line and exit with code 2 (a traceback only with ``--debug``).
@@ -15,6 +15,8 @@ from .errors import InputError
 __all__ = ["main"]
 
 _EXAMPLES = {
+    "init": "examples:\n  evidence1d init data/ --out case.yaml\n"
+            "  evidence1d init map.csv chi.csv heat.csv --out mycase/case.yaml --force",
     "check": "example:\n  evidence1d check case_studies/flagship/case.yaml",
     "run": "examples:\n  evidence1d run case_studies/flagship/case.yaml\n"
            "  evidence1d run case.yaml --out results/try2 --seed 7 --quick\n"
@@ -37,6 +39,15 @@ def _parser() -> argparse.ArgumentParser:
                    help="print the version and exit")
     sub = p.add_subparsers(dest="command", metavar="COMMAND")
     fmt = argparse.RawDescriptionHelpFormatter
+
+    i = sub.add_parser("init", help="write a starting case file from data files",
+                       epilog=_EXAMPLES["init"], formatter_class=fmt,
+                       description="Detect each data file's kind and units and write a case "
+                                   "file with TODO placeholders for what the files cannot "
+                                   "tell (sample, lattice, temperatures, resolution).")
+    i.add_argument("data", nargs="+", help="data files, or folders holding them")
+    i.add_argument("--out", default="case.yaml", help="case file to write (default: case.yaml)")
+    i.add_argument("--force", action="store_true", help="replace an existing case file")
 
     c = sub.add_parser("check", help="validate a case file and print its datasets and models",
                        epilog=_EXAMPLES["check"], formatter_class=fmt)
@@ -93,10 +104,19 @@ def _parse_sets(items):
     return out
 
 
+def _cmd_init(args):
+    from .init_case import write_case
+    _, messages = write_case(args.data, args.out, force=args.force)
+    print("\n".join(messages))
+    return 0
+
+
 def _cmd_check(args):
     from .case import load_case
+    from .init_case import refuse_placeholders
     from .report.console import case_table
     from .sanity import case_warnings
+    refuse_placeholders(args.case)
     case = load_case(args.case)
     print(case_table(case))
     notes = _data_notes(case) + case_warnings(case)
@@ -185,7 +205,7 @@ def main(argv=None) -> int:
     if args.command is None:
         parser.print_help()
         return 2
-    handler = {"check": _cmd_check, "run": _cmd_run, "report": _cmd_report,
+    handler = {"init": _cmd_init, "check": _cmd_check, "run": _cmd_run, "report": _cmd_report,
                "simulate": _cmd_simulate}[args.command]
     try:
         return handler(args)

@@ -34,8 +34,8 @@ from ..errors import InputError, closest_key
 from .columns import known_names, match_columns, merge_header_units, normalise_unit
 from .table import read_table
 
-__all__ = ["KINDS", "CRYSTAL_HKL", "KindSpec", "Dataset", "load_dataset", "SPECTRUM_KINDS", "THERMO_KINDS",
-           "MASK_RULES", "NEXUS_SUFFIXES"]
+__all__ = ["KINDS", "CRYSTAL_HKL", "crystal_layout", "KindSpec", "Dataset", "load_dataset",
+           "SPECTRUM_KINDS", "THERMO_KINDS", "MASK_RULES", "NEXUS_SUFFIXES"]
 
 #: file suffixes read as HDF5/NeXus (everything else is delimited text)
 NEXUS_SUFFIXES = (".nxs", ".nx5", ".h5", ".hdf5")
@@ -236,7 +236,7 @@ def _read_source(path, block, spec):
     return read_table(path, known=known, allow_nonfinite=True)
 
 
-def _crystal_layout(table, block) -> tuple:
+def crystal_layout(table, block) -> tuple:
     """(spec, column mapping) of a crystal spectrum: Miller indices H, K, L when the
     dataset maps any of them or the file has columns named H, K and L; else the components
     q_par, q_perp (and q_perp2)."""
@@ -363,7 +363,7 @@ def load_dataset(block: dict, path: Path, *, name: str, sample) -> Dataset:
     table = _read_source(path, block, spec)
     columns = block.get("columns") or {}
     if kind == "crystal_spectrum":
-        spec, columns = _crystal_layout(table, block)
+        spec, columns = crystal_layout(table, block)
     # HDF5: the signal is the measured value and its errors the error, whatever their names
     mapping = {spec.value if r == "value" else r: c for r, c in table.roles.items()}
     mapping.update(columns)
