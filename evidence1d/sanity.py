@@ -137,6 +137,7 @@ def energy_warnings(case, ds) -> list:
     out = []
     gain = max(r[0] for r in reach.values())
     loss = max(r[1] for r in reach.values())
+
     def each(i, sign):
         return ", ".join(f"{n} {sign}{r[i]:.3g} meV" for n, r in reach.items())
     if E.max() > FAR * loss:

@@ -23,9 +23,10 @@ for a chain along c, Q_∥ = 2π L / c in any cell.
 
 References
 ----------
-W. R. Busing and H. A. Levy, Acta Cryst. 22, 457 (1967), eqs. (3) and the B matrix;
+W. R. Busing and H. A. Levy, Acta Cryst. 22, 457 (1967): the B matrix;
 G. H. Stout and L. H. Jensen, X-ray Structure Determination (Wiley, 1989), ch. 2 (metric
-tensor G and reciprocal metric G* = G⁻¹; volume V² = det G).
+tensor G and reciprocal metric G* = G⁻¹; volume V² = det G; reciprocal angles).  The
+formulas are written from memory; the tests check B against G* = G⁻¹ built independently.
 """
 from __future__ import annotations
 

@@ -241,3 +241,35 @@ def test_make_geometry_errors_name_keys():
     with pytest.raises(InputError) as e:
         make_geometry({"a": 1, "b": 1, "c": 1, "alpha": 60, "beta": 60, "gamma": 120})
     assert e.value.key == "sample.lattice.gamma"
+
+
+def test_hkl_from_nexus_scalar_fields(folder):
+    """An NXdata cut along K with scalar H and L fields, chain along b of a monoclinic cell:
+    Q_par = 2πK/b, Q_perp = 2πL/c (c ⟂ b), |Q| from G* = G⁻¹."""
+    h5py = pytest.importorskip("h5py")
+    K = np.linspace(0.05, 0.95, 6)
+    E = np.linspace(0.5, 3.0, 4)
+    with h5py.File(folder / "map.nxs", "w") as f:
+        g = f.create_group("entry").create_group("cut")
+        f["entry"].attrs["NX_class"] = "NXentry"
+        g.attrs.update({"NX_class": "NXdata", "signal": "data", "axes": ["K", "E"]})
+        g.create_dataset("data", data=np.ones((K.size, E.size)))
+        g.create_dataset("errors", data=np.full((K.size, E.size), 0.1))
+        g.create_dataset("K", data=K)
+        g.create_dataset("E", data=E)
+        g.create_dataset("H", data=0.3)
+        g.create_dataset("L", data=-0.4)
+        g["E"].attrs["units"] = "meV"
+    edit_file(folder / "case.yaml", "file: map.csv", "file: map.nxs")
+    edit_file(folder / "case.yaml", "units: {energy: meV, wavevector: rlu, intensity: arb}",
+              "units: {intensity: arb}")
+    edit_file(folder / "case.yaml", LATTICE_LINE,
+              "  lattice: {a: 7.0, b: 6.0, c: 7.5, beta: 95}\n  chain: b")
+    ds = _map(load_case(folder / "case.yaml"))
+    assert ds.units["wavevector"] == "rlu" and ds.unused_columns == ()
+    h = np.stack([np.full(ds.n, 0.3), np.repeat(K, E.size), np.full(ds.n, -0.4)])
+    Gs = np.linalg.inv(_metric(7.0, 6.0, 7.5, 90.0, 95.0, 90.0))
+    np.testing.assert_allclose(ds.x["Q_par"], TWO_PI * h[1] / 6.0, rtol=1e-12)
+    np.testing.assert_allclose(ds.x["Q_perp"], TWO_PI * -0.4 / 7.5, rtol=1e-12)
+    np.testing.assert_allclose(ds.x["Q_par"] ** 2 + ds.x["Q_perp"] ** 2 + ds.x["Q_perp2"] ** 2,
+                               TWO_PI ** 2 * np.einsum("in,ij,jn->n", h, Gs, h), rtol=1e-12)
