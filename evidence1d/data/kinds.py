@@ -149,7 +149,8 @@ class Dataset:
     x : dict of str to ndarray
         Independent variables in internal units: ``Q_par``, ``Q_perp``, ``Q_perp2`` (Å⁻¹;
         along the chain and the two directions n₁, n₂ across it, see
-        :mod:`~evidence1d.data.geometry`) and ``energy`` (meV) for a crystal spectrum; ``Q``, ``energy`` for a powder; ``T`` (K) otherwise.
+        :mod:`~evidence1d.data.geometry`) and ``energy`` (meV) for a crystal spectrum;
+        ``Q``, ``energy`` for a powder; ``T`` (K) otherwise.
     y, err : ndarray
         Measured values and their one-standard-deviation errors (internal units; intensity
         as given).
