@@ -84,14 +84,14 @@ from __future__ import annotations
 import functools
 
 import numpy as np
-from scipy import interpolate, special
+from scipy import interpolate
 
-from . import magnon, neutron
+from . import magnon, magnon_lineshape
 from .chain import xxz_ground_state_energy
 
 __all__ = ["SPIN", "Z_CHAIN", "SCHULZ_MOMENT", "renormalisation", "effective_exchanges",
            "chain_bond_correlations", "transverse_first_moment", "magnon_modes",
-           "transverse_spectrum", "voigt", "VOIGT_CUT"]
+           "transverse_spectrum"]
 
 #: the spin the renormalisation holds for
 SPIN = 0.5
@@ -100,8 +100,6 @@ Z_CHAIN = np.pi / 2.0
 #: Schulz (1996): m_0 = 1.0174 √(J_⊥/J) for four neighbouring chains (from memory)
 SCHULZ_MOMENT = 1.0174
 _DELTA_GRID = (0.98, 3.2, 1111)      # spline of e_0(Δ) for the bond correlations
-#: distance from a mode, in Gaussian widths, beyond which the Voigt tail expansion is used
-VOIGT_CUT = 10.0
 
 
 def renormalisation(J, J_perp, z_perp=4):
@@ -262,19 +260,12 @@ def transverse_spectrum(q_par, q_a, q_b, energy, sigma, temperature, J, J_perp, 
                         z_perp=4, damping=None, sigma_q_par=0.0, sigma_q_a=0.0):
     """Resolution-broadened one-magnon S^{xx}(Q, E) of one transverse component, per spin.
 
-    The project's finite-temperature convention, S = χ''(n + 1)/π point by point, with the
-    response of a damped mode χ''(E) = π W [L(E − ω) − L(E + ω)] (Lorentzians of half width
-    Γ_Q = η ħω_Q, η the damping ratio) and W = w π / (2 arctan(ω/Γ)) so that the energy-loss
-    weight at T = 0 is the single-mode weight w; the resolution is applied afterwards:
-
-        S(E) = G_σ ∗ f,   f(E') = W [n(E') + 1] [L(E' − ω) − L(E' + ω)].
-
-    Split f = W [(n(ω) + 1) L(E' − ω) + n(ω) L(E' + ω)] + R(E'): the first part convolves
-    exactly into Voigt profiles (:func:`voigt`), which is the whole answer for a sharp mode
-    (areas w [n(ω) + 1] and w n(ω), exact detailed balance of the areas); the remainder R,
-    proportional to Γ and finite at E' = 0, is convolved with a 3-node Gauss–Hermite rule.
-    The Gaussian width includes the momentum resolution through the analytic gradient,
-    σ_eff² = σ² + (∂ω/∂q σ_q∥)² + (∂ω/∂q_a σ_qa)².
+    The renormalised mode (:func:`magnon_modes`) as a pair at ±ħω_Q with the single-mode
+    weight, in the project's finite-temperature convention S = χ''(n + 1)/π, damped with
+    Γ_Q = η ħω_Q and broadened by the Gaussian resolution, whose width includes the
+    momentum resolution through the analytic gradient,
+    σ_eff² = σ² + (∂ω/∂q σ_q∥)² + (∂ω/∂q_a σ_qa)² (line shape and its accuracy:
+    :func:`evidence1d.physics.magnon_lineshape.mode_pair`).
 
     Parameters
     ----------
@@ -289,130 +280,22 @@ def transverse_spectrum(q_par, q_a, q_b, energy, sigma, temperature, J, J_perp, 
     z_perp : {4, 2}, optional
         Number of neighbouring chains.
     damping : ndarray, shape (n_sets, 1), optional
-        Damping ratio η = Γ_Q/ħω_Q ≥ 0 (``None`` or all zero: sharp modes).
+        Damping ratio η = Γ_Q/ħω_Q ≥ 0 (``None``, or below 1e-12: sharp modes).
     sigma_q_par, sigma_q_a : float or ndarray, shape (n,)
         Momentum-resolution standard deviations as phases, σ_Q∥ d and σ_Q⊥ a_⊥ (rad).
 
     Returns
     -------
     ndarray, shape (n_sets, n)
-        S^{xx}(Q, E) in 1/meV per spin; detailed balance S(−E) = e^{−E/k_BT} S(E) holds
-        point by point as σ → 0.
+        S^{xx}(Q, E) in 1/meV per spin.
 
     References
     ----------
-    Hohenberg & Brinkman (1974); S. W. Lovesey, Theory of Neutron Scattering from
-    Condensed Matter, Vol. 1 (1984), Ch. 4 (fluctuation–dissipation, detailed balance);
-    M. J. Cooper & R. Nathans, Acta Cryst. 23, 357 (1967) (Gaussian resolution, linearised
-    dispersion); Abramowitz & Stegun (1964), Eqs. 7.4.13 (Voigt profile) and 25.4.46
-    (Gauss–Hermite rule).
+    Hohenberg & Brinkman (1974); M. J. Cooper & R. Nathans, Acta Cryst. 23, 357 (1967)
+    (Gaussian resolution, linearised dispersion); Lovesey (1984), Ch. 4.
     """
     omega, d_q, d_qa, w = magnon_modes(q_par, q_a, q_b, J, J_perp, delta, z_perp)
-    n1 = neutron.bose_energy_factor(omega, temperature) / omega           # n(ω) + 1
-    n0 = n1 * neutron.boltzmann_ratio(omega, temperature)                 # n(ω)
     sig2 = np.asarray(sigma, float) ** 2
     if np.any(np.asarray(sigma_q_par) > 0) or np.any(np.asarray(sigma_q_a) > 0):
         sig2 = sig2 + (d_q * sigma_q_par) ** 2 + (d_qa * sigma_q_a) ** 2
-    sig = np.sqrt(sig2)
-    E = np.asarray(energy, float)
-    eta = None if damping is None else np.asarray(damping, float)
-    if eta is None or np.all(eta == 0.0):
-        return w * (n1 * neutron.gaussian(E - omega, sig) + n0 * neutron.gaussian(E + omega, sig))
-    eta = np.maximum(eta, 0.0)
-    gamma = eta * omega
-    with np.errstate(divide="ignore"):
-        W = w * np.where(eta > 0, 0.5 * np.pi / np.arctan(1.0 / eta), 1.0)
-    out = W * (n1 * voigt(E - omega, sig, gamma) + n0 * voigt(E + omega, sig, gamma))
-    x, h = neutron.gauss_hermite(3)
-    for xi, hi in zip(x, h):
-        out = out + hi * W * _bose_remainder(E + xi * sig, omega, gamma, n1, n0, temperature)
-    return np.maximum(out, 0.0)            # f ≥ 0; rounding of the remainder can dip below
-
-
-def _bose_remainder(e, omega, gamma, n1, n0, temperature):
-    """R/W = (n(e) + 1)[L(e − ω) − L(e + ω)] − (n(ω) + 1) L(e − ω) − n(ω) L(e + ω).
-
-    (n(e) + 1)[L(e − ω) − L(e + ω)] = e (n(e) + 1) · 4Γω / (π P), P = ((e − ω)² + Γ²)
-    ((e + ω)² + Γ²), finite at e = 0; zero where Γ = 0.
-    """
-    g2 = gamma * gamma
-    lm = (e - omega) ** 2 + g2
-    lp = (e + omega) ** 2 + g2
-    with np.errstate(divide="ignore", invalid="ignore"):
-        full = neutron.bose_energy_factor(e, temperature) * (4.0 * omega) / (lm * lp)
-        rem = gamma / np.pi * (full - n1 / lm - n0 / lp)
-    return np.where(gamma > 0, rem, 0.0)
-
-
-def voigt(x, sigma, gamma, cut=VOIGT_CUT):
-    """Voigt profile: exact within ``cut`` σ of the centre, tail expansion beyond.
-
-    |x| < cut σ: ``scipy.special.voigt_profile`` (Faddeeva function).  Beyond, the
-    Gaussian-moment (heat-kernel) expansion of the Gaussian-convolved Lorentzian,
-    V = (1/π) Im[w + σ² w³ + 3 σ⁴ w⁵ + 15 σ⁶ w⁷], w = 1/(x − iγ) (in real arithmetic:
-    Im w^{2k+1} = γ u^{−k−1} P_k(x²/u), u = x² + γ², with P_1 = 4a − 1,
-    P_2 = 16a² − 12a + 1, P_3 = 64a³ − 80a² + 24a − 1), whose next term is at most 945 (σ/x)⁸ ≈ 10⁻⁵ of V at cut = 10, and the
-    Gaussian core e^{−x²/2σ²} < 2 × 10⁻²² is dropped.
-
-    Parameters
-    ----------
-    x : ndarray
-        Energy offset from the mode in meV.
-    sigma : ndarray
-        Gaussian standard deviation in meV (> 0), broadcastable to x.
-    gamma : ndarray
-        Lorentzian half width at half maximum in meV (≥ 0), broadcastable to x.
-    cut : float, optional
-        Where the tail expansion takes over, in units of σ.
-
-    Returns
-    -------
-    ndarray
-        Profile in 1/meV (unit area), shape of the broadcast inputs.
-
-    References
-    ----------
-    Abramowitz & Stegun (1964), Eq. 7.4.13 (Voigt profile via the Faddeeva function);
-    the Gaussian-moment expansion: the Gaussian is the heat kernel, so its convolution
-    with L is Σ_k (σ²/2)^k L^{(2k)} / k! (e.g. J. Crank, The Mathematics of Diffusion,
-    2nd ed. (OUP, 1975)), with L^{(n)} = (1/π) Im[(−1)^n n! / (x − iγ)^{n+1}].
-    """
-    x = np.asarray(x, float)
-    sigma = np.asarray(sigma, float)
-    gamma = np.asarray(gamma, float)
-    shape = np.broadcast_shapes(x.shape, sigma.shape, gamma.shape)
-    x2, s2 = x * x, sigma * sigma
-    with np.errstate(divide="ignore", invalid="ignore"):
-        u = x2 + gamma * gamma
-        a = x2 / u                              # x²/(x² + γ²); Im w^{2k+1} in powers of a
-        rho = s2 / u
-        t = 64.0 * a                            # 15 σ⁶ w⁷ term: 64a³ − 80a² + 24a − 1
-        t -= 80.0
-        t *= a
-        t += 24.0
-        t *= a
-        t -= 1.0
-        t *= 15.0 * rho
-        p = 16.0 * a                            # 3 σ⁴ w⁵ term: 16a² − 12a + 1
-        p -= 12.0
-        p *= a
-        p += 1.0
-        p *= 3.0
-        p += t
-        p *= rho
-        out = 4.0 * a                           # σ² w³ term: 4a − 1
-        out -= 1.0
-        out += p
-        out *= rho
-        out += 1.0
-        out *= gamma / np.pi
-        out /= u
-    sharp = gamma == 0.0                       # no Lorentzian: the plain Gaussian
-    if np.any(sharp):
-        out = np.where(sharp, neutron.gaussian(x, sigma), out)
-    out = np.broadcast_to(out, shape).copy()
-    near = np.flatnonzero(np.broadcast_to((x2 < (cut * cut) * s2) & ~sharp, shape))
-    if near.size:
-        pick = lambda a: np.broadcast_to(a, shape).ravel()[near]   # noqa: E731
-        out.ravel()[near] = special.voigt_profile(pick(x), pick(sigma), pick(gamma))
-    return out
+    return magnon_lineshape.mode_pair(energy, np.sqrt(sig2), omega, w, temperature, damping)

@@ -7,7 +7,7 @@ import functools
 import numpy as np
 import pytest
 
-from evidence1d.physics import magnon, ordered_magnon as om
+from evidence1d.physics import magnon, magnon_lineshape as ml, ordered_magnon as om
 from evidence1d.units import K_B_MEV
 
 
@@ -218,6 +218,21 @@ def test_momentum_resolution_against_brute_force_average():
     np.testing.assert_allclose(fast, brute, rtol=0, atol=0.01 * np.max(brute))
 
 
+def test_voigt_pair_and_partial_fractions():
+    # σ → 0: V and D are the absorptive and dispersive Lorentzians, and the identity the
+    # kernel's exact part rests on, [L(E−ω) − L(E+ω)]/E = [ω(L₋ + L₊) − Γ(D₋ − D₊)]/(ω²+Γ²)
+    # (partial fractions), holds.
+    E = np.linspace(-3, 3, 12)
+    w, g, s = 0.7, 0.3, 1e-5
+    L = lambda x: g / np.pi / (x * x + g * g)                             # noqa: E731
+    vm, dm = ml.voigt_pair(E - w, s, g)
+    vp, dp = ml.voigt_pair(E + w, s, g)
+    np.testing.assert_allclose(vm, L(E - w), rtol=1e-8)
+    np.testing.assert_allclose(dm, (E - w) / np.pi / ((E - w) ** 2 + g * g), rtol=1e-8)
+    np.testing.assert_allclose((w * (vm + vp) - g * (dm - dp)) / (w * w + g * g),
+                               (L(E - w) - L(E + w)) / E, rtol=1e-8)
+
+
 def test_voigt_tail_expansion_against_faddeeva():
     # Exact Voigt (scipy.special.voigt_profile, Faddeeva function; Abramowitz & Stegun
     # 7.4.13) against the kernel's profile, which switches to the Gaussian-moment expansion
@@ -226,7 +241,46 @@ def test_voigt_tail_expansion_against_faddeeva():
     from scipy.special import voigt_profile
     sigma = 0.07
     x = np.concatenate([-np.geomspace(1e-4, 200, 400), np.geomspace(1e-4, 200, 400)])
+    from scipy.special import wofz
     for g in (0.0, 1e-6, 0.01, 0.07, 0.7, 5.0):
-        got = om.voigt(x, sigma, g)
+        got, disp = ml.voigt_pair(x, sigma, g)
         ref = voigt_profile(x, sigma, g)
         np.testing.assert_allclose(got, ref, rtol=2e-5, atol=1e-21 / sigma)
+        if g > 0:          # dispersive part: Im w(z)/(σ√(2π)), z = (x + iΓ)/(σ√2)
+            ref_d = wofz((x + 1j * g) / (np.sqrt(2) * sigma)).imag / (np.sqrt(2 * np.pi) * sigma)
+            np.testing.assert_allclose(disp, ref_d, rtol=2e-5, atol=1e-21 / sigma)
+
+
+@pytest.mark.parametrize("q, delta, eta, T, sigma", [
+    ((1.1, 0.4, 0.3), 1.1, 0.3, 5.0, 0.08), ((1.1, 0.4, 0.3), 1.1, 1.0, 20.0, 0.08),
+    ((1.1, 0.4, 0.3), 1.1, 0.5, 0.0, 0.3), ((3.05, 0.4, 0.3), 1.1, 0.5, 2.0, 0.08),
+    ((3.1, np.pi, np.pi), 1.0, 0.3, 2.0, 0.08), ((3.135, np.pi, np.pi), 1.0, 0.5, 5.0, 0.08),
+    ((3.1, np.pi, np.pi), 1.0, 0.5, 0.0, 0.1), ((3.1, np.pi, np.pi), 1.0, 1.0, 0.1, 0.3),
+    ((3.1, np.pi, np.pi), 1.0, 0.5, 0.3, 0.03)])
+def test_damped_line_against_brute_force_resolution_convolution(q, delta, eta, T, sigma):
+    # S = G_σ ∗ W (n(E')+1)[L(E'−ω) − L(E'+ω)] by a dense trapezoid convolution over E'
+    # (±8σ, independent of the kernel's split into Faddeeva parts and a remainder), for
+    # modes far above the resolution width and, near a Goldstone point, at and inside it,
+    # from T = 0 to the classical regime: within 1 % of the peak.
+    from scipy import integrate
+    E = np.linspace(-3.0, 6.0, 181)
+    args = tuple(np.array([v]) for v in q) + (col(2.0), col(0.2), col(delta))
+    w, _, _, wt = om.magnon_modes(*args, 4)
+    w, wt = w[0, 0], wt[0, 0]
+    g, kT = eta * w, K_B_MEV * T
+    W = wt * np.pi / (2 * np.arctan(1 / eta))
+    u = np.linspace(-8 * sigma, 8 * sigma, 3201)                       # E' − E
+    Ep = E[:, None] + u[None, :]
+    L = lambda x: g / np.pi / (x * x + g * g)                             # noqa: E731
+    with np.errstate(divide="ignore", invalid="ignore"):
+        if kT > 0:
+            f = W * (L(Ep - w) - L(Ep + w)) / -np.expm1(-Ep / kT)
+            f = np.where(Ep == 0, W * kT * 4 * g * w / np.pi / (w * w + g * g) ** 2, f)
+        else:                                                  # n + 1 = Θ(E') at T = 0
+            f = W * (L(Ep - w) - L(Ep + w)) * (Ep > 0)
+    brute = integrate.trapezoid(f * np.exp(-0.5 * (u / sigma) ** 2), u, axis=1)
+    brute /= np.sqrt(2 * np.pi) * sigma
+    one = np.ones_like(E)
+    got = om.transverse_spectrum(*(v * one for v in q), E, sigma * one, T, col(2.0),
+                                 col(0.2), col(delta), 4, damping=col(eta))[0]
+    np.testing.assert_allclose(got, brute, rtol=0, atol=1e-2 * brute.max())
