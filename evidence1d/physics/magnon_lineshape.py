@@ -33,6 +33,7 @@ _N_REMAINDER = 4
 #: nodes of the line-adapted rule for the remainder of a damped mode narrower than σ
 _N_NARROW = 32
 _NARROW_BELOW = 3.0                  # ... used where ω + Γ < 3 σ
+_CLOSE = 6.0                         # 2 nodes suffice beyond 6 σ from ±ω and from 0
 #: the k_BT/E' part of the Bose factor is convolved exactly for ħω below ~4 k_BT
 _KAPPA_SCALE = 4.0
 
@@ -53,7 +54,8 @@ def mode_pair(energy, sigma, omega, w, temperature, damping=None):
     Of the third part, h_κ(ω)(L₋ + L₊) also convolves exactly; the remainder
     W {h_κ(E')[L₋ − L₊] − h_κ(ω)(L₋ + L₊)}, proportional to Γ, small in the classical
     regime ħω ≪ k_BT (κ → 1) and smooth on the scale of the line when ħω ≫ k_BT (κ → 0),
-    is convolved with a 4-node Gauss–Hermite rule where the line is wider than 3σ and with
+    is convolved with a 4-node Gauss–Hermite rule where the line is wider than 3σ (2 nodes
+    beyond 6σ from ±ω and from 0, where the remainder is smooth on the scale of σ) and with
     a 32-node rule adapted to the line (E' = (ω + Γ) tan θ, midpoints in θ) where it is
     narrower.  The result is exact for a sharp mode (areas w [n(ω) + 1] and w n(ω)) and
     within 1 % of the peak of a brute-force convolution for damped modes from far inside
@@ -116,12 +118,18 @@ def mode_pair(energy, sigma, omega, w, temperature, damping=None):
     # remainder: Gauss–Hermite in the resolution where the line is wider than σ, a rule
     # adapted to the line (E' = s tan θ, s = ω + Γ) where it is narrower
     narrow = (args[0] + args[1]) < _NARROW_BELOW * args[5]
-    jdx = np.flatnonzero(~narrow)
-    if jdx.size:
+    # 4 Gauss–Hermite nodes within 6σ of ±ω or of 0 (where the remainder has its
+    # structure), 2 beyond (there it is smooth on the scale of σ: error ~(σ/6σ)⁴)
+    dist = np.minimum(np.minimum(np.abs(Eb - args[0]), np.abs(Eb + args[0])), np.abs(Eb))
+    close = dist < _CLOSE * args[5]
+    for sel, n_nodes in ((~narrow & close, _N_REMAINDER), (~narrow & ~close, 2)):
+        jdx = np.flatnonzero(sel)
+        if jdx.size == 0:
+            continue
         om_, g_, hw_, kx_, W_, sg_ = (a.ravel()[jdx] for a in args)
         Ej = Eb.ravel()[jdx]
-        x, hk = neutron.gauss_hermite(_N_REMAINDER)
-        wide = sum(hi * _bose_remainder(Ej + xi * sg_, om_, g_, hw_, kx_, temperature)
+        x, hk = neutron.gauss_hermite(n_nodes)
+        wide = sum(hi * _bose_remainder(Ej + xi * sg_, om_, g_, hw_, kx_, kT)
                    for xi, hi in zip(x, hk))
         out.ravel()[jdx] += W_ * wide
     idx = np.flatnonzero(narrow)
@@ -131,7 +139,7 @@ def mode_pair(energy, sigma, omega, w, temperature, damping=None):
         scale = om_ + g_
         e = scale * np.tan(th)
         wq = scale * (np.pi / _N_NARROW) / np.cos(th) ** 2
-        r = _bose_remainder(e, om_, g_, hw_, kx_, temperature)
+        r = _bose_remainder(e, om_, g_, hw_, kx_, kT)
         Ek = Eb.ravel()[idx][:, None]
         conv = np.sum(wq * r * neutron.gaussian(Ek - e, sg_), axis=1)
         out.ravel()[idx] += W_[:, 0] * conv
@@ -140,7 +148,20 @@ def mode_pair(energy, sigma, omega, w, temperature, damping=None):
 
 
 
-def _bose_remainder(e, omega, gamma, h_w, kT_exact, temperature):
+def _bose_energy(e, kT):
+    """e [n(e) + 1] = e / (1 − e^{−e/k_BT}) without overflow: |e| e^{−x}/(1 − e^{−x}) for
+    e < 0 (x = |e|/k_BT), k_BT at e = 0, max(e, 0) at T = 0 (as neutron.bose_energy_factor)."""
+    if kT <= 0.0:
+        return np.maximum(e, 0.0)
+    ae = np.abs(e)
+    x = ae / kT
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out = ae / -np.expm1(-x)
+    out = np.where(x > 1e-300, out, kT)
+    return np.where(e < 0, out * np.exp(-x), out)
+
+
+def _bose_remainder(e, omega, gamma, h_w, kT_exact, kT):
     """R/W = h_κ(e)[L(e − ω) − L(e + ω)] − h_κ(ω)[L(e − ω) + L(e + ω)], zero where Γ = 0.
 
     h_κ(e) = n(e) + 1/2 − κ k_BT/e; h_κ(e)[L₋ − L₊] = (e[n(e)+1] − κ k_BT) K(e) − (L₋ − L₊)/2
@@ -150,10 +171,10 @@ def _bose_remainder(e, omega, gamma, h_w, kT_exact, temperature):
     with np.errstate(divide="ignore", invalid="ignore"):
         qm = (e - omega) ** 2 + g2
         qp = (e + omega) ** 2 + g2
-        lm, lp = gamma / np.pi / qm, gamma / np.pi / qp
-        K = 4.0 * gamma * omega / (np.pi * qm * qp)
-        B = neutron.bose_energy_factor(e, temperature)
-        rem = (B - kT_exact) * K - 0.5 * (lm - lp) - h_w * (lm + lp)
+        gp = gamma / np.pi
+        K = (4.0 * omega) * gp / (qm * qp)
+        lm, lp = gp / qm, gp / qp
+        rem = (_bose_energy(e, kT) - kT_exact) * K - (0.5 + h_w) * lm + (0.5 - h_w) * lp
     return np.where(gamma > 0, rem, 0.0)
 
 
