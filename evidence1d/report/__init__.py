@@ -19,26 +19,32 @@ from pathlib import Path
 __all__ = ["write_report", "rebuild_report"]
 
 
-def _write_outputs(results, case, figures: bool, workers: int | None = None) -> Path:
-    from .figures import write_figures
+def _write_outputs(results, case, figures: bool, workers: int | None = None, *,
+                   figures_only: bool = False, quick: bool | None = None) -> Path:
+    from .figures import is_quick, render
     from .latex import render_tables
     from .markdown import render_markdown, report_context
     from .schema import validate_summary
     from .store import atomic_write, export_samples
-    from .summary import build_summary, corner_inputs, predictive_data
+    from .summary import build_summary
 
     out = Path(results.out)
     summary = build_summary(results, case)
     validate_summary(summary)
-    context = report_context(results, case)
-    export_samples(results)
-    atomic_write(out / "report.md", render_markdown(summary, context))
-    atomic_write(out / "tables.tex", render_tables(summary, context))
-    if figures:
-        write_figures(out / "figures", summary, predictive_data(results, case, summary),
-                      corner_inputs(results, case), workers=workers)
-    atomic_write(out / "summary.json", json.dumps(summary, indent=2, ensure_ascii=False,
-                                                  allow_nan=False) + "\n")
+    if quick is None:
+        quick = is_quick(out, results, case)
+    if not figures_only:
+        context = report_context(results, case)
+        export_samples(results)
+        atomic_write(out / "report.md", render_markdown(summary, context))
+        atomic_write(out / "tables.tex", render_tables(summary, context))
+    if figures or figures_only:
+        # the case file's ``figures:`` block (cuts, temperature axis, truths...), if any
+        render(results, case, summary, out / "figures", settings=getattr(case, "figures", None),
+               quick=quick, workers=workers)
+    if not figures_only:
+        atomic_write(out / "summary.json", json.dumps(summary, indent=2, ensure_ascii=False,
+                                                      allow_nan=False) + "\n")
     return out
 
 
@@ -74,7 +80,8 @@ def write_report(results, case, *, figures: bool = True, workers: int | None = N
     return _write_outputs(results, case, figures, workers)
 
 
-def rebuild_report(folder, *, figures: bool = True, workers: int | None = None) -> Path:
+def rebuild_report(folder, *, figures: bool = True, workers: int | None = None, out=None,
+                   figures_only: bool = False) -> Path:
     """Rewrite summary.json, report.md, tables.tex, samples and figures of a saved run.
 
     Parameters
@@ -85,11 +92,16 @@ def rebuild_report(folder, *, figures: bool = True, workers: int | None = None) 
         Draw the figures.
     workers : int, optional
         Processes that draw the figures (see :func:`evidence1d.parallel.worker_count`).
+    out : str or pathlib.Path, optional
+        Write the rebuilt files into this folder instead (created; ``folder`` is left
+        untouched; the saved results stay in ``folder``).
+    figures_only : bool
+        Draw only the figures (no summary.json, report.md, tables.tex or samples).
 
     Returns
     -------
     pathlib.Path
-        The folder.
+        The folder written.
 
     Raises
     ------
@@ -123,4 +135,14 @@ def rebuild_report(folder, *, figures: bool = True, workers: int | None = None) 
             raise InputError(f"the saved results of '{name}' do not match the copied case "
                              "(different parameters); run the case again",
                              file=results.case_path)
-    return _write_outputs(results, case, figures, workers)
+    from .figures import is_quick
+    quick = is_quick(folder, results, case)
+    if out is not None and Path(out).resolve() != folder.resolve():
+        import dataclasses
+        if Path(out).exists() and not Path(out).is_dir():
+            raise InputError("--out must be a folder; give a new or existing folder",
+                             file=Path(out))
+        Path(out).mkdir(parents=True, exist_ok=True)
+        results = dataclasses.replace(results, out=Path(out))
+    return _write_outputs(results, case, figures, workers, figures_only=figures_only,
+                          quick=quick)
