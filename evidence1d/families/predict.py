@@ -51,9 +51,39 @@ def _q_sigmas(dataset, sample) -> tuple[float, float]:
         return 0.0, 0.0
     f_par, f_perp = float(qf[0]), float(qf[1])
     if dataset.units.get("wavevector") == "rlu":
-        f_par *= 2.0 * np.pi / sample.lattice["c"]
-        f_perp *= 2.0 * np.pi / sample.lattice["a"]
+        geo = getattr(sample, "geometry", None)
+        if geo is None:
+            k_par, k_perp = 2.0 * np.pi / sample.lattice["c"], 2.0 * np.pi / sample.lattice["a"]
+        else:
+            k_par, k_perp = geo.rlu_width_factors()
+        f_par, f_perp = f_par * k_par, f_perp * k_perp
     return f_par / FWHM_PER_SIGMA, f_perp / FWHM_PER_SIGMA
+
+
+def _interchain(dataset, sample):
+    """Wavevector components along the two interchain lattice vectors, their lengths, |Q|.
+
+    The families see a chain with neighbouring chains at R₁ and R₂ (the other two crystal
+    axes, projected across the chain; :meth:`Geometry.interchain_vectors`) through the
+    phases Q⊥·R₁ = Q_a a_⊥ and Q⊥·R₂ = Q_b b_⊥, so Q_a = Q⊥·R̂₁ and Q_b = Q⊥·R̂₂.  For a
+    chain along c in an orthogonal cell this is Q_a = Q_⊥ (along a), Q_b = Q_⊥2 (along b).
+    |Q| (for the form factor) comes from the orthonormal components.
+
+    Returns
+    -------
+    (Q_a, a_perp), (Q_b, b_perp), Q : arrays in Å⁻¹ and lengths in Å
+    """
+    x = dataset.x
+    Q_par, Qp1 = x["Q_par"], x["Q_perp"]
+    Qp2 = x.get("Q_perp2", np.zeros_like(Q_par))
+    Q = np.sqrt(Q_par ** 2 + Qp1 ** 2 + Qp2 ** 2)
+    geo = getattr(sample, "geometry", None)
+    if geo is None or geo.is_default:
+        return (Qp1, sample.lattice["a"]), (Qp2, sample.lattice["b"]), Q
+    R = geo.interchain_vectors()
+    L1, L2 = float(np.hypot(*R[0])), float(np.hypot(*R[1]))
+    return ((Qp1 * R[0, 0] + Qp2 * R[0, 1]) / L1, L1), \
+        ((Qp1 * R[1, 0] + Qp2 * R[1, 1]) / L2, L2), Q
 
 
 def _span(y):
@@ -102,15 +132,15 @@ class DatasetPredictor:
             self._sigma = neutron.resolution_sigma(E, opt["resolution"]["fwhm"])
             self._E = E
             if dataset.kind == "crystal_spectrum":
-                Q_par, Q_a = dataset.x["Q_par"], dataset.x["Q_perp"]
+                Q_par = dataset.x["Q_par"]
+                (Q_a, a_perp), (Q_b, b_perp), self._Q = _interchain(dataset, sample)
                 sq_par, sq_perp = _q_sigmas(dataset, sample)
-                self._pts = SpectralPoints(Q_par=Q_par, Q_a=Q_a, Q_b=np.zeros_like(Q_par),
-                                           d=sample.spin_spacing, a_perp=sample.lattice["a"],
-                                           b_perp=sample.lattice["b"], energy=E,
+                self._pts = SpectralPoints(Q_par=Q_par, Q_a=Q_a, Q_b=Q_b,
+                                           d=sample.spin_spacing, a_perp=a_perp,
+                                           b_perp=b_perp, energy=E,
                                            sigma=self._sigma,
                                            temperature=float(opt["temperature"]),
                                            sigma_Q_par=sq_par, sigma_Q_perp=sq_perp)
-                self._Q = self._pts.Q
                 self._ndir = 1
             else:
                 pa = opt.get("powder_average") or {}
