@@ -192,7 +192,7 @@ def ordered_susceptibility(T, J, J_perp, delta, g, direction="powder", z_perp=4,
     if direction not in DIRECTIONS:
         raise InputError(f"unknown field direction {direction!r}; expected one of "
                          "powder, z, xy")
-    T, J, Jp, d, TN, ordered = _prepare(T, J, J_perp, delta, z_perp)
+    T, J, Jp, d, TN, _ = _prepare(T, J, J_perp, delta, z_perp)
     below = T[None, :] < TN
     any_below = bool(np.any(below))
     parts = {"z": ("chi_star", d), "xy": ("chi_star_perp", 1.0)}
