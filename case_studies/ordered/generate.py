@@ -18,7 +18,7 @@ from evidence1d.simulate import NoiseModel, regenerate  # noqa: E402
 
 SEED = 12
 TRUTH = {
-    "J": 1.2, "J_perp": 0.08, "delta": 1.05, "g": 2.1,   # meV, meV, 1, 1
+    "J": 1.2, "J_perp": 0.08, "delta": 1.05, "damping": 0.0, "g": 2.1,   # meV, meV, 1, 1, 1
     "chi0": 1.0e-4, "c_imp": 3.0e-3, "gamma_e": 0.0, "beta_lattice": 2.0e-4,
     "map:scale": 40.0, "map:background": 0.5, "map:slope": 0.05,
     "cut:scale": 40.0, "cut:background": 0.4,
