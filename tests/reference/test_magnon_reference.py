@@ -6,6 +6,7 @@ import scipy.constants as sc
 from scipy import integrate, special
 
 from evidence1d.physics import magnon, ordered_thermo as ot, paramagnon as pm
+from evidence1d.physics import paramagnon_zone as pz
 
 
 def col(*v):
@@ -85,10 +86,10 @@ def test_paramagnon_zone_average_1d_closed_form():
     # (1939), from memory).
     for b in (0.3, 4.0, 100.0):
         xi = 3.0 * np.sqrt(b) / 2.0
-        got = pm.zone_average_inverse_rate(col(1.0), col(xi), col(0.0), 3.0, 7.0, 7.5)
+        got = pz.zone_average_inverse_rate(col(1.0), col(xi), col(0.0), 3.0, 7.0, 7.5)
         np.testing.assert_allclose(got, 1 / np.sqrt(1 + b), rtol=1e-8)
         xi_t = 7.0 * np.sqrt(b) / 2.0
-        got = pm.zone_average_inverse_rate(col(1.0), col(0.0), col(xi_t), 3.0, 7.0, 7.0)
+        got = pz.zone_average_inverse_rate(col(1.0), col(0.0), col(xi_t), 3.0, 7.0, 7.0)
         k = b / (1 + b)
         np.testing.assert_allclose(got, 2 / np.pi * special.ellipk(k * k) / (1 + b),
                                    rtol=1e-6)
