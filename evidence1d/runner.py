@@ -9,6 +9,12 @@ a process pool in two stages, the evidence islands of every family first (indepe
 so the cores are shared evenly), then one job per family for the rest; the figures are
 drawn in parallel at the end.  Every family and island has its own random stream, so the
 numbers do not depend on the number of processes.
+
+After the families: the analyses of :mod:`evidence1d.analysis` (goodness of fit, prior
+bounds, and the evidence budget of the two leading families, which runs its own
+data-tempering paths as a third parallel stage), the verdict's reliability
+(:func:`~evidence1d.inference.compare.verdict_reliability`), and a record of what the
+samplers did (moves and their shares, marginalisation) for the methods text.
 """
 from __future__ import annotations
 
@@ -46,6 +52,7 @@ class ModelResult:
     run_time: float = 0.0
     nuisance_names: list = field(default_factory=list)
     nuisance_samples: object = None
+    analysis: dict = field(default_factory=dict)
 
     @property
     def full_names(self) -> list:
@@ -70,11 +77,17 @@ class RunResults:
     models : dict of str to ModelResult
     comparison : Comparison
     reliable : bool
-        False if any model's diagnostics failed; every output says so.
+        Whether the verdict can be trusted (evidence errors and island agreement against
+        ln K, the winner's diagnostics; see
+        :func:`~evidence1d.inference.compare.verdict_reliability`); every output says so.
+        A losing family's failed chain is a note on that family, not on the verdict.
     out : pathlib.Path
     seed : int
     settings : dict
     provenance : dict
+    budget : dict or None
+        The evidence budget (:func:`evidence1d.analysis.evidence_budget`), or None when it
+        was not computed (``budget=False``, one dataset, or a note why under ``"skipped"``).
     """
 
     models: dict
@@ -85,6 +98,7 @@ class RunResults:
     settings: dict
     provenance: dict = field(default_factory=dict)
     case_path: Path | None = None
+    budget: dict | None = None
 
 
 def effective_settings(case, quick: bool = False) -> dict:
@@ -216,13 +230,75 @@ def _evidences(case, names, settings, seeds, out: Path | None, resume: bool, pro
     return {n: evidences[n] for n in names}
 
 
+#: spawn key of the evidence budget's random stream: a child of the run seed that no
+#: family uses (``_model_seeds`` spawns children 0 … n − 1)
+_BUDGET_KEY = 2 ** 20
+
+
+def _budget_labels(case, problem) -> list:
+    """The likelihood terms of a problem in the case's dataset order (the stated order of
+    the sequential budget)."""
+    pos = {ds.name: i for i, ds in enumerate(case.datasets)}
+    return sorted(problem.term_sizes(), key=lambda lab: min(pos.get(d, 0)
+                                                           for d in lab.split("+")))
+
+
+def _path_job(case, name, stages, seed, options):
+    """One island of one data-tempering path of one family: a pool job."""
+    from .analysis import path_island
+    return path_island(case.problem(name), stages, seed, **options)
+
+
+def _budget(case, results, comparison, settings, seed, progress, workers):
+    """The evidence budget of the two leading families (third parallel stage)."""
+    from tqdm.auto import tqdm
+
+    from .analysis import evidence_budget
+    from .analysis.budget import budget_paths, combine_paths
+    from .inference.evidence import evidence_settings
+    from .inference.progress import bar_options
+    order = sorted(results, key=lambda n: -results[n].evidence.log_z)
+    a, b = order[0], order[1]
+    labels = _budget_labels(case, case.problem(a))
+    if labels != _budget_labels(case, case.problem(b)):
+        return {"skipped": "the two leading families group the datasets into different "
+                           "likelihood terms"}
+    if len(labels) < 2:
+        return None
+    paths = budget_paths(labels)
+    options = _evidence_options(settings)
+    root = np.random.SeedSequence(seed, spawn_key=(_BUDGET_KEY,))
+    jobs, keys = [], []
+    for fam, fam_seq in zip((a, b), root.spawn(2)):
+        for (pname, stages), path_seq in zip(paths.items(), fam_seq.spawn(len(paths))):
+            for isl in path_seq.spawn(settings["islands"]):
+                jobs.append((case, fam, stages, isl, options))
+                keys.append((fam, pname))
+    label, _ = bar_options(progress, "budget")
+    bar = tqdm(total=len(jobs), disable=not progress, desc=label, unit="path", leave=False)
+    try:
+        done = run_in_pool(_path_job, jobs, worker_count(workers, len(jobs)),
+                           on_result=lambda _: bar.update(1))
+    finally:
+        bar.close()
+    per = {a: {}, b: {}}
+    for (fam, pname), vals in zip(keys, done):
+        per[fam].setdefault(pname, []).append(vals)
+    combined = {fam: combine_paths(per[fam]) for fam in (a, b)}
+    pair = next(p for p in comparison.pairs if {p.a, p.b} == {a, b})
+    ln_k = pair.ln_k if pair.a == a else -pair.ln_k
+    record = evidence_settings(n_islands=settings["islands"], **options)
+    return evidence_budget(labels, a, b, combined, ln_k, pair.ln_k_err, record)
+
+
 def _run_model(case, name, settings, streams, ev, out: Path | None, resume: bool, progress,
                position=None):
     """Everything after the evidence for one family: a pool job."""
     from .inference.compare import savage_dickey
     from .inference.diagnostics import diagnose, psis_loo
+    from .analysis import bound_flags, goodness_of_fit
     from .inference.laplace import laplace_evidence
-    from .inference.posterior import sample_posterior
+    from .inference.posterior import population_moves, sample_posterior
 
     t0 = time.perf_counter()
     problem = case.problem(name)
@@ -238,10 +314,12 @@ def _run_model(case, name, settings, streams, ev, out: Path | None, resume: bool
     ckpt = None if out is None else out / "chains" / f"{name}.h5"
     if ckpt is not None:
         ckpt.parent.mkdir(parents=True, exist_ok=True)
+    moves = population_moves(pool)
     post = sample_posterior(problem.log_likelihood, problem.prior, rng=rng_post,
                             n_walkers=walkers, n_steps=settings["steps"], initial=start,
                             checkpoint=ckpt, resume=resume, progress=progress,
-                            checkpoint_every=settings["checkpoint_every"], population=pool)
+                            checkpoint_every=settings["checkpoint_every"], moves=moves,
+                            population=pool)
     diag = diagnose(post.chain[post.burn_in:], problem.names,
                     acceptance=post.acceptance_fraction, tau=post.tau,
                     independence=post.population_moves)
@@ -266,17 +344,53 @@ def _run_model(case, name, settings, streams, ev, out: Path | None, resume: bool
     except Exception as exc:  # a predictive cross-check must not sink the run
         loo = {"error": f"{exc.__class__.__name__}: {exc}"}
     nuis = problem.draw_marginalised(samples, np.random.default_rng(nu_seed))
+    full = np.hstack([np.asarray(samples), np.asarray(nuis)])
+    analysis = {
+        "goodness_of_fit": goodness_of_fit(problem, full,
+                                           rng=np.random.default_rng(nu_seed.spawn(1)[0])),
+        "prior_bounds": bound_flags(problem.full_names, full, problem.declared_priors,
+                                    nested),
+        "sampler": {"moves": _describe_moves(moves), "n_walkers": int(walkers),
+                    "n_steps": int(settings["steps"]), "population_size": int(len(pool)),
+                    "move_acceptance": dict(post.move_acceptance),
+                    "marginalised": list(problem.marginalised)},
+    }
     return ModelResult(name=name, title=problem.card.title,
                        one_dimensional=problem.one_dimensional, names=list(problem.names),
                        units=dict(problem.units), evidence=ev, posterior=post,
                        diagnostics=diag, laplace=lap, savage_dickey=sd, loo=loo,
                        run_time=ev.wall_time + time.perf_counter() - t0,
-                       nuisance_names=list(problem.marginalised), nuisance_samples=nuis)
+                       nuisance_names=list(problem.marginalised), nuisance_samples=nuis,
+                       analysis=analysis)
+
+
+def _describe_moves(moves) -> list:
+    """The emcee move mixture as plain records: [{"move": name, "share": fraction}]."""
+    import emcee
+
+    from .inference.posterior import PopulationProposal
+    total = float(sum(w for _, w in moves))
+    out = []
+    for mv, w in moves:
+        if (isinstance(mv, emcee.moves.MHMove)
+                and isinstance(getattr(mv, "get_proposal", None), PopulationProposal)):
+            name = "population"
+        elif isinstance(mv, emcee.moves.DESnookerMove):
+            name = "snooker"
+        elif isinstance(mv, emcee.moves.DEMove):
+            name = "differential_evolution"
+        elif isinstance(mv, emcee.moves.StretchMove):
+            name = "stretch"
+        else:
+            name = type(mv).__name__
+        out.append({"move": name, "share": float(w) / total})
+    return out
 
 
 def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume: bool = False,
         overwrite: bool = False, figures: bool = True, models=None, progress: bool = True,
-        write: bool = True, workers: int | None = None) -> RunResults:
+        write: bool = True, workers: int | None = None,
+        budget: bool | None = None) -> RunResults:
     """Compare the model families of a case.
 
     Parameters
@@ -305,6 +419,10 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
         the environment variable ``EVIDENCE1D_WORKERS`` or the number of CPU cores, at
         most one per job; 1 runs everything in this process). Each family has its own
         seed, so the numbers do not depend on this.
+    budget : bool, optional
+        Compute the evidence budget of the two leading families (data-tempering paths:
+        about one extra evidence run per likelihood term and family; see
+        :mod:`evidence1d.analysis.budget`).  Default: yes, except with ``quick``.
 
     Returns
     -------
@@ -315,7 +433,7 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
     InputError
         The output folder exists (without ``overwrite`` or ``resume``), or an unknown model.
     """
-    from .inference.compare import compare_models
+    from .inference.compare import compare_models, verdict_reliability, with_reliability
     from .provenance import provenance
 
     seed = case.seed if seed is None else int(seed)
@@ -363,14 +481,37 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
             log(f"{n}: warning: {w}")
     comparison = compare_models({n: (r.evidence.log_z, r.evidence.log_z_err,
                                      r.one_dimensional) for n, r in results.items()},
-                                prior_odds=case.prior_odds,
-                                unreliable=[n for n, r in results.items()
-                                            if not r.diagnostics.ok])
-    reliable = all(r.diagnostics.ok for r in results.values()) and all(
-        np.isfinite(r.evidence.log_z_err) for r in results.values())
+                                prior_odds=case.prior_odds)
+    rel = verdict_reliability(comparison,
+                              {n: r.evidence.island_log_z for n, r in results.items()},
+                              {n: r.diagnostics.ok for n, r in results.items()},
+                              {n: list(r.diagnostics.warnings) for n, r in results.items()})
+    comparison = with_reliability(comparison, rel)
+    reliable = bool(rel["verdict_reliable"])
+    for n, note in rel["posterior_notes"].items():
+        log(f"{n}: note: {note}")
+    for ds, fit in results[comparison.best].analysis["goodness_of_fit"].items():
+        if fit["bad_fit"]:
+            log(f"WARNING: the winner {comparison.best} fits {ds} badly: chi2/N = "
+                f"{fit['chi2_per_point']:.2f} (limit {fit['chi2_per_point_limit']:.2f}), "
+                f"posterior-predictive p = {fit['p_value']:.2g}")
+    budget_doc = None
+    if budget is None:
+        budget = not quick
+    if not budget:
+        budget_doc = {"skipped": "a --quick run" if quick else "not asked for"}
+    else:
+        t_b = time.time()
+        budget_doc = _budget(case, results, comparison, settings, seed, progress, workers)
+        if budget_doc is not None and "skipped" not in budget_doc:
+            log(f"evidence budget of {' vs '.join(budget_doc['families'])}: sequential sum "
+                f"ln K = {budget_doc['sequential_total']:.2f} ± "
+                f"{budget_doc['sequential_total_err']:.2f} against {budget_doc['ln_k']:.2f} ± "
+                f"{budget_doc['ln_k_err']:.2f} ({time.time() - t_b:.1f} s)")
     prov = provenance(case, seed=seed, start=t0, run_time=time.time() - t0, settings=settings)
     res = RunResults(models=results, comparison=comparison, reliable=reliable, out=out,
-                     seed=seed, settings=settings, provenance=prov, case_path=case.path)
+                     seed=seed, settings=settings, provenance=prov, case_path=case.path,
+                     budget=budget_doc)
     log(f"verdict: {comparison.verdict}")
     if write:
         from .report import write_report

@@ -24,7 +24,8 @@ from scipy import special, stats
 from evidence1d.errors import InputError
 
 __all__ = ["PairComparison", "Comparison", "compare_models", "kass_raftery_wording",
-           "SavageDickeyResult", "savage_dickey"]
+           "SavageDickeyResult", "savage_dickey", "VERDICT_THRESHOLDS", "verdict_reliability",
+           "with_reliability", "p_one_dimensional_with_limits"]
 
 _SCALE = ((2.0, "not worth more than a bare mention"), (6.0, "positive"),
           (10.0, "strong"), (math.inf, "very strong"))
@@ -80,6 +81,7 @@ class Comparison:
     verdict: str
     prior_odds_stated: str
     unreliable: tuple = field(default_factory=tuple)
+    reliability: dict = field(default_factory=dict)
 
     def to_dict(self):
         return {"names": list(self.names), "log_z": dict(self.log_z),
@@ -90,7 +92,7 @@ class Comparison:
                 "p_one_dimensional": self.p_one_dimensional,
                 "p_one_dimensional_err": self.p_one_dimensional_err, "best": self.best,
                 "verdict": self.verdict, "prior_odds": self.prior_odds_stated,
-                "unreliable": list(self.unreliable)}
+                "unreliable": list(self.unreliable), "reliability": dict(self.reliability)}
 
 
 def compare_models(models: dict, prior_odds: dict | None = None, unreliable=()) -> Comparison:
@@ -170,6 +172,218 @@ def compare_models(models: dict, prior_odds: dict | None = None, unreliable=()) 
                       pairs=tuple(pairs), p_one_dimensional=p1, p_one_dimensional_err=p1_err,
                       best=best, verdict=verdict, prior_odds_stated=stated,
                       unreliable=unreliable)
+
+
+#: rules of the verdict's reliability (see :func:`verdict_reliability`): ln K must exceed
+#: ``ln_k_sigmas`` standard errors whenever the verdict claims anything, i.e. whenever
+#: ln K + ``ln_k_sigmas`` σ reaches ``ln_k_claim`` nats (2 ln K = 2, the end of "not worth
+#: more than a bare mention" on the Kass–Raftery scale); and more than ``island_majority``
+#: of the paired islands must rank the two leading families as the combined ln K does.
+VERDICT_THRESHOLDS = {"ln_k_sigmas": 2.0, "ln_k_claim": 1.0, "island_majority": 0.5}
+
+
+def verdict_reliability(cmp_: Comparison, island_log_z: dict, posterior_ok: dict,
+                        posterior_warnings: dict | None = None) -> dict:
+    """Whether the verdict can be trusted, separately from each family's posterior.
+
+    The verdict (which family wins, how strongly, and P(1D)) rests on the evidences, which
+    come from the tempered sequence, and on the winner's posterior (its parameters and
+    nested-limit ratio are quoted with it).  It is reliable when
+
+    1. every ln Z has a finite error;
+    2. the ranking of the two leading families does not rest on estimator noise: when the
+       verdict claims anything (ln K + 2σ ≥ 1 nat), ln K − 2σ > 0 (two standard errors,
+       common practice);
+    3. the islands agree: when ln K ≥ 1 nat, more than half of the island pairs (island r
+       of the winner against island r of the runner-up, independent estimates of ln K)
+       rank the families as the combined ln K does, so that the log-mean-exp is not carried
+       by one island that found a mode the others missed;
+    4. the winner's convergence diagnostics pass.
+
+    A family that failed its diagnostics but is not the winner gets a note: its parameter
+    table is unreliable, but its ln Z does not come from that chain, so the verdict stands
+    as long as 1–3 hold.
+
+    Parameters
+    ----------
+    cmp_ : Comparison
+    island_log_z : dict
+        family -> ln Ẑ of each island (nats).
+    posterior_ok : dict
+        family -> whether its convergence diagnostics passed.
+    posterior_warnings : dict, optional
+        family -> its diagnostic warnings (the first is quoted in the note).
+
+    Returns
+    -------
+    dict
+        ``verdict_reliable``, ``reasons`` (why not), ``winner``, ``runner_up``, ``ln_k``,
+        ``ln_k_err``, ``evidence_errors_finite``, ``ranking_secure``, ``islands_agree``,
+        ``island_pairs_agreeing`` (fraction), ``winner_diagnostics_ok``,
+        ``posterior_notes`` (family -> sentence, for families whose diagnostics failed),
+        ``thresholds``.
+
+    References
+    ----------
+    .. [1] Kass & Raftery, JASA 90, 773 (1995), §3.2.
+    .. [2] Del Moral, Doucet & Jasra, JRSS B 68, 411 (2006): independent unbiased island
+       estimates of Z.
+    """
+    t = VERDICT_THRESHOLDS
+    warn = posterior_warnings or {}
+    order = sorted(cmp_.names, key=lambda n: -cmp_.log_z[n])
+    best, second = order[0], order[1]
+    ln_k = cmp_.log_z[best] - cmp_.log_z[second]
+    err = math.hypot(cmp_.log_z_err[best], cmp_.log_z_err[second])
+    finite = all(math.isfinite(cmp_.log_z_err[n]) for n in cmp_.names)
+    claim = ln_k + t["ln_k_sigmas"] * err >= t["ln_k_claim"]
+    secure = (not claim) or (ln_k - t["ln_k_sigmas"] * err > 0)
+    a = np.asarray(island_log_z.get(best, []), dtype=float)
+    b = np.asarray(island_log_z.get(second, []), dtype=float)
+    r = min(a.size, b.size)
+    agree_frac = float(np.mean(a[:r] - b[:r] > 0)) if r else math.nan
+    islands_ok = ln_k < t["ln_k_claim"] or (r > 0 and agree_frac > t["island_majority"])
+    winner_ok = bool(posterior_ok.get(best, True))
+    reasons = []
+    if not finite:
+        bad = [n for n in cmp_.names if not math.isfinite(cmp_.log_z_err[n])]
+        reasons.append("ln Z has no finite error for " + ", ".join(bad))
+    if finite and not secure:
+        reasons.append(f"ln K of {best} over {second} is {ln_k:.2f} ± {err:.2f} nats: within "
+                       f"{t['ln_k_sigmas']:g} standard errors the estimator's noise, not the "
+                       "data, could decide the ranking; run more particles and islands")
+    if not islands_ok:
+        reasons.append(f"only {agree_frac:.0%} of the paired islands rank {best} above "
+                       f"{second}: the combined ln K rests on a minority of islands (a mode "
+                       "some islands missed?); run more particles")
+    if not winner_ok:
+        first = (warn.get(best) or ["see the diagnostics"])[0]
+        reasons.append(f"the posterior of the winner {best} failed the convergence "
+                       f"diagnostics ({first}); its parameters and nested-limit ratio "
+                       "cannot be quoted")
+    notes = {}
+    for n in cmp_.names:
+        if n == best or posterior_ok.get(n, True):
+            continue
+        gap = cmp_.log_z[best] - cmp_.log_z[n]
+        gerr = math.hypot(cmp_.log_z_err[best], cmp_.log_z_err[n])
+        first = (warn.get(n) or ["see the diagnostics"])[0]
+        notes[n] = (f"the emcee posterior of {n} failed the convergence diagnostics "
+                    f"({first}): its parameter table is not to be quoted. Its ln Z comes "
+                    "from the tempered sequence, not from this chain, so it does not make "
+                    f"the verdict unreliable ({n} lies ln K = {gap:.2f} ± {gerr:.2f} nats "
+                    f"behind {best}).")
+    return {"verdict_reliable": not reasons, "reasons": reasons, "winner": best,
+            "runner_up": second, "ln_k": float(ln_k), "ln_k_err": float(err),
+            "evidence_errors_finite": bool(finite), "ranking_secure": bool(secure),
+            "islands_agree": bool(islands_ok), "island_pairs_agreeing": agree_frac,
+            "winner_diagnostics_ok": winner_ok, "posterior_notes": notes,
+            "thresholds": dict(t)}
+
+
+def with_reliability(cmp_: Comparison, reliability: dict) -> Comparison:
+    """The comparison with its reliability attached; the verdict starts with UNRELIABLE and
+    the reasons when the verdict cannot be trusted.
+
+    Parameters
+    ----------
+    cmp_ : Comparison
+        From :func:`compare_models` (without ``unreliable``).
+    reliability : dict
+        From :func:`verdict_reliability`.
+
+    Returns
+    -------
+    Comparison
+        ``unreliable`` names the winner when its own diagnostics failed.
+
+    References
+    ----------
+    .. [1] Kass & Raftery, JASA 90, 773 (1995).
+    """
+    import dataclasses
+    verdict = cmp_.verdict
+    if not reliability["verdict_reliable"]:
+        verdict = "UNRELIABLE: " + "; ".join(reliability["reasons"]) + ". " + verdict
+    bad = () if reliability["winner_diagnostics_ok"] else (reliability["winner"],)
+    return dataclasses.replace(cmp_, verdict=verdict, unreliable=bad,
+                               reliability=dict(reliability))
+
+
+def _p1_with_limits(lz, w, one_d, ln_bf) -> float:
+    logs, is1 = [], []
+    for i in range(lz.size):
+        if one_d[i] or ln_bf[i] is None:
+            logs.append(math.log(w[i]) + lz[i])
+            is1.append(bool(one_d[i]))
+        else:                                 # the limit and the rest of the family
+            logs.append(math.log(w[i] / 2) + lz[i] + ln_bf[i])
+            is1.append(True)
+            logs.append(math.log(w[i] / 2) + lz[i])
+            is1.append(False)
+    logs = np.array(logs)
+    p = np.exp(logs - special.logsumexp(logs))
+    return float(p[np.array(is1)].sum())
+
+
+def p_one_dimensional_with_limits(cmp_: Comparison, limits: dict) -> tuple:
+    """P(one-dimensional | data) counting the nested one-dimensional limits of the families.
+
+    Each family that is not one-dimensional but contains a one-dimensional limit is split
+    into two hypotheses, the limit and the rest of the family, each with half its prior
+    probability (Jeffreys' convention for a point hypothesis; Kass & Raftery 1995, §2,
+    from memory); the limit's evidence is Z × BF(limit / full), the Savage–Dickey ratio.
+
+    Parameters
+    ----------
+    cmp_ : Comparison
+    limits : dict
+        family -> (ln BF limit/full, its error); ln BF = None or −inf for a limit with no
+        posterior mass (it then counts nothing).
+
+    Returns
+    -------
+    (float, float)
+        P and its error (linear propagation of the ln Z and ln BF errors, by central
+        differences).
+
+    References
+    ----------
+    .. [1] H. Jeffreys, *Theory of Probability*, 3rd ed. (Oxford, 1961), §5.0 (from memory).
+    .. [2] Dickey, Ann. Math. Stat. 42, 204 (1971).
+    """
+    names = list(cmp_.names)
+    lz = np.array([cmp_.log_z[n] for n in names])
+    w = np.array([cmp_.prior_probability[n] for n in names])
+    one_d = [cmp_.one_dimensional[n] for n in names]
+    bf, bf_err = [], []
+    for n in names:
+        v = limits.get(n)
+        if v is None or cmp_.one_dimensional[n]:
+            bf.append(None)
+            bf_err.append(0.0)
+        else:
+            ln_bf, e = v
+            ok = ln_bf is not None and math.isfinite(ln_bf)
+            bf.append(float(ln_bf) if ok else -math.inf)
+            bf_err.append(float(e) if ok and e is not None and math.isfinite(e) else 0.0)
+    p = _p1_with_limits(lz, w, one_d, bf)
+    var, h = 0.0, 1e-4
+    for i, n in enumerate(names):
+        for which, sig in (("z", cmp_.log_z_err[n]), ("bf", bf_err[i])):
+            if not sig or not math.isfinite(sig) or (which == "bf" and bf[i] is None):
+                continue
+            up, dn = lz.copy(), lz.copy()
+            bu, bd = list(bf), list(bf)
+            if which == "z":
+                up[i] += h
+                dn[i] -= h
+            else:
+                bu[i] += h
+                bd[i] -= h
+            g = (_p1_with_limits(up, w, one_d, bu) - _p1_with_limits(dn, w, one_d, bd)) / (2 * h)
+            var += (g * sig) ** 2
+    return p, math.sqrt(var)
 
 
 @dataclass(frozen=True)

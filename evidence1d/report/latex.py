@@ -102,6 +102,11 @@ def _symbol(name: str, latex: dict) -> str:
     return rf"\texttt{{{latex_escape(name)}}}"
 
 
+def _pm(v, e) -> str:
+    """``$v \\pm e$`` (just ``$v$`` when the error is not finite, written as null)."""
+    return f"${v:.2f} \\pm {e:.2f}$" if e is not None else f"${v:.2f}$"
+
+
 def _tabular(spec: str, header: list, rows: list, caption: str) -> list:
     out = [f"% {caption}", rf"\begin{{tabular}}{{{spec}}}", r"\toprule",
            " & ".join(header) + r" \\", r"\midrule"]
@@ -123,8 +128,8 @@ def render_tables(summary: dict, context: dict) -> str:
     Returns
     -------
     str
-        Three kinds of tabular: the families' ln Z and probabilities, the ln K of every
-        pair, and one parameter table per family.
+        The families' ln Z and probabilities, the ln K of every pair, the goodness of fit,
+        the evidence budget (when computed) and one parameter table per family.
 
     References
     ----------
@@ -134,8 +139,11 @@ def render_tables(summary: dict, context: dict) -> str:
     out = ["% tables.tex written by evidence1d; needs \\usepackage{booktabs} (and "
            "\\usepackage[T1]{fontenc} for accented names)", ""]
     if not s["reliable"]:
-        out += [r"% UNRELIABLE: convergence diagnostics failed; do not publish these numbers",
-                ""]
+        why = "; ".join(c["reliability"].get("reasons") or ["see report.md"])
+        out += ["% UNRELIABLE verdict: " + latex_escape(why).replace("\n", " ")
+                + "; do not publish these numbers", ""]
+    for w in c["winner_fit_warnings"]:
+        out += ["% BAD FIT: " + latex_escape(w), ""]
     best = max(m["log_evidence"] for m in s["models"].values())
     rows = []
     for n, m in s["models"].items():
@@ -154,6 +162,26 @@ def render_tables(summary: dict, context: dict) -> str:
     out += _tabular("llrrl", ["Family $a$", "Family $b$", r"$\ln K_{ab}$ (nats)",
                               r"$2\ln K_{ab}$", "Kass--Raftery wording"], rows,
                     "Bayes factors of every pair")
+    rows = []
+    for n, m in s["models"].items():
+        for d, f in m["goodness_of_fit"].items():
+            rows.append([latex_escape(n), latex_escape(d), str(f["n_points"]),
+                         f"${f['chi2_per_point']:.2f}$", f"${f['chi2_per_point_limit']:.2f}$",
+                         f"${f['p_value']:.2g}$", "bad" if f["bad_fit"] else "ok"])
+    out += _tabular("llrrrrl", ["Family", "Dataset", "$N$", r"$\chi^2/N$",
+                                r"bad above", "$p$", "Fit"], rows,
+                    "goodness of fit: chi2 per point at the posterior median and the "
+                    "posterior-predictive p-value (Gelman, Meng & Stern 1996)")
+    b = c["evidence_budget"]
+    if b is not None:
+        loo = {r["dataset"]: r for r in b["leave_one_out"]}
+        rows = [[latex_escape(r["dataset"]), _pm(r["ln_k"], r["ln_k_err"]),
+                 _pm(loo[r["dataset"]]["added_last"], loo[r["dataset"]]["added_last_err"])]
+                for r in b["sequential"]]
+        out += _tabular("lrr", ["Dataset", r"$\Delta\ln K$ in sequence (nats)",
+                                r"$\Delta\ln K$ added last (nats)"], rows,
+                        "evidence budget of " + " vs ".join(latex_escape(x)
+                                                            for x in b["families"]))
     for n, m in s["models"].items():
         latex = context["cards"][n]["latex"]
         rows = []

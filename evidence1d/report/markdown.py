@@ -12,6 +12,7 @@ References
 """
 from __future__ import annotations
 
+from ..analysis.bounds import BOUND_MASS_MAX, BOUND_WINDOW
 from .summary import round_interval
 
 __all__ = ["report_context", "render_markdown", "METHOD_REFERENCES", "WIDTH_LEVELS",
@@ -45,6 +46,13 @@ METHOD_REFERENCES = {
               "L. Wasserman, J. Am. Stat. Assoc. 90, 614 (1995).",
     "loo": "A. Vehtari, A. Gelman and J. Gabry, Stat. Comput. 27, 1413 (2017).",
     "fisher": "M. Tegmark, A. N. Taylor and A. F. Heavens, ApJ 480, 22 (1997).",
+    "tierney": "L. Tierney, \"Markov chains for exploring posterior distributions\", Ann. "
+               "Statist. 22, 1701 (1994).",
+    "kde": "L. Breiman, W. Meisel and E. Purcell, Technometrics 19, 135 (1977); G. R. Terrell "
+           "and D. W. Scott, Ann. Statist. 20, 1236 (1992).",
+    "ppc": "A. Gelman, X.-L. Meng and H. Stern, Statistica Sinica 6, 733 (1996).",
+    "chopin": "N. Chopin, \"A sequential particle filter method for static models\", "
+              "Biometrika 89, 539 (2002).",
 }
 
 #: posterior-to-prior 68 % width ratios: below the first "constrained", below the second
@@ -125,8 +133,12 @@ def _comparison(s) -> list:
     out += _table(["pair a / b", "ln K (nats)", "2 ln K", "Kass–Raftery wording"],
                   [[f"`{p['a']}` / `{p['b']}`", f"{p['ln_k']:.2f} ± {p['ln_k_err']:.2f}",
                     f"{p['two_ln_k']:.1f}", p["wording"]] for p in c["pairs"]])
+    od = c["one_dimensional"]
     out += [f"P(one-dimensional | data) = {c['p_one_dimensional']:.3g} ± "
-            f"{c['p_one_dimensional_err']:.2g}, with {c['prior_odds']}.", ""]
+            f"{c['p_one_dimensional_err']:.2g}, with {c['prior_odds']}.", "",
+            f"What one-dimensional means here: {od['definition']}"
+            + (f" Counting them: P = {od['p_with_nested_limits']:.3g} ± "
+               f"{od['p_with_nested_limits_err']:.2g}." if od["nested_limits"] else ""), ""]
     sd = [(n, m["savage_dickey"]) for n, m in s["models"].items() if m["savage_dickey"]]
     if sd:
         out += ["Savage–Dickey density ratio of each family's nested one-dimensional limit "
@@ -144,6 +156,100 @@ def _comparison(s) -> list:
                         f"{d.get('n_bad_k', '—')} of {d.get('n_points', '—')}"]
                        if "error" not in d else [f"`{n}`", f"not computed: {d['error']}", "—"]
                        for n, d in loo])
+    return out
+
+
+def _reliability(s) -> list:
+    c = s["comparison"]
+    r = c["reliability"]
+    t = r["thresholds"]
+    state = "reliable" if r["verdict_reliable"] else "**UNRELIABLE**"
+    agree = r["island_pairs_agreeing"]
+    out = [f"Reliability of the verdict: {state}. It rests on the evidences (ln K of "
+           f"`{r['winner']}` over `{r['runner_up']}` = {r['ln_k']:.2f} ± {_f(r['ln_k_err'])} "
+           f"nats; ranking {'secure' if r['ranking_secure'] else 'NOT secure'} at "
+           f"{t['ln_k_sigmas']:g} standard errors; "
+           + (f"{agree:.0%} of paired islands agree; " if agree is not None else "")
+           + f"evidence errors {'finite' if r['evidence_errors_finite'] else 'NOT finite'}) "
+           f"and on the winner's posterior (diagnostics "
+           f"{'passed' if r['winner_diagnostics_ok'] else 'FAILED'}). Each family's own "
+           "posterior is judged separately below: a losing family's failed chain is a note "
+           "on that family, not on the verdict.", ""]
+    for n, note in r["posterior_notes"].items():
+        out += [f"- Note on `{n}`: {note}"]
+    if r["posterior_notes"]:
+        out.append("")
+    return out
+
+
+def _fit(s) -> list:
+    from ..analysis.fit import FIT_THRESHOLDS
+    rows = []
+    best = s["comparison"]["best"]
+    for n, m in s["models"].items():
+        for d, f in m["goodness_of_fit"].items():
+            verdict = "**bad**" if f["bad_fit"] else "ok"
+            if f["median_unrepresentative"]:
+                verdict += " (the median is no fit: curved or multimodal posterior)"
+            rows.append([f"`{n}`" + (" (winner)" if n == best else ""), f"`{d}`",
+                         str(f["n_points"]), f"{f['chi2_per_point']:.2f}",
+                         f"{f['chi2_min_draws'] / f['n_points']:.2f}",
+                         f"{f['chi2_per_point_limit']:.2f}", f"{f['p_value']:.2g}", verdict])
+    method = next((f["p_value_method"] for m in s["models"].values()
+                   for f in m["goodness_of_fit"].values()), "")
+    out = ["### Goodness of fit", "",
+           "χ² at the posterior median of every parameter, per point (χ²/N, not per degree of "
+           "freedom: a joint nonlinear fit has none per dataset), and the posterior-"
+           f"predictive p-value ({method}; Gelman, Meng & Stern 1996). A fit is called bad "
+           f"when χ²/N exceeds 1 + {FIT_THRESHOLDS['chi2_sigmas']:g}√(2/N) (five standard "
+           "deviations of χ²/N for a correct model with correct errors; common practice) or "
+           f"p < {FIT_THRESHOLDS['p_min']:g} (common practice); the χ²/N rule is applied to "
+           "the better of the median and the best posterior draw, since the component-wise "
+           "median of a curved posterior need not be near any draw. The evidence ranks the "
+           "families; only these numbers say whether the winner describes the data.", ""]
+    out += _table(["family", "dataset", "N", "χ²/N at median", "smallest χ²/N of the draws",
+                   "bad above", "p", "fit"], rows)
+    return out
+
+
+def _bounds_alert(s) -> list:
+    best = s["comparison"]["best"]
+    flags = s["models"][best]["prior_bounds"]
+    if not flags:
+        return []
+    items = ", ".join(f"`{f['parameter']}` at its {f['bound']} bound {f['bound_value']:g}"
+                      for f in flags)
+    return [f"> **Prior bound**: the winner's posterior piles up on {items}; see "
+            "\"Parameters at a prior bound\" below.", ""]
+
+
+def _budget(s) -> list:
+    c = s["comparison"]
+    b = c["evidence_budget"]
+    if b is None:
+        note = c.get("evidence_budget_note")
+        return ["### Which datasets decide the verdict", "", f"Evidence budget {note}.", ""] \
+            if note else []
+    a, bb = b["families"]
+    loo = {r["dataset"]: r for r in b["leave_one_out"]}
+    rows = []
+    for r in b["sequential"]:
+        lo = loo.get(r["dataset"])
+        rows.append([f"`{r['dataset']}`", f"{r['ln_k']:.2f} ± {_f(r['ln_k_err'])}",
+                     f"{lo['added_last']:.2f} ± {_f(lo['added_last_err'])}" if lo else "—",
+                     f"{lo['ln_k_without']:.2f} ± {_f(lo['ln_k_without_err'])}" if lo else "—"])
+    ranked = sorted(b["leave_one_out"], key=lambda r: -abs(r["added_last"]))
+    rests = ", ".join(f"`{r['dataset']}` ({r['added_last']:.1f} nats)" for r in ranked)
+    out = ["### Which datasets decide the verdict", "",
+           f"Evidence budget of ln K = ln Z(`{a}`) − ln Z(`{bb}`) = {b['ln_k']:.2f} ± "
+           f"{_f(b['ln_k_err'])} nats: the verdict rests on {rests} (each added last, "
+           "given all the others). Method: " + b["method"] + f" ({b['n_particles']} particles, "
+           f"{b['n_islands']} independent paths per family). The sequential contributions "
+           f"add up to {b['sequential_total']:.2f} ± {_f(b['sequential_total_err'])} nats, "
+           "an estimate of ln K independent of the quoted one. Positive numbers favour "
+           f"`{a}`.", ""]
+    out += _table(["dataset", "in sequence (given those above)", "added last",
+                   "ln K without it"], rows)
     return out
 
 
@@ -166,6 +272,21 @@ def _parameters(s) -> list:
         if m["fixed_parameters"]:
             out += ["Fixed: " + ", ".join(f"`{p}` = {v['value']:g} {v['unit']}"
                                           for p, v in m["fixed_parameters"].items()) + ".", ""]
+    flagged = [(n, f) for n, m in s["models"].items() for f in m["prior_bounds"]]
+    out += ["### Parameters at a prior bound", "",
+            f"A bound is flagged when more than {BOUND_MASS_MAX:.0%} of the posterior lies "
+            f"within {BOUND_WINDOW:.0%} of the prior width of it (or beyond it); a posterior "
+            f"the data leave flat puts about {BOUND_WINDOW:.0%} there (a reporting choice of "
+            "this package). Such a posterior is shaped by where the prior ends: widen the "
+            "prior or justify the bound.", ""]
+    if flagged:
+        out += _table(["family", "parameter", "bound", "posterior mass there", "advice"],
+                      [[f"`{n}`", f"`{f['parameter']}`", f"{f['bound']} = {f['bound_value']:g}",
+                        f"{f['mass']:.0%}" + (f" ({f['mass_outside']:.0%} beyond)"
+                                              if f["mass_outside"] else ""), f["advice"]]
+                       for n, f in flagged])
+    else:
+        out += ["None flagged.", ""]
     return out
 
 
@@ -234,54 +355,137 @@ def _cards(s, ctx) -> list:
     return out
 
 
+_MOVE_WORDS = {"population": "independence proposals from a kernel density estimate of "
+                              "the final tempered population",
+               "differential_evolution": "differential-evolution moves",
+               "snooker": "snooker moves", "stretch": "stretch moves"}
+_MOVE_REFS = {"population": ["tierney", "kde"], "differential_evolution": ["de"],
+              "snooker": ["de"], "stretch": ["goodman"]}
+
+
+def _families(names) -> str:
+    return ", ".join(f"`{n}`" for n in names)
+
+
+def _grouped(s, key) -> list:
+    """[(value, [families])] grouping the families by ``key(model)`` (first seen order)."""
+    groups = {}
+    for n, m in s["models"].items():
+        groups.setdefault(key(m), []).append(n)
+    return list(groups.items())
+
+
 def _methods(s, ctx) -> tuple:
-    keys = ["emcee", "goodman", "de"]
-    methods = {m["evidence_method"] for m in s["models"].values()}
+    """The methods paragraph, written from what ran (the sampler records of summary.json,
+    the settings and the thresholds applied)."""
+    models = s["models"]
+    methods = {m["evidence_method"] for m in models.values()}
     smc = any("sequential Monte Carlo" in t for t in methods)
+    used = []
+    for m in models.values():
+        for mv in m["sampler"]["moves"]:
+            used += _MOVE_REFS.get(mv["move"], [])
+    keys = ["emcee"] + [k for k in dict.fromkeys(used) if k != "emcee"]
+    if "goodman" not in keys:
+        keys.append("goodman")                            # autocorrelation time
     if smc:
         keys += ["smc", "adaptive", "independent", "resampling"]
     if any("stepping" in t for t in methods):
         keys.append("stepping")
-    keys += ["rhat", "arviz", "kass"]
-    has_lap = any(m["laplace"] for m in s["models"].values())
-    has_sd = any(m["savage_dickey"] for m in s["models"].values())
-    has_loo = any(m["loo"] and "error" not in m["loo"] for m in s["models"].values())
+    keys += ["rhat", "arviz", "kass", "ppc"]
+    has_lap = any(m["laplace"] for m in models.values())
+    has_sd = any(m["savage_dickey"] for m in models.values())
+    has_loo = any(m["loo"] and "error" not in m["loo"] for m in models.values())
+    has_budget = s["comparison"]["evidence_budget"] is not None
     keys += (["laplace"] if has_lap else []) + (["dickey"] if has_sd else []) \
-        + (["loo"] if has_loo else []) + ["fisher"]
+        + (["loo"] if has_loo else []) + (["chopin"] if has_budget else []) + ["fisher"]
+    keys = list(dict.fromkeys(keys))
     ref = {k: i + 1 for i, k in enumerate(keys)}
-    st = ctx["settings"]
-    ev = next(iter(ctx["evidence_settings"].values()))
+    cite = lambda *ks: "[" + ", ".join(str(ref[k]) for k in ks if k in ref) + "]"  # noqa: E731
     rule = next(iter(ctx["burn_in_rule"].values()))
-    parts = [f"Posteriors were sampled with the affine-invariant ensemble sampler emcee "
-             f"[{ref['emcee']}, {ref['goodman']}] with a mixture of differential-evolution, "
-             f"snooker and stretch moves [{ref['de']}], {st.get('steps')} steps per walker "
-             f"({rule}). "]
+    parts = []
+    for mix, fams in _grouped(s, lambda m: tuple((mv["move"], round(mv["share"], 6))
+                                                 for mv in m["sampler"]["moves"])):
+        sm = models[fams[0]]["sampler"]
+        words = ", ".join(f"{share:.0%} {_MOVE_WORDS.get(mv, mv)} "
+                          + cite(*_MOVE_REFS.get(mv, [])) for mv, share in mix)
+        pop = (f" (the {sm['population_size']} equally weighted particles that end the "
+               "evidence run, which also gave the starting walkers; Gaussian kernels with "
+               "the covariance of each point's nearest neighbours)"
+               if any(mv == "population" for mv, _ in mix) else "")
+        parts.append(f"The posterior of {_families(fams)} was sampled with the ensemble "
+                     f"sampler emcee {cite('emcee')}, {sm['n_walkers']} walkers and "
+                     f"{sm['n_steps']} steps per walker ({rule}); each step drew its move "
+                     f"from the mixture: {words}{pop}. ")
+    for marg, fams in _grouped(s, lambda m: tuple(m["sampler"]["marginalised"])):
+        if marg:
+            parts.append(f"For {_families(fams)} the linear nuisances ("
+                         + ", ".join(f"`{x}`" for x in marg) + ") were not sampled but "
+                         "integrated out analytically under Gaussian priors (a declared "
+                         "normal prior as it is; any other declared prior replaced by the "
+                         "Gaussian of the same mean and standard deviation), and their "
+                         "posteriors drawn exactly from the conditional Gaussian given each "
+                         "sample. ")
+        else:
+            parts.append(f"For {_families(fams)} every nuisance was sampled. ")
     if smc:
-        parts.append(f"Evidences ln Z were computed by sequential Monte Carlo with adaptive "
-                     f"tempering from the prior to the posterior [{ref['smc']}, "
-                     f"{ref['adaptive']}], independent-proposal and random-walk moves "
-                     f"[{ref['independent']}] and systematic resampling "
-                     f"[{ref['resampling']}], with {ev.get('n_particles')} particles in each "
-                     f"of {ev.get('n_islands')} independent islands; the error of ln Z is the "
-                     "standard error across islands. ")
+        for ev, fams in _grouped(s, lambda m: (m["sampler"]["evidence_particles"],
+                                               m["sampler"]["evidence_islands"],
+                                               m["sampler"]["evidence_target_cess"],
+                                               m["sampler"]["evidence_min_sweeps"],
+                                               m["sampler"]["evidence_max_sweeps"])):
+            n, r, cess, lo, hi = ev
+            parts.append(f"Evidences ln Z of {_families(fams)} were computed by sequential "
+                         f"Monte Carlo with adaptive tempering from the prior to the "
+                         f"posterior {cite('smc', 'adaptive')} (each temperature step keeps a "
+                         f"conditional effective sample size of {cess:g} of the population), "
+                         f"independent-proposal and random-walk moves {cite('independent')} "
+                         f"({lo}–{hi} sweeps per temperature) and systematic resampling "
+                         f"{cite('resampling')}, with {n} particles in each of {r} "
+                         "independent islands; ln Z is the log of the mean island evidence "
+                         "and its error the standard error across islands. ")
     else:
         parts.append("Evidences ln Z were computed by: " + "; ".join(sorted(methods)) + ". ")
-    parts.append(f"Convergence was checked with the rank-normalised split R-hat and bulk and "
-                 f"tail effective sample sizes [{ref['rhat']}] computed with ArviZ "
-                 f"[{ref['arviz']}], and the integrated autocorrelation time "
-                 f"[{ref['goodman']}]. Bayes factors are worded on the Kass–Raftery scale of "
-                 f"2 ln K [{ref['kass']}]. ")
+    th = next(iter(models.values()))["diagnostics"]["thresholds"]
+    acc = th.get("acceptance_range")
+    pop_any = any(mv["move"] == "population" and mv["share"] >= 0.5
+                  for m in models.values() for mv in m["sampler"]["moves"])
+    acc_text = ""
+    if acc:
+        acc_text = (f"; a mean acceptance fraction within [{acc[0]:g}, {acc[1]:g}]"
+                    + (" (not applied where independence proposals make up most moves, "
+                       "whose acceptance measures the proposal's fit, not the step size)"
+                       if pop_any else ""))
+    parts.append(f"Convergence thresholds: rank-normalised split R-hat below "
+                 f"{th.get('rhat_max')} (target {th.get('rhat_target')}) and bulk and tail "
+                 f"effective sample sizes above {th.get('ess_min'):g} {cite('rhat')} "
+                 f"computed with ArviZ {cite('arviz')}; chains longer than "
+                 f"{th.get('length_over_tau_min'):g} integrated autocorrelation times "
+                 f"{cite('goodman')}{acc_text}. ")
+    rt = s["comparison"]["reliability"]["thresholds"]
+    parts.append(f"Bayes factors are worded on the Kass–Raftery scale of 2 ln K "
+                 f"{cite('kass')}. The verdict was called reliable when every ln Z has a "
+                 f"finite error, ln K exceeds {rt['ln_k_sigmas']:g} standard errors whenever "
+                 f"it claims more than a bare mention (ln K + {rt['ln_k_sigmas']:g}σ ≥ "
+                 f"{rt['ln_k_claim']:g} nat), more than {rt['island_majority']:.0%} of the "
+                 "paired islands rank the two leading families alike, and the winner's "
+                 "posterior passes the thresholds above; a losing family's posterior is "
+                 "judged on its own. Goodness of fit is the χ² at the posterior median and "
+                 f"the posterior-predictive p-value of the χ² discrepancy {cite('ppc')}. ")
     if has_lap:
-        parts.append(f"A Laplace approximation of ln Z [{ref['laplace']}] is shown as an "
+        parts.append(f"A Laplace approximation of ln Z {cite('laplace')} is shown as an "
                      "approximate cross-check. ")
     if has_sd:
         parts.append(f"For families that contain their one-dimensional limit, the "
-                     f"Savage–Dickey density ratio [{ref['dickey']}] gives the Bayes factor "
+                     f"Savage–Dickey density ratio {cite('dickey')} gives the Bayes factor "
                      "of the limit. ")
     if has_loo:
-        parts.append(f"Predictive accuracy was checked by PSIS-LOO [{ref['loo']}]. ")
+        parts.append(f"Predictive accuracy was checked by PSIS-LOO {cite('loo')}. ")
+    if has_budget:
+        parts.append(f"The evidence budget adds the datasets one at a time to a tempered "
+                     f"population {cite('chopin', 'smc')}. ")
     parts.append(f"Dataset sensitivities use the Fisher information of Gaussian data "
-                 f"[{ref['fisher']}].")
+                 f"{cite('fisher')}.")
     refs = [f"{ref[k]}. {METHOD_REFERENCES[k]}" for k in keys]
     return ["## Methods", "", "".join(parts), "", "References:", ""] + refs + [""], smc
 
@@ -298,6 +502,11 @@ def _referee(s, ctx, smc) -> list:
     if any(m["loo"] and "error" not in m["loo"] for m in s["models"].values()):
         checks.append("PSIS-LOO predictive checks")
     checks.append("R-hat, effective sample sizes and autocorrelation times of every parameter")
+    checks.append("χ² per point and posterior-predictive p-values of every family on every "
+                  "dataset")
+    if c["evidence_budget"] is not None:
+        checks.append("an evidence budget (each dataset's share of ln K, in sequence and "
+                      "left out in turn)")
     text = ("Each model family was fitted jointly to all datasets ("
             + "; ".join(f"{d['name']}: {d['kind'].replace('_', ' ')}, {d['n']} points"
                         for d in ctx["datasets"])
@@ -336,18 +545,16 @@ def render_markdown(summary: dict, context: dict) -> str:
     s, c = summary, summary["comparison"]
     out = [f"# {s['title']}: which model family explains the data?", ""]
     if not s["reliable"]:
-        bad = [n for n, m in s["models"].items() if not m["diagnostics"]["ok"]]
-        noerr = [n for n, m in s["models"].items() if m["log_evidence_err"] is None]
-        why = []
-        if bad:
-            why.append("the convergence diagnostics failed for " + ", ".join(bad))
-        if noerr:
-            why.append("ln Z has no finite error for " + ", ".join(noerr))
+        why = list(c["reliability"].get("reasons") or [])
         out += ["> **UNRELIABLE**: " + "; ".join(why or ["see the diagnostics"]) + ". Do not "
-                "quote these numbers; run longer (more steps, particles and islands) and "
+                "quote the verdict; run longer (more steps, particles and islands) and "
                 "check the warnings under Diagnostics.", ""]
+    for w in c["winner_fit_warnings"]:
+        out += [f"> **BAD FIT**: {w}.", ""]
     out += [f"**Verdict** ({c['strength']}): {c['verdict']}", ""]
-    out += _comparison(s) + _parameters(s) + _diagnostics(s) + _constraints(s, context)
+    out += _reliability(s) + _fit(s) + _bounds_alert(s)
+    out += _comparison(s) + _budget(s) + _parameters(s) + _diagnostics(s)
+    out += _constraints(s, context)
     out += _cards(s, context)
     methods, smc = _methods(s, context)
     out += methods + _referee(s, context, smc)

@@ -36,8 +36,8 @@ from ..errors import InputError
 __all__ = ["atomic_write", "save_inputs", "save_results", "load_results", "export_samples",
            "SAVED_FORMAT", "saved_case_path"]
 
-#: version of the saved/ layout
-SAVED_FORMAT = 1
+#: version of the saved/ layout (2: analyses, verdict reliability and evidence budget)
+SAVED_FORMAT = 2
 _ISLAND_ARRAYS = ("betas", "log_z_increments", "samples", "log_likelihood", "acceptance",
                   "n_sweeps")
 
@@ -193,7 +193,8 @@ def save_results(results, case_file: Path) -> None:
     doc = {"format": SAVED_FORMAT, "case_file": str(Path(case_file).relative_to(out)),
            "seed": int(results.seed), "settings": dict(results.settings),
            "reliable": bool(results.reliable), "provenance": dict(results.provenance),
-           "comparison": results.comparison.to_dict(), "models": {}}
+           "comparison": results.comparison.to_dict(), "budget": results.budget,
+           "models": {}}
     for name, mr in results.models.items():
         ev, post = mr.evidence, mr.posterior
         arrays = {"island_log_z": ev.island_log_z, "tau": post.tau,
@@ -233,7 +234,7 @@ def save_results(results, case_file: Path) -> None:
             "diagnostics": mr.diagnostics.to_dict(),
             "laplace": None if mr.laplace is None else
             {"log_z": mr.laplace.log_z, "method": mr.laplace.method, "label": mr.laplace.label},
-            "savage_dickey": mr.savage_dickey, "loo": mr.loo,
+            "savage_dickey": mr.savage_dickey, "loo": mr.loo, "analysis": mr.analysis,
         }
     atomic_write(saved / "run.json", json.dumps(_plain(doc), indent=1, allow_nan=True))
 
@@ -350,7 +351,8 @@ def load_results(out):
                                    run_time=m["run_time"],
                                    nuisance_names=list(m.get("nuisance_names", [])),
                                    nuisance_samples=a["nuisance_samples"]
-                                   if "nuisance_samples" in a else None)
+                                   if "nuisance_samples" in a else None,
+                                   analysis=m["analysis"])
     c = doc["comparison"]
     cmp_ = Comparison(names=tuple(c["names"]), log_z=c["log_z"], log_z_err=c["log_z_err"],
                       one_dimensional=c["one_dimensional"],
@@ -361,10 +363,11 @@ def load_results(out):
                       p_one_dimensional=c["p_one_dimensional"],
                       p_one_dimensional_err=c["p_one_dimensional_err"], best=c["best"],
                       verdict=c["verdict"], prior_odds_stated=c["prior_odds"],
-                      unreliable=tuple(c["unreliable"]))
+                      unreliable=tuple(c["unreliable"]), reliability=c["reliability"])
     return RunResults(models=models, comparison=cmp_, reliable=doc["reliable"], out=out,
                       seed=doc["seed"], settings=doc["settings"],
-                      provenance=doc["provenance"], case_path=out / doc["case_file"])
+                      provenance=doc["provenance"], case_path=out / doc["case_file"],
+                      budget=doc["budget"])
 
 
 def export_samples(results) -> list:

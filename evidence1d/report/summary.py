@@ -235,8 +235,10 @@ def _model_block(mr, problem) -> dict:
         keys = ("elpd_loo", "se", "pareto_k_max", "n_bad_k", "n_points", "error")
         loo = {k: mr.loo[k] for k in keys if k in mr.loo}
     ev = mr.evidence
+    an = mr.analysis
     return {
         "title": mr.title, "one_dimensional": bool(mr.one_dimensional),
+        "posterior_reliable": bool(mr.diagnostics.ok),
         "log_evidence": float(ev.log_z), "log_evidence_err": float(ev.log_z_err),
         "island_log_evidence": [float(v) for v in ev.island_log_z],
         "evidence_method": ev.method, "evidence_warnings": list(ev.warnings),
@@ -245,20 +247,96 @@ def _model_block(mr, problem) -> dict:
         "constraints": dataset_sensitivity(problem, theta, sd),
         "diagnostics": _diagnostics_block(mr.diagnostics, post),
         "laplace": lap, "savage_dickey": sdk, "loo": loo,
+        "goodness_of_fit": dict(an["goodness_of_fit"]),
+        "prior_bounds": list(an["prior_bounds"]),
+        "sampler": _sampler_block(an["sampler"], ev),
     }
 
 
-def _comparison_block(cmp_) -> dict:
+def _sampler_block(rec, ev) -> dict:
+    """What the samplers of one family did (the methods text is written from this)."""
+    st = ev.settings
+    return {"moves": [dict(m) for m in rec["moves"]], "n_walkers": int(rec["n_walkers"]),
+            "n_steps": int(rec["n_steps"]), "population_size": int(rec["population_size"]),
+            "move_acceptance": dict(rec["move_acceptance"]),
+            "marginalised": list(rec["marginalised"]),
+            "evidence_particles": int(st.get("n_particles", 0)),
+            "evidence_islands": int(st.get("n_islands", 0)),
+            "evidence_target_cess": float(st.get("target_cess", math.nan)),
+            "evidence_min_sweeps": int(st.get("min_sweeps", 0)),
+            "evidence_max_sweeps": int(st.get("max_sweeps", 0))}
+
+
+def _fit_warnings(best: str, fits: dict) -> list:
+    from ..analysis.fit import FIT_THRESHOLDS
+    out = []
+    for ds, f in fits.items():
+        if f["bad_fit"]:
+            low = min(f["chi2"], f["chi2_min_draws"]) / f["n_points"]
+            out.append(f"the winning family {best} fits {ds} badly: χ²/N = {low:.2f} at best "
+                       f"({f['chi2_per_point']:.2f} at the posterior median) over "
+                       f"{f['n_points']} points (bad above "
+                       f"1 + {FIT_THRESHOLDS['chi2_sigmas']:g}√(2/N) = "
+                       f"{f['chi2_per_point_limit']:.2f}), posterior-predictive p = "
+                       f"{f['p_value']:.2g} (bad below {FIT_THRESHOLDS['p_min']:g}); the "
+                       "evidence ranks the families, it does not say the winner is "
+                       "adequate: look at the residuals before quoting its parameters")
+    return out
+
+
+def _one_dimensional_block(cmp_, models) -> dict:
+    """What "one-dimensional" means in this run, and P(1D) counting nested limits."""
+    from ..inference.compare import p_one_dimensional_with_limits
+    fams = [n for n in cmp_.names if cmp_.one_dimensional[n]]
+    limits, rows = {}, []
+    for n, mr in models.items():
+        sd = mr.savage_dickey
+        if sd is None or cmp_.one_dimensional[n]:
+            continue
+        limits[n] = (sd["ln_bf_nested_vs_full"], sd["ln_bf_err"])
+        rows.append({"family": n, "parameter": sd["parameter"], "value": float(sd["value"]),
+                     "ln_bf_limit_vs_full": sd["ln_bf_nested_vs_full"],
+                     "counted": False})
+    p, err = (p_one_dimensional_with_limits(cmp_, limits) if limits
+              else (float(cmp_.p_one_dimensional), float(cmp_.p_one_dimensional_err)))
+    definition = ("P(one-dimensional | data) is the summed posterior probability of the "
+                  "families whose model card declares one_dimensional: true ("
+                  + (", ".join(fams) or "none") + "). Nested one-dimensional limits inside "
+                  "other families (" + (", ".join(f"{r['family']}: {r['parameter']} = "
+                                                   f"{r['value']:g}" for r in rows)
+                                        or "none in this run")
+                  + ") are not counted; p_with_nested_limits counts each as a separate "
+                  "hypothesis with half its family's prior probability and evidence "
+                  "Z × BF(limit/full) from the Savage–Dickey ratio.")
+    return {"definition": definition, "families": fams, "nested_limits": rows,
+            "p_with_nested_limits": float(p), "p_with_nested_limits_err": float(err)}
+
+
+def _comparison_block(cmp_, models, budget) -> dict:
     order = sorted(cmp_.names, key=lambda n: -cmp_.log_z[n])
     strength = next(p.wording for p in cmp_.pairs if {p.a, p.b} == set(order[:2]))
-    return {"best": cmp_.best, "strength": strength, "verdict": cmp_.verdict,
-            "pairs": [p.to_dict() for p in cmp_.pairs],
-            "prior_probabilities": dict(cmp_.prior_probability),
-            "model_probabilities": dict(cmp_.posterior_probability),
-            "prior_odds": cmp_.prior_odds_stated,
-            "p_one_dimensional": float(cmp_.p_one_dimensional),
-            "p_one_dimensional_err": float(cmp_.p_one_dimensional_err),
-            "unreliable": list(cmp_.unreliable)}
+    rel = dict(cmp_.reliability)
+    out = {"best": cmp_.best, "strength": strength, "verdict": cmp_.verdict,
+           "pairs": [p.to_dict() for p in cmp_.pairs],
+           "prior_probabilities": dict(cmp_.prior_probability),
+           "model_probabilities": dict(cmp_.posterior_probability),
+           "prior_odds": cmp_.prior_odds_stated,
+           "p_one_dimensional": float(cmp_.p_one_dimensional),
+           "p_one_dimensional_err": float(cmp_.p_one_dimensional_err),
+           "one_dimensional": _one_dimensional_block(cmp_, models),
+           "unreliable": list(cmp_.unreliable),
+           "posterior_unreliable": [n for n, mr in models.items() if not mr.diagnostics.ok],
+           "reliability": rel,
+           "winner_fit_warnings": _fit_warnings(
+               cmp_.best, models[cmp_.best].analysis["goodness_of_fit"]),
+           "evidence_budget": None}
+    if budget is not None and "skipped" in budget:
+        out["evidence_budget_note"] = "not computed: " + budget["skipped"]
+    elif budget is not None:
+        out["evidence_budget"] = dict(budget)
+    else:
+        out["evidence_budget_note"] = "not computed: the datasets form one likelihood term"
+    return out
 
 
 def build_summary(results, case) -> dict:
@@ -283,7 +361,8 @@ def build_summary(results, case) -> dict:
     models = {n: _model_block(mr, case.problem(n)) for n, mr in results.models.items()}
     doc = {"schema_version": SCHEMA_VERSION, "title": case.title,
            "reliable": bool(results.reliable), "models": models,
-           "comparison": _comparison_block(results.comparison),
+           "comparison": _comparison_block(results.comparison, results.models,
+                                           results.budget),
            "provenance": dict(results.provenance)}
     return json_ready(doc)
 

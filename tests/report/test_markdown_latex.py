@@ -46,8 +46,11 @@ def test_report_has_verdict_tables_and_sections(run_dir, summary):
 def test_unreliable_banner_follows_the_diagnostics(summary, context):
     bad = copy.deepcopy(summary)
     bad["reliable"] = False
-    name = next(iter(bad["models"]))
+    name = bad["comparison"]["best"]
     bad["models"][name]["diagnostics"]["ok"] = False
+    bad["comparison"]["reliability"].update(
+        verdict_reliable=False, winner_diagnostics_ok=False,
+        reasons=[f"the posterior of the winner {name} failed the convergence diagnostics"])
     text = render_markdown(bad, context)
     head = "\n".join(text.splitlines()[:4])
     assert "**UNRELIABLE**" in head and name in head
@@ -56,6 +59,8 @@ def test_unreliable_banner_follows_the_diagnostics(summary, context):
     good["comparison"]["verdict"] = good["comparison"]["verdict"].split(". ", 1)[-1] \
         if good["comparison"]["verdict"].startswith("UNRELIABLE") else good["comparison"]["verdict"]
     good["comparison"]["unreliable"] = []
+    good["comparison"]["reliability"].update(verdict_reliable=True, reasons=[],
+                                             winner_diagnostics_ok=True)
     for m in good["models"].values():
         m["diagnostics"]["ok"] = True
         m["diagnostics"]["warnings"] = []
@@ -80,7 +85,8 @@ def test_tables_are_booktabs_tabulars_with_units(run_dir, summary):
     out, _ = run_dir
     tex = (out / "tables.tex").read_text(encoding="utf-8")
     n_tab = tex.count(r"\begin{tabular}")
-    assert n_tab == 2 + len(summary["models"])
+    budget = summary["comparison"]["evidence_budget"] is not None
+    assert n_tab == 3 + budget + len(summary["models"])     # + goodness of fit (+ budget)
     for rule in (r"\toprule", r"\midrule", r"\bottomrule", r"\end{tabular}"):
         assert tex.count(rule) == n_tab
     assert r"$\ln Z$ (nats)" in tex and "(meV)" in tex

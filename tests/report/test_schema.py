@@ -14,6 +14,14 @@ def test_run_summary_is_valid(summary):
     validate_summary(summary)
 
 
+#: required fields that the shared quick run may legitimately not produce: blocks that are
+#: null for some families (Laplace, Savage–Dickey), lists and mappings that can be empty
+#: (no fixed parameter, no parameter on a prior bound, no nested limit), and the evidence
+#: budget, which quick runs skip (its fields are checked in test_budget_summary_fields)
+_MAYBE_ABSENT = (".savage_dickey.", ".laplace.", ".fixed_parameters.*.", ".prior_bounds[].",
+                 ".nested_limits[].", "comparison.evidence_budget.")
+
+
 def test_every_required_field_appears_in_a_real_summary(summary):
     """No stale documentation: each required path resolves somewhere in a run's summary."""
     from evidence1d.report.schema import _nodes
@@ -21,7 +29,29 @@ def test_every_required_field_appears_in_a_real_summary(summary):
         if not f.required:
             continue
         hits = [1 for _, parent, key in _nodes(summary, f.path) if key in parent]
-        assert hits or ".savage_dickey." in f.path or ".laplace." in f.path, f.path
+        assert hits or any(t in f.path for t in _MAYBE_ABSENT), f.path
+
+
+def test_budget_summary_fields(summary):
+    """A summary carrying an evidence budget validates, and a budget lacking a documented
+    field or holding an undocumented one is refused."""
+    doc = copy.deepcopy(summary)
+    a, b = list(doc["models"])[:2]
+    row = {"dataset": "map", "ln_k": 1.0, "ln_k_err": 0.1}
+    doc["comparison"].pop("evidence_budget_note", None)
+    doc["comparison"]["evidence_budget"] = {
+        "families": [a, b], "order": ["map"], "ln_k": 1.0, "ln_k_err": 0.1,
+        "sequential": [row], "sequential_total": 1.0, "sequential_total_err": 0.1,
+        "leave_one_out": [{"dataset": "map", "ln_k_without": 0.0, "ln_k_without_err": None,
+                           "added_last": 1.0, "added_last_err": 0.1}],
+        "method": "m", "n_particles": 10, "n_islands": 2}
+    validate_summary(doc)
+    for f in SUMMARY_FIELDS:
+        if f.path.startswith("comparison.evidence_budget.") and f.required:
+            assert f.path.split(".")[2].replace("[]", "") in doc["comparison"]["evidence_budget"]
+    del doc["comparison"]["evidence_budget"]["sequential"][0]["ln_k"]
+    with pytest.raises(InputError, match=r"sequential\[0\]\.ln_k"):
+        validate_summary(doc)
 
 
 @pytest.mark.parametrize("path, value, match", [

@@ -1,0 +1,120 @@
+"""What a referee reads in report.md: goodness of fit beside the verdict, the bad-fit and
+prior-bound warnings, what one-dimensional means, the verdict's reliability apart from each
+family's posterior, and a methods paragraph written from what ran."""
+from __future__ import annotations
+
+import copy
+import re
+
+import pytest
+
+from evidence1d.report.markdown import render_markdown, report_context
+
+
+@pytest.fixture(scope="module")
+def context(run_dir):
+    import evidence1d
+    from evidence1d.report.store import load_results
+    out, _ = run_dir
+    res = load_results(out)
+    return report_context(res, evidence1d.load_case(res.case_path))
+
+
+def _methods(text):
+    return text.split("## Methods", 1)[1].split("References:", 1)[0]
+
+
+def test_goodness_of_fit_is_in_the_summary_and_next_to_the_verdict(run_dir, summary):
+    out, _ = run_dir
+    text = (out / "report.md").read_text(encoding="utf-8")
+    for name, m in summary["models"].items():
+        assert set(m["goodness_of_fit"]) == {"map", "chi", "heat"}
+        for f in m["goodness_of_fit"].values():
+            assert f["chi2_per_point"] == pytest.approx(f["chi2"] / f["n_points"])
+            assert 0.0 <= f["p_value"] <= 1.0
+    verdict_at = text.index("**Verdict**")
+    fit_at = text.index("### Goodness of fit")
+    assert verdict_at < fit_at < text.index("## Model comparison")
+    assert "1 + 5√(2/N)" in text and "p < 0.001" in text
+
+
+def test_a_winner_that_fits_badly_gets_a_loud_warning(summary, context):
+    doc = copy.deepcopy(summary)
+    best = doc["comparison"]["best"]
+    doc["comparison"]["winner_fit_warnings"] = [f"the winning family {best} fits chi badly"]
+    text = render_markdown(doc, context)
+    head = text.split("**Verdict**", 1)[0]
+    assert "**BAD FIT**" in head and best in head
+    assert "**BAD FIT**" not in render_markdown(
+        {**summary, "comparison": {**summary["comparison"], "winner_fit_warnings": []}},
+        context)
+
+
+def test_bounds_are_flagged_with_advice(summary, context):
+    doc = copy.deepcopy(summary)
+    best = doc["comparison"]["best"]
+    doc["models"][best]["prior_bounds"] = [{
+        "parameter": "g", "bound": "upper", "bound_value": 2.4, "mass": 0.3,
+        "mass_outside": 0.0, "nested_limit": False, "advice": "widen the prior"}]
+    text = render_markdown(doc, context)
+    assert "> **Prior bound**" in text.split("## Model comparison")[0]
+    section = text.split("### Parameters at a prior bound", 1)[1].split("##", 1)[0]
+    assert "`g`" in section and "upper = 2.4" in section and "30%" in section
+    assert "widen the prior" in section
+
+
+def test_what_one_dimensional_means_is_stated(run_dir, summary):
+    out, _ = run_dir
+    text = (out / "report.md").read_text(encoding="utf-8")
+    od = summary["comparison"]["one_dimensional"]
+    assert od["families"] == [n for n, m in summary["models"].items() if m["one_dimensional"]]
+    assert "What one-dimensional means here" in text and od["definition"] in text
+    for lim in od["nested_limits"]:
+        assert not lim["counted"] and lim["family"] in od["definition"]
+
+
+def test_a_losing_family_with_a_bad_chain_is_a_note_not_a_verdict(summary, context):
+    doc = copy.deepcopy(summary)
+    c = doc["comparison"]
+    loser = next(n for n in doc["models"] if n != c["best"])
+    c["reliability"].update(verdict_reliable=True, reasons=[], winner_diagnostics_ok=True,
+                            posterior_notes={loser: "its chain failed; not the verdict's"})
+    doc["reliable"] = True
+    c["verdict"] = c["verdict"].split(". ", 1)[-1] if c["verdict"].startswith("UNRELIABLE") \
+        else c["verdict"]
+    text = render_markdown(doc, context)
+    assert "UNRELIABLE" not in text.split("## Model comparison")[0]
+    assert f"Note on `{loser}`: its chain failed" in text
+
+
+def test_methods_text_follows_what_ran(summary, context):
+    base = render_markdown(summary, context)
+    s0 = next(iter(summary["models"].values()))["sampler"]
+    shares = {m["move"]: m["share"] for m in s0["moves"]}
+    for move, share in shares.items():
+        assert f"{share:.0%}" in _methods(base)
+    assert f"{s0['evidence_particles']} particles in each of {s0['evidence_islands']}" \
+        in _methods(base)
+    doc = copy.deepcopy(summary)
+    for m in doc["models"].values():
+        m["sampler"]["moves"] = [{"move": "differential_evolution", "share": 0.6},
+                                 {"move": "snooker", "share": 0.2},
+                                 {"move": "stretch", "share": 0.2}]
+        m["sampler"]["marginalised"] = []
+        m["sampler"]["evidence_particles"] = 123
+        m["sampler"]["evidence_islands"] = 5
+        m["sampler"]["n_walkers"] = 34
+        m["diagnostics"]["thresholds"]["rhat_max"] = 1.2
+    text = _methods(render_markdown(doc, context))
+    assert "kernel density" not in text
+    assert "60% differential-evolution moves" in text and "20% stretch moves" in text
+    assert "every nuisance was sampled" in text and "integrated out" not in text
+    assert "123 particles in each of 5 independent islands" in text
+    assert "34 walkers" in text and "R-hat below 1.2" in text
+    full = render_markdown(doc, context)
+    refs = full.split("## Methods", 1)[1].split("## For a referee", 1)[0]
+    assert "Markov chains for exploring" not in refs     # only the moves used are cited
+    assert "Markov chains for exploring" in base or not any(
+        m["move"] == "population" for m in s0["moves"])
+    assert re.search(r"independence proposals", _methods(base)) or not any(
+        m["move"] == "population" for m in s0["moves"])
