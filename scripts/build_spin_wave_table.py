@@ -54,7 +54,7 @@ ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from evidence1d.physics import bose_thermo, magnon  # noqa: E402
+from evidence1d.physics import bose_thermo, magnon, spin_wave_table  # noqa: E402
 
 OUT = ROOT / "evidence1d" / "physics" / "tables" / "spin_wave_thermo.npz"
 
@@ -171,6 +171,7 @@ def main():
                         z_perp=np.array(Z_PERP), y_c=out[0].astype(np.float32),
                         y_s=out[1].astype(np.float32), y_l=out[2].astype(np.float32))
     bose_thermo.spin_wave_table.cache_clear()
+    spin_wave_table._geometry_coefficients.cache_clear()
     check = self_check(OUT)
     meta = {
         "table": OUT.name, "built": datetime.now(timezone.utc).isoformat(timespec="seconds"),

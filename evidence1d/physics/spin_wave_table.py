@@ -78,13 +78,16 @@ def log_zone_averages(eps, w, tau, gap):
     return y_c, y_s, y_l
 
 
+@functools.lru_cache(maxsize=8)
 def _spline_matrix(n):
     """(n + 2, n) map from values on n uniform knots to not-a-knot cubic B-spline coefficients."""
     A = np.zeros((n + 2, n + 2))
     for i in range(n):
         A[i, i:i + 3] = (1.0 / 6.0, 4.0 / 6.0, 1.0 / 6.0)
     A[n, :5] = A[n + 1, -5:] = (-1.0, 4.0, -6.0, 4.0, -1.0)   # third derivative continuous
-    return np.linalg.inv(A)[:, :n]
+    out = np.linalg.inv(A)[:, :n]
+    out.setflags(write=False)
+    return out
 
 
 def _basis(u, n):
@@ -101,27 +104,25 @@ class _Table:
     """Spline coefficients of the shipped magnon-gas table (see the module notes)."""
 
     def __init__(self, path):
+        self.path = str(path)
         with np.load(path) as raw:
             self.s, self.x, self.y = (raw[k].astype(float) for k in ("ln_tau", "x_r", "y_gap"))
             self.r_0, self.g_0 = float(raw["r_0"]), float(raw["g_0"])
             self.z_perp = tuple(int(z) for z in raw["z_perp"])
-            data = np.stack([raw[k].astype(float) for k in ("y_c", "y_s", "y_l")], -1)
-        self.coef = {}
-        for iz, z in enumerate(self.z_perp):                  # data: (n_z, n_r, n_g, n_s, 3)
-            d = data[iz]
-            for ax, grid in enumerate((self.x, self.y, self.s)):
-                d = np.moveaxis(np.tensordot(_spline_matrix(grid.size), d, (1, ax)), 0, ax)
-            self.coef[z] = [np.ascontiguousarray(d[..., k]) for k in range(3)]  # C, S, n(n+1)
         self.r_max = self.r_0 * np.sinh(self.x[-1])
         self.delta_max = np.sqrt(1.0 + (self.g_0 * np.sinh(self.y[-1])) ** 2)
+
+    def coefficients(self, z_perp):
+        """Spline coefficients [C, S, ⟨n(n+1)⟩] of one geometry (computed on first use)."""
+        if z_perp not in self.z_perp:
+            raise InputError(f"the magnon-gas table holds interchain geometries "
+                             f"{self.z_perp}; got z_perp = {z_perp!r}")
+        return _geometry_coefficients(self.path, self.z_perp.index(z_perp))
 
     def columns(self, J, J_perp, delta, spin, funcs=(0, 1, 2), z_perp=4):
         """Spline columns along ln τ per set (of ``funcs``: 0 C, 1 S, 2 ⟨n(n+1)⟩), energy
         unit S J_0 (J_0 = 2 J + z_⊥ J_⊥), gap g and the in-table mask."""
-        if z_perp not in self.coef:
-            raise InputError(f"the magnon-gas table holds interchain geometries "
-                             f"{self.z_perp}; got z_perp = {z_perp!r}")
-        coef = self.coef[z_perp]
+        coef = self.coefficients(z_perp)
         J, Jp, d = np.broadcast_arrays(*(np.asarray(a, float).reshape(-1, 1)
                                          for a in (J, J_perp, delta)))
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -150,6 +151,20 @@ class _Table:
         val = (b[..., None, :] @ c)[..., 0, :]
         der = (db[..., None, :] @ c)[..., 0, :] / h
         return val + der * (ln_tau - sc)[..., None], der
+
+
+@functools.lru_cache(maxsize=4)
+def _geometry_coefficients(path, iz):
+    """Tensor-product spline coefficients of geometry ``iz`` of the table at ``path``."""
+    with np.load(path) as raw:
+        d = np.stack([raw[k][iz].astype(float) for k in ("y_c", "y_s", "y_l")], -1)
+        grids = [raw[k] for k in ("x_r", "y_gap", "ln_tau")]
+    for ax, grid in enumerate(grids):                          # d: (n_r, n_g, n_s, 3)
+        d = np.moveaxis(np.tensordot(_spline_matrix(grid.size), d, (1, ax)), 0, ax)
+    out = [np.ascontiguousarray(d[..., k]) for k in range(3)]   # C, S, n(n+1)
+    for a in out:
+        a.setflags(write=False)
+    return out
 
 
 @functools.lru_cache(maxsize=2)
