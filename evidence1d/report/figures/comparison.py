@@ -25,6 +25,9 @@ FLOOR = 1e-6
 
 def _pm(value: float, err: float) -> str:
     from ..summary import round_interval
+    if math.isfinite(value) and abs(value) >= 1e4:         # the error no longer matters
+        e = math.floor(math.log10(abs(value)))
+        return f"{value / 10 ** e:.1f}×10$^{{{e}}}$".replace("-", "−")
     if not (math.isfinite(value) and math.isfinite(err)) or err <= 0:
         return f"{value:.3g}".replace("-", "−")
     m, plus, _, exp = round_interval(value, value - err, value + err)
@@ -43,7 +46,6 @@ def _prob(p: float) -> str:
     return f"{p / 10 ** e:.1f}×10$^{{{e}}}$"
 
 
-@styled
 def _p_one_d(p, err) -> str:
     if p is None or not math.isfinite(p):
         return "P(1D | data): n/a"
@@ -64,6 +66,7 @@ def _symlog_tick(v, _pos=None) -> str:
     return ("−" if v < 0 else "") + body
 
 
+@styled
 def comparison_figure(comparison: dict, quick: bool = False, titles: bool = True):
     """ln Z − ln Z_best with errors per family, model probabilities and P(1D | data).
 
@@ -96,11 +99,15 @@ def comparison_figure(comparison: dict, quick: bool = False, titles: bool = True
                     color=PALETTE["one_d"] if o else PALETTE["three_d"], elinewidth=1.0,
                     capsize=2)
     low = float(np.nanmin(d - err)) if np.isfinite(d - err).any() else -1.0
-    from matplotlib.ticker import FuncFormatter, SymmetricalLogLocator
+    from matplotlib.ticker import FixedLocator, FuncFormatter
     a1.set_xscale("symlog", linthresh=1.0, linscale=1.0)
-    a1.set_xlim(min(-10.0, 2.0 * low), 1.5)
-    a1.xaxis.set_major_locator(SymmetricalLogLocator(base=10, linthresh=1.0,
-                                                     subs=[1.0]))
+    left = min(-10.0, 2.0 * low)
+    a1.set_xlim(left, 1.5)
+    decades = int(math.floor(math.log10(-left)))
+    step = max(1, math.ceil(decades / 4))
+    a1.xaxis.set_major_locator(FixedLocator([0.0] + [-(10.0 ** e) for e in
+                                                     range(0, decades + 1, step)]))
+    a1.xaxis.set_minor_locator(FixedLocator([]))
     a1.xaxis.set_major_formatter(FuncFormatter(_symlog_tick))
     for v in (-1.0, -3.0, -5.0):
         a1.axvline(v, color=PALETTE["grey"], ls=":", lw=0.7)

@@ -26,7 +26,7 @@ from .style import (COLUMN_WIDTH, DOUBLE_WIDTH, PALETTE, STAMP_HEIGHT, axis_labe
 
 __all__ = ["corner_figure"]
 
-_LEFT, _BOTTOM, _RIGHT, _TOP, _GAP = 0.56, 0.42, 0.08, 0.08, 0.04
+_LEFT, _BOTTOM, _RIGHT, _TOP, _GAP = 0.64, 0.42, 0.08, 0.08, 0.04
 _LEVELS = (0.393, 0.865)
 
 
@@ -46,13 +46,19 @@ def _label(symbol, unit, power):
     return axis_label(symbol, unit, symbol)
 
 
-def _ticks(ax, axis):
-    from matplotlib.ticker import MaxNLocator, ScalarFormatter
-    loc = MaxNLocator(3, prune="both")
+def _ticks(ax, axis, lim):
+    """At most three ticks, none within 12 % of an edge (labels of neighbouring panels
+    never meet), plain numbers."""
+    from matplotlib.ticker import FixedLocator, MaxNLocator, ScalarFormatter
+    lo, hi = lim
+    ticks = MaxNLocator(4).tick_values(lo, hi)
+    inner = [t for t in ticks if lo + 0.12 * (hi - lo) <= t <= hi - 0.12 * (hi - lo)]
+    if len(inner) > 3:
+        inner = inner[::2]
     fmt = ScalarFormatter(useOffset=False)
     fmt.set_scientific(False)
     a = ax.xaxis if axis == "x" else ax.yaxis
-    a.set_major_locator(loc)
+    a.set_major_locator(FixedLocator(inner))
     a.set_major_formatter(fmt)
 
 
@@ -134,19 +140,19 @@ def corner_figure(block: dict, title: str = "", quick: bool = False):
                     ax.axvline(truths[c], color=PALETTE["truth"], lw=0.8)
                 if truths[r] is not None:
                     ax.axhline(truths[r], color=PALETTE["truth"], lw=0.8)
-                _ticks(ax, "y")
+                _ticks(ax, "y", lims[r])
                 if c == 0:
                     ax.set_ylabel(labels[r])
                 else:
                     ax.tick_params(labelleft=False)
-            _ticks(ax, "x")
+            _ticks(ax, "x", lims[c])
             if r == k - 1:
                 ax.set_xlabel(labels[c])
             else:
                 ax.tick_params(labelbottom=False)
             ax.tick_params(labelsize=6, top=True, right=True)
             if c == 0 and r > 0:
-                ax.yaxis.set_label_coords(-0.46 / panel, 0.5)
+                ax.yaxis.set_label_coords(-0.47 / panel, 0.5)
             if r == k - 1:
                 ax.xaxis.set_label_coords(0.5, -0.26 / panel)
     _quotes(fig, block, title, k, panel, width, height, stamp)

@@ -17,7 +17,7 @@ import numpy as np
 from matplotlib import patheffects
 
 from .style import (COLUMN_WIDTH, DOUBLE_WIDTH, PALETTE, intensity_label, new_figure,
-                    no_offset, styled, wavevector_label)
+                    no_offset, styled, title_lines, wavevector_label)
 
 __all__ = ["cut_pages", "map_figure", "CUTS_PER_PAGE", "draw_bands"]
 
@@ -62,7 +62,7 @@ def _x_label(block, cut):
 
 def _title(body, text, width):
     if text:
-        body.suptitle(text, fontsize=7)
+        body.suptitle(title_lines(text, width), fontsize=7)
 
 
 @styled
@@ -152,8 +152,8 @@ def _norm(data, scale: str, percentiles):
     return Normalize(vmin=lo, vmax=hi), "linear"
 
 
-def _overlay(ax, block):
-    for k, ov in enumerate(block["overlays"]):
+def _overlay(ax, overlays):
+    for k, ov in enumerate(overlays):
         ok = np.isfinite(ov["y"])
         ax.plot(ov["x"][ok], ov["y"][ok], color="white", lw=0.9,
                 ls=_OVERLAY_STYLES[k % len(_OVERLAY_STYLES)], path_effects=_OUTLINE,
@@ -190,47 +190,51 @@ def map_figure(block: dict, model_title: str, dataset: str, intensity_unit: str,
     .. [2] Gelman, Meng & Stern, Statistica Sinica 6, 733 (1996).
     """
     x, E = block["x"], block["energy"]
+    e_lo = E.min() - 0.5 * np.ptp(E) / max(E.size - 1, 1)
+    e_hi = E.max() + 0.5 * np.ptp(E) / max(E.size - 1, 1)
+    overlays = [ov for ov in block["overlays"]
+                if np.any((ov["y"] >= e_lo) & (ov["y"] <= e_hi))]       # visible ones only
     fig, body = new_figure(DOUBLE_WIDTH, 2.55, quick=quick)
     axes = body.subplots(1, 3, sharey=True)
     norm, how = _norm(block["data"], scale, percentiles)
     r = block["residual"]
     rl = max(3.0, float(np.nanpercentile(np.abs(r), 99))) if np.isfinite(r).any() else 3.0
     ims = []
+    p0, p1 = percentiles
     for ax, z, lab in zip(axes, (block["data"], block["model"], r),
-                          ("data", "posterior median model", "residual")):
+                          (f"data (colour: {how}, {p0:g}–{p1:g} % range)",
+                           "posterior median model", "residual")):
         kw = {"norm": norm} if lab != "residual" else {"cmap": "RdBu_r", "vmin": -rl,
                                                         "vmax": rl}
         ims.append(ax.pcolormesh(x, E, z, shading="nearest", rasterized=True, **kw))
         ax.set_title(lab, fontsize=7, pad=2)
         ax.set_xlabel(wavevector_label(block["axis"], block["unit"]))
-        _overlay(ax, block)
+        _overlay(ax, overlays)
         ax.set_xlim(x.min() - 0.5 * np.ptp(x) / max(x.size - 1, 1),
                     x.max() + 0.5 * np.ptp(x) / max(x.size - 1, 1))
-        ax.set_ylim(E.min() - 0.5 * np.ptp(E) / max(E.size - 1, 1),
-                    E.max() + 0.5 * np.ptp(E) / max(E.size - 1, 1))
+        ax.set_ylim(e_lo, e_hi)
         ax.tick_params(color="white" if lab != "residual" else PALETTE["ink"], which="both")
         no_offset(ax)
     axes[0].set_ylabel(_ENERGY)
-    p0, p1 = percentiles
     extend = "neither" if how == "log" else "both"
     cb = body.colorbar(ims[1], ax=list(axes[:2]), pad=0.02, fraction=0.05, extend=extend)
-    cb.set_label(f"{intensity_label(intensity_unit)}; {how}, {p0:g}–{p1:g} %", fontsize=6)
+    cb.set_label(intensity_label(intensity_unit), fontsize=6)
     cb2 = body.colorbar(ims[2], ax=axes[2], pad=0.02, fraction=0.08)
-    cb2.set_label("(data − model)/σ", fontsize=6)
+    cb2.set_label("(data − model)/error (σ)", fontsize=6)
     for c in (cb, cb2):
         c.ax.tick_params(labelsize=6)
-    if block["overlays"]:
+    if overlays:
         from matplotlib.lines import Line2D
         handles = [Line2D([], [], color=PALETTE["ink"], lw=1.0,
                           ls=_OVERLAY_STYLES[k % len(_OVERLAY_STYLES)])
-                   for k in range(len(block["overlays"]))]
+                   for k in range(len(overlays))]
         labels = [ov["label"] + " (at the posterior medians)" if k == 0 else ov["label"]
-                  for k, ov in enumerate(block["overlays"])]
+                  for k, ov in enumerate(overlays)]
         body.legend(handles, labels, loc="outside lower center", ncol=len(labels),
                     fontsize=6)
     if titles:
         t = f"{model_title}: dataset '{dataset}'"
         if block.get("common"):
             t += f" at {block['common']}"
-        body.suptitle(t, fontsize=7)
+        _title(body, t, DOUBLE_WIDTH)
     return fig

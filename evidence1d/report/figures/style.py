@@ -26,10 +26,10 @@ from pathlib import Path
 
 from ..store import atomic_write
 
-__all__ = ["STYLE", "COLUMN_WIDTH", "DOUBLE_WIDTH", "PNG_DPI", "PALETTE", "QUICK_STAMP", "STAMP_HEIGHT",
-           "axis_label", "wavevector_label", "intensity_label", "quote", "value_text",
-           "new_figure", "save_figure", "save_pages", "stamp_quick", "wrap", "plt",
-           "fit_text", "no_offset", "styled"]
+__all__ = ["STYLE", "COLUMN_WIDTH", "DOUBLE_WIDTH", "PNG_DPI", "PALETTE", "QUICK_STAMP",
+           "STAMP_HEIGHT", "axis_label", "wavevector_label", "intensity_label", "quote",
+           "value_text", "new_figure", "save_figure", "save_pages", "stamp_quick", "wrap", "plt",
+           "fit_text", "no_offset", "styled", "title_lines"]
 
 #: single-column width in inches (APS and most journals: 3.375-3.5 in; common practice)
 COLUMN_WIDTH = 3.4
@@ -190,6 +190,13 @@ def value_text(symbol: str, median: float, q16: float, q84: float, unit: str = "
 def wrap(text: str, width: int) -> str:
     """Wrap plain text to lines of at most ``width`` characters."""
     return "\n".join(textwrap.wrap(text, width)) if text else text
+
+
+def title_lines(text: str, width_in: float, size: float = 7.0) -> str:
+    """Wrap a title to a figure ``width_in`` inches wide at font ``size`` points (DejaVu Sans
+    averages about 0.6 em per character)."""
+    return "\n".join(wrap(line, max(20, int(width_in * 72.0 / (0.6 * size)) - 2))
+                     for line in text.split("\n"))
 
 
 def no_offset(ax) -> None:

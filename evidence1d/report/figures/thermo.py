@@ -16,7 +16,7 @@ from __future__ import annotations
 import numpy as np
 
 from .spectra import draw_bands
-from .style import COLUMN_WIDTH, PALETTE, new_figure, no_offset, styled
+from .style import COLUMN_WIDTH, PALETTE, new_figure, no_offset, styled, title_lines
 
 __all__ = ["thermo_figure"]
 
@@ -153,5 +153,6 @@ def thermo_figure(block: dict, model_title: str, quick: bool = False, titles: bo
                 labels.append(lab)
     body.legend(handles, labels, loc="outside lower center", ncol=3, fontsize=6)
     if titles:
-        body.suptitle(f"{model_title}:\ndataset '{block['name']}'", fontsize=7)
+        body.suptitle(title_lines(f"{model_title}:\ndataset '{block['name']}'", COLUMN_WIDTH),
+                      fontsize=7)
     return fig
