@@ -1,0 +1,108 @@
+"""Evidence budget on a linear-Gaussian problem: every term against the exact marginal
+likelihoods, and the budget adding up to the total ln K."""
+from __future__ import annotations
+
+import math
+import os
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from evidence1d.analysis.budget import (budget_paths, combine_paths, evidence_budget,
+                                        path_island)
+from evidence1d.inference.priors import JointPrior, Normal
+
+SIGMA, TAU = 0.5, 2.0
+SIZES = {"A": 6, "B": 4, "C": 8}
+#: the suite's seed (EVIDENCE1D_TEST_SEED, as the seed fixture; read here for the module
+#: fixtures)
+_SEED = int(os.environ.get("EVIDENCE1D_TEST_SEED", "12345"))
+
+
+class _Offsets:
+    """y_d,i = μ + δ_d + ε, ε ~ N(0, σ²), prior μ ~ N(0, τ²): one family per set of δ_d."""
+
+    def __init__(self, data, offsets):
+        self.data, self.offsets = data, offsets
+        self.prior = JointPrior(["mu"], [Normal(0.0, TAU)])
+
+    def log_likelihood_terms(self, theta):
+        mu = np.atleast_2d(theta)[:, :1]
+        return {d: np.sum(stats.norm.logpdf(y[None, :], mu + self.offsets[d], SIGMA), axis=1)
+                for d, y in self.data.items()}
+
+    def exact_log_z(self, labels):
+        """ln Z of a subset: the data are jointly normal with mean δ and covariance
+        σ² I + τ² 1 1ᵀ (a Gaussian prior on a common mean; Bishop, Pattern Recognition and
+        Machine Learning, 2006, eq. 2.115)."""
+        if not labels:
+            return 0.0
+        y = np.concatenate([self.data[d] for d in labels])
+        m = np.concatenate([np.full(self.data[d].size, self.offsets[d]) for d in labels])
+        cov = SIGMA ** 2 * np.eye(y.size) + TAU ** 2
+        return float(stats.multivariate_normal(m, cov).logpdf(y))
+
+
+@pytest.fixture(scope="module")
+def families():
+    rng = np.random.default_rng(_SEED)
+    data = {d: 0.4 + SIGMA * rng.standard_normal(n) for d, n in SIZES.items()}
+    return {"a": _Offsets(data, {"A": 0.0, "B": 0.0, "C": 0.0}),
+            "b": _Offsets(data, {"A": 0.0, "B": 0.8, "C": -0.6})}
+
+
+@pytest.fixture(scope="module")
+def budget(families):
+    labels = list(SIZES)
+    paths = budget_paths(labels)
+    root = np.random.SeedSequence(_SEED + 1)
+    combined = {}
+    for (name, pb), fam_seq in zip(families.items(), root.spawn(2)):
+        runs = {}
+        for (pname, stages), seq in zip(paths.items(), fam_seq.spawn(len(paths))):
+            runs[pname] = [path_island(pb, stages, s, n_particles=150)
+                           for s in seq.spawn(5)]
+        combined[name] = combine_paths(runs)
+    a, b = families["a"], families["b"]
+    ln_k = a.exact_log_z(labels) - b.exact_log_z(labels)
+    return evidence_budget(labels, "a", "b", combined, ln_k, 0.0,
+                           {"n_particles": 150, "n_islands": 5})
+
+
+def test_paths_of_the_budget():
+    assert budget_paths(["A", "B", "C"]) == {
+        "sequential": [["A"], ["B"], ["C"]], "without:A": [["B", "C"], ["A"]],
+        "without:B": [["A", "C"], ["B"]]}
+
+
+def test_sequential_terms_against_exact_marginals(families, budget):
+    # ln p(d_k | d_<k) = ln Z(d_≤k) − ln Z(d_<k) (MacKay 2003, §28.1)
+    a, b = families["a"], families["b"]
+    labels = list(SIZES)
+    for k, row in enumerate(budget["sequential"]):
+        before, upto = labels[:k], labels[:k + 1]
+        exact = ((a.exact_log_z(upto) - a.exact_log_z(before))
+                 - (b.exact_log_z(upto) - b.exact_log_z(before)))
+        assert row["dataset"] == labels[k]
+        assert abs(row["ln_k"] - exact) < 4 * row["ln_k_err"] + 0.05, (row, exact)
+
+
+def test_leave_one_out_against_exact_marginals(families, budget):
+    a, b = families["a"], families["b"]
+    labels = list(SIZES)
+    total = a.exact_log_z(labels) - b.exact_log_z(labels)
+    for row in budget["leave_one_out"]:
+        rest = [x for x in labels if x != row["dataset"]]
+        without = a.exact_log_z(rest) - b.exact_log_z(rest)
+        assert abs(row["ln_k_without"] - without) < 4 * row["ln_k_without_err"] + 0.05
+        assert abs(row["added_last"] - (total - without)) < 4 * row["added_last_err"] + 0.05
+
+
+def test_budget_adds_up_to_the_total(budget):
+    total = budget["ln_k"]
+    assert abs(total) > 1.0                         # the offsets are distinguishable
+    assert abs(budget["sequential_total"] - total) < 4 * budget["sequential_total_err"] + 0.05
+    parts = sum(r["ln_k"] for r in budget["sequential"])
+    err = math.sqrt(sum(r["ln_k_err"] ** 2 for r in budget["sequential"]))
+    assert abs(parts - total) < 4 * err + 0.05
