@@ -33,13 +33,36 @@ import numpy as np
 
 from ..errors import InputError
 
-__all__ = ["atomic_write", "save_inputs", "save_results", "load_results", "export_samples",
-           "SAVED_FORMAT", "saved_case_path"]
+__all__ = ["atomic_write", "new_file_mode", "save_inputs", "save_results", "load_results",
+           "export_samples", "SAVED_FORMAT", "saved_case_path"]
 
 #: version of the saved/ layout (2: analyses, verdict reliability and evidence budget)
 SAVED_FORMAT = 2
 _ISLAND_ARRAYS = ("betas", "log_z_increments", "samples", "log_likelihood", "acceptance",
                   "n_sweeps")
+
+
+def new_file_mode() -> int:
+    """Permission bits of a new file under the process umask (0o644 under umask 022).
+
+    ``tempfile.mkstemp`` creates files readable by the owner only (0o600); the files of a
+    run get the mode an ordinary ``open`` would give them, so a group sharing a folder can
+    read them.
+
+    References
+    ----------
+    .. [1] POSIX ``umask()`` and ``open()`` (IEEE Std 1003.1): mode 0o666 & ~umask.
+    """
+    try:                                       # Linux: read without changing the umask
+        with open("/proc/self/status", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return 0o666 & ~int(line.split()[1], 8)
+    except (OSError, ValueError, IndexError):
+        pass
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return 0o666 & ~mask
 
 
 def atomic_write(path, data) -> Path:
@@ -62,6 +85,7 @@ def atomic_write(path, data) -> Path:
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
     try:
+        os.chmod(tmp, new_file_mode())
         with os.fdopen(fd, "wb") as fh:
             fh.write(data.encode("utf-8") if isinstance(data, str) else data)
         os.replace(tmp, path)
@@ -75,6 +99,7 @@ def _copy(src: Path, dst: Path):
     dst.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(dir=dst.parent, prefix=f".{dst.name}.", suffix=".tmp")
     os.close(fd)
+    os.chmod(tmp, new_file_mode())
     shutil.copyfile(src, tmp)
     os.replace(tmp, dst)
 
@@ -396,6 +421,7 @@ def export_samples(results) -> list:
         idata = to_inference_data(post.chain[post.burn_in:], list(mr.names))
         fd, tmp = tempfile.mkstemp(dir=folder, prefix=f".{name}.", suffix=".nc")
         os.close(fd)
+        os.chmod(tmp, new_file_mode())
         try:
             idata.to_netcdf(tmp)
             os.replace(tmp, folder / f"{name}.nc")
