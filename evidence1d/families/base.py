@@ -119,6 +119,11 @@ class Family:
     #: whether :meth:`spectrum` applies the momentum resolution of ``pts`` itself
     handles_q_resolution: bool = False
 
+    #: whether :meth:`spectrum` depends on the wavevector only through the chain phase
+    #: q = Q_∥ d (not on |Q| nor on Q_a, Q_b); the powder average is then the exact
+    #: one-dimensional one (:func:`evidence1d.physics.powder.adaptive_chain_average`)
+    chain_only: bool = False
+
     def __init__(self, spin: float = 0.5):
         self.spin = float(spin)
 
