@@ -2,7 +2,9 @@
 
 Spin Hamiltonian: H = J Σ_i [S^x_i S^x_{i+1} + S^y_i S^y_{i+1} + Δ S^z_i S^z_{i+1}],
 J > 0 antiferromagnetic, J in meV.  The spectrum is the two-spinon continuum with the
-Müller line shape (:mod:`evidence1d.physics.chain`); χ(T), C(T) and S(T) come from the
+Müller line shape (:mod:`evidence1d.physics.chain`), amplitude from the exact first
+moments, S = χ''(n + 1)/π at T > 0 with the thermal edge of
+:mod:`evidence1d.physics.chain_thermal`; χ(T), C(T) and S(T) come from the
 same J and Δ through the chain's thermodynamic tables (:mod:`evidence1d.physics.chain_thermo`).
 
 References
@@ -48,7 +50,7 @@ class SpinonFamily(Family):
     spins = (0.5,)
 
     def spectrum(self, p: dict, pts: SpectralPoints) -> np.ndarray:
-        """Resolution-convolved S(q, E) per spin in 1/meV, detailed balance applied.
+        """Resolution-convolved S(q, E) = χ''(n + 1)/π per spin in 1/meV.
 
         Parameters
         ----------
@@ -64,7 +66,8 @@ class SpinonFamily(Family):
 
         References
         ----------
-        Müller et al., Phys. Rev. B 24, 1429 (1981); Lovesey (1984) for detailed balance.
+        Müller et al., Phys. Rev. B 24, 1429 (1981); Lovesey (1984) for detailed balance;
+        Schulz, Phys. Rev. B 34, 6372 (1986) for the thermal edge (from memory).
         """
         J = np.asarray(p["J"], dtype=float).reshape(-1, 1)
         delta = np.asarray(p["delta"], dtype=float).reshape(-1, 1)

@@ -16,7 +16,8 @@ of the line shape; it is a good one at Δ = 1 and an approximation away from it.
 the exact continuum of the π-periodic spinon bands also contains a π-shifted part
 (its upper edge 2I√(1 − k² sin²(q/2)) > ω_T for |q| < π/2) whose weight vanishes at Δ = 1;
 the line shape neglects it so that the spectrum is continuous through Δ = 1.
-Its resolution convolution with detailed balance, :func:`spinon_spectrum`, lives in
+Its resolution convolution at any temperature (S = χ''(n + 1)/π, the thermal edge of
+:mod:`evidence1d.physics.chain_thermal`), :func:`spinon_spectrum`, lives in
 :mod:`evidence1d.physics.chain_spectrum` and is re-exported here.
 
 The amplitude A(q) follows from the exact first moments of the three spin components
@@ -33,8 +34,10 @@ the classic −2(1 − cos q)E_0/N.
 
 Regularisation: the lower edge used by the line shape is floored at ``OMEGA_FLOOR`` × ω_T
 (ω_L → 0 at q → 0 and q → π in the gapless regime), which caps the logarithmically
-divergent total weight at A arccosh(1/OMEGA_FLOOR) ≈ 7.6 A and changes the spectrum only
-for |ω| < 10⁻³ ω_T.
+divergent T = 0 weight at A arccosh(1/OMEGA_FLOOR) ≈ 7.6 A and changes the spectrum only
+for |ω| < 10⁻³ ω_T.  At T > 0 the physical cut-off is thermal: the finite-temperature
+form of :mod:`evidence1d.physics.chain_thermal` rounds the edge on the scale k_BT, so the
+floor matters only where 4πk_BT < 10⁻³ ω_T.
 
 References
 ----------

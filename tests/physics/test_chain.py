@@ -4,7 +4,7 @@ import pickle
 import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
-from scipy import integrate
+from scipy import integrate, special
 
 from evidence1d.errors import InputError
 from evidence1d.families.base import SpectralPoints
@@ -13,18 +13,42 @@ from evidence1d.physics import chain
 from evidence1d.units import K_B_MEV
 
 
+def _rho(x):
+    """rho(x) = Gamma(1/4 - ix) / Gamma(3/4 - ix) by scipy.special.loggamma."""
+    return np.exp(special.loggamma(0.25 - 1j * x) - special.loggamma(0.75 - 1j * x))
+
+
 def _brute(q, E, s, T, J, D):
-    """Fine-grid convolution of the two-sided Müller spectrum, in t = arccosh(w/wL)."""
+    """Independent convolution of the model spectrum S = chi''(n + 1)/pi.
+
+    T = 0: the Müller shape on the loss side, fine Simpson rule in t = arccosh(w/wL).
+    T > 0: A Im[rho(x-) rho(x+)] / (tau (1 - exp(-w/kT))), x+- = (w +- wL)/tau,
+    tau = 4 pi kT (finite-temperature conformal form with weight 1/4; Schulz, PRB 34, 6372
+    (1986), from memory), on the signed axis |w| <= wT by adaptive quadrature (QUADPACK)."""
     args = (np.array([q]), np.array([[J]]), np.array([[D]]))
     wl, top = (a[0, 0] for a in chain.muller_edges(*args))
     A = chain.muller_amplitude(*args)[0, 0]
     if A == 0:
         return 0.0
-    t = np.linspace(0, np.arccosh(top / wl), 200001)
-    w = wl * np.cosh(t)
     g = lambda x: np.exp(-0.5 * (x / s) ** 2) / (np.sqrt(2 * np.pi) * s)
-    f = g(E - w) + (g(E + w) * np.exp(-w / (K_B_MEV * T)) if T > 0 else 0.0)
-    return A * integrate.simpson(f, x=t)
+    if T == 0:
+        t = np.linspace(0, np.arccosh(top / wl), 200001)
+        w = wl * np.cosh(t)
+        return A * integrate.simpson(g(E - w), x=t)
+    kT = K_B_MEV * T
+    tau = 4 * np.pi * kT
+
+    def f(w):
+        w = w if abs(w) > 1e-9 * kT else 1e-9 * kT
+        phi = (_rho((w - wl) / tau) * _rho((w + wl) / tau)).imag / tau
+        return g(E - w) * phi / -np.expm1(-w / kT)
+
+    lo, hi = max(E - 8 * s, -top), min(E + 8 * s, top)
+    if lo >= hi:
+        return 0.0
+    pts = [p for p in (-wl, 0.0, wl) if lo < p < hi]
+    return A * integrate.quad(f, lo, hi, points=pts or None, limit=400, epsabs=0,
+                              epsrel=1e-9)[0]
 
 
 @pytest.mark.parametrize("delta", [0.0, 0.6, 1.0, 1.7])
@@ -70,7 +94,8 @@ def test_spectrum_matches_brute_force_convolution():
         top = chain.muller_edges(np.array([q]), np.array([[J]]), np.array([[D]]))[1][0, 0]
         E = np.linspace(-top - 3 * s, top + 3 * s, 9)
         ref = np.array([_brute(q, e, s, T, J, D) for e in E])
-        for method, tol in [("quadrature", 1e-3), ("cumulative", 1e-2)]:
+        # cumulative: ~0.3 % at T = 0, ~2 % at T > 0 (trapezoid on the thermal edge)
+        for method, tol in [("quadrature", 1e-3), ("cumulative", 1e-2 if T == 0 else 3e-2)]:
             got = chain.spinon_spectrum(np.full(9, q), E, np.full(9, s), T, np.array([[J]]),
                                         np.array([[D]]), method=method)[0]
             np.testing.assert_allclose(got, ref, atol=tol * max(ref.max(), 1e-12))
@@ -174,9 +199,9 @@ def _peaks(qu, s0, T, J, D):
 
 @pytest.mark.parametrize("seed", [0, 1, 2])
 def test_fast_path_matches_reference_and_fine_quadrature(seed):
-    # The Gauss-Hermite path (pairs clear of the edge) against the all-Gauss-Legendre path of
-    # the same kernel and a 16-node x 8-panel Gauss-Legendre reference (Abramowitz & Stegun
-    # 25.4.29): both sides of detailed balance, T = 0 to 300 K, sigma from 0.3 % to 20 % of J.
+    # The Gauss-Hermite paths against the all-Gauss-Legendre path of the same kernel (T = 0)
+    # and a 16-node x 8-panel Gauss-Legendre reference (Abramowitz & Stegun 25.4.29): both
+    # sides of detailed balance, T = 0 to 300 K, sigma from 0.3 % to 20 % of J.
     rng = np.random.default_rng(seed)
     for _ in range(4):
         Jc = np.exp(rng.uniform(np.log(0.05), np.log(20)))
@@ -188,11 +213,13 @@ def test_fast_path_matches_reference_and_fine_quadrature(seed):
         E = np.tile(np.linspace(-1.1, 1.1, nE) * 3.5 * Jc * max(1.0, D.max()), qu.size)
         q, s = np.repeat(qu, nE), np.full(E.size, s0)
         fast = chain.spinon_spectrum(q, E, s, T, J, D)
-        ref = chain._spectrum(q, E, s, T, J, D, "quadrature", 6, 3, False)
         fine = chain._spectrum(q, E, s, T, J, D, "quadrature", 16, 8, False)
         pk = np.repeat(_peaks(qu, s0, T, J, D), nE, axis=1)
-        assert np.max(np.abs(fast - ref) / pk) < 1e-4
-        assert np.max(np.abs(fast - fine) / pk) < 5e-4      # the stated accuracy
+        if T == 0:   # the Hermite path against the Legendre path at the same settings
+            ref = chain._spectrum(q, E, s, T, J, D, "quadrature", 6, 3, False)
+            assert np.max(np.abs(fast - ref) / pk) < 1e-4
+        # the stated accuracy: 5e-4 at T = 0, 1e-3 at T > 0
+        assert np.max(np.abs(fast - fine) / pk) < (5e-4 if T == 0 else 1e-3)
         assert np.all(fast >= 0)
 
 
