@@ -21,7 +21,9 @@ _EXAMPLES = {
     "run": "examples:\n  evidence1d run case_studies/flagship/case.yaml\n"
            "  evidence1d run case.yaml --out results/try2 --seed 7 --quick\n"
            "  evidence1d run case.yaml --resume      # continue an interrupted run",
-    "report": "example:\n  evidence1d report case_studies/flagship/results",
+    "report": "examples:\n  evidence1d report case_studies/flagship/results\n"
+              "  evidence1d report results --out results-v2      # leave results as it is\n"
+              "  evidence1d report results --figures-only        # redraw the figures only",
     "simulate": "example:\n  evidence1d simulate spinon_continuum --case case.yaml "
                 "--set J=1.1 --set delta=0.8 --set g=2.1 --out data/ --seed 3",
 }
@@ -72,7 +74,15 @@ def _parser() -> argparse.ArgumentParser:
     rp = sub.add_parser("report", help="rebuild the report from saved results",
                         epilog=_EXAMPLES["report"], formatter_class=fmt)
     rp.add_argument("folder", help="output folder of a finished run")
-    rp.add_argument("--no-figures", action="store_true", help="skip the figures")
+    rp.add_argument("--out", metavar="NEWDIR",
+                    help="write the rebuilt report into NEWDIR (created) and leave the run "
+                         "folder as it is")
+    rf = rp.add_mutually_exclusive_group()
+    rf.add_argument("--no-figures", action="store_true", help="skip the figures")
+    rf.add_argument("--figures-only", action="store_true",
+                    help="redraw only the figures (figures/ in the folder or in NEWDIR)")
+    rp.add_argument("--workers", type=int, default=None,
+                    help="processes drawing the figures (default: one per CPU core)")
 
     s = sub.add_parser("simulate", help="write synthetic datasets from a model card",
                        epilog=_EXAMPLES["simulate"], formatter_class=fmt,
@@ -161,8 +171,11 @@ def _cmd_run(args):
 
 def _cmd_report(args):
     from .report import rebuild_report
-    out = rebuild_report(Path(args.folder), figures=not args.no_figures)
-    print(f"report rebuilt: {out / 'report.md'}")
+    from .report.console import report_lines
+    out = rebuild_report(Path(args.folder), figures=not args.no_figures,
+                         figures_only=args.figures_only, workers=args.workers,
+                         out=Path(args.out) if args.out else None)
+    print(report_lines(out, figures=not args.no_figures, figures_only=args.figures_only))
     return 0
 
 

@@ -66,9 +66,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from scipy import optimize, special
-from tqdm.auto import tqdm
 
-from .progress import bar_options as _bar_options
+from .progress import stage_bar
 
 from evidence1d.errors import InputError
 from evidence1d.inference.priors import LogUniform
@@ -450,7 +449,7 @@ def run_island(log_likelihood, prior, seed, *, n_particles=200, target_cess=0.5,
         This island's stream (from :func:`island_seeds`).
     n_particles, target_cess, moved, min_sweeps, max_sweeps, max_temperatures
         As in :func:`tempered_evidence`.
-    bar : tqdm, optional
+    bar : progress display, optional
         Advanced by the β steps.
 
     Returns
@@ -549,7 +548,7 @@ def tempered_evidence(log_likelihood, prior, *, rng, n_particles=200, n_islands=
     max_temperatures : int
         Safety limit on the schedule length.
     progress : bool or dict
-        Show a tqdm progress bar (in units of β per island); a dict ``{"label": str,
+        Show progress (in units of β per island; see :mod:`.progress`); a dict ``{"label": str,
         "position": int}`` names it and gives its line (for several runs at once).
 
     Returns
@@ -565,9 +564,8 @@ def tempered_evidence(log_likelihood, prior, *, rng, n_particles=200, n_islands=
     seeds = island_seeds(rng, n_islands)
     start = time.perf_counter()
     islands, warnings = [], []
-    label, position = _bar_options(progress, "evidence")
-    bar = tqdm(total=float(n_islands), disable=not progress, desc=label, unit="β",
-               leave=False, position=position, bar_format="{l_bar}{bar}| {n:.2f}/{total:.0f} [{elapsed}]")
+    bar = stage_bar(float(n_islands), progress, "evidence", unit="β",
+                    bar_format="{l_bar}{bar}| {n:.2f}/{total:.0f} [{elapsed}]")
     try:
         for seq in seeds:
             run, warn = run_island(log_likelihood, prior, seq, n_particles=n_particles,

@@ -63,9 +63,8 @@ from dataclasses import dataclass, field
 import emcee
 import numpy as np
 from scipy import optimize
-from tqdm.auto import tqdm
 
-from .progress import bar_options as _bar_options
+from .progress import stage_bar
 
 from evidence1d.errors import InputError
 
@@ -481,8 +480,8 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
     resume : bool
         Continue from ``checkpoint`` if it holds steps (a fresh start otherwise).
     progress : bool or dict
-        Show a tqdm progress bar; a dict ``{"label": str, "position": int}`` names it and
-        gives its line (for several runs at once).
+        Show progress (see :mod:`.progress`); a dict ``{"label": str, "position": int}``
+        names it and gives its line (for several runs at once).
     checkpoint_every : int
         Steps between checkpoint writes.
     add_prior : bool
@@ -562,9 +561,7 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
     remaining = n_steps - start
     warnings = []
     if remaining > 0:
-        label, position = _bar_options(progress, "posterior")
-        bar = tqdm(total=n_steps, initial=start, disable=not progress, desc=label,
-                   unit="step", leave=False, position=position)
+        bar = stage_bar(n_steps, progress, "posterior", unit="step", initial=start)
         done = written = 0
         acc_saved = np.zeros(n_walkers)
         try:

@@ -1,7 +1,11 @@
-"""What the command line prints: the case table of ``check`` and the verdict of ``run``."""
+"""What the command line prints: the case table of ``check``, the verdict of ``run`` and the
+lines of ``report``.  Plain text, no cursor codes (progress lines:
+:mod:`evidence1d.inference.progress`)."""
 from __future__ import annotations
 
-__all__ = ["case_table", "verdict_lines"]
+from pathlib import Path
+
+__all__ = ["case_table", "verdict_lines", "report_lines"]
 
 _RANGE_LABELS = {"Q_par": ("Q_par", "1/A"), "Q_perp": ("Q_perp", "1/A"), "Q": ("|Q|", "1/A"),
                  "energy": ("E", "meV"), "T": ("T", "K")}
@@ -62,4 +66,29 @@ def verdict_lines(results) -> str:
               "verdict: " + cmp_.verdict]
     if not results.reliable:
         lines.append("WARNING: diagnostics failed; the verdict is UNRELIABLE (see report.md)")
+    return "\n".join(lines)
+
+
+def report_lines(out, figures: bool = True, figures_only: bool = False) -> str:
+    """The lines ``report`` prints: what was written where.
+
+    Parameters
+    ----------
+    out : pathlib.Path
+        The folder written.
+    figures, figures_only : bool
+        As given to :func:`evidence1d.report.rebuild_report`.
+
+    Returns
+    -------
+    str
+    """
+    out = Path(out)
+    folder = out / "figures"
+    n_pdf = len(list(folder.glob("*.pdf"))) if folder.is_dir() else 0
+    n_png = len(list(folder.glob("*.png"))) if folder.is_dir() else 0
+    lines = [] if figures_only else [f"report rebuilt: {out / 'report.md'}"]
+    if figures or figures_only:
+        lines.append(f"figures {'redrawn' if figures_only else 'drawn'}: {n_pdf} PDF and "
+                     f"{n_png} PNG files in {folder}")
     return "\n".join(lines)

@@ -116,7 +116,7 @@ def comparison_figure(comparison: dict, quick: bool = False, titles: bool = True
             for n, o in zip(names, one_d)]
     a1.set_yticks(y, tick, fontsize=6)
     a1.set_ylim(-0.6, len(names) - 0.4)
-    a1.set_xlabel(r"$\ln Z - \ln Z_\mathrm{best}$ (nats); dotted: 2 ln K = 2, 6, 10")
+    a1.set_xlabel(r"$\ln Z - \ln Z_\mathrm{best}$ (nats)")
     right = a1.secondary_yaxis("right")
     right.set_yticks(y, [_pm(v, e) for v, e in zip(d, err)], fontsize=6)
     right.tick_params(length=0)
@@ -138,5 +138,6 @@ def comparison_figure(comparison: dict, quick: bool = False, titles: bool = True
     a2.set_title(_p_one_d(comparison.get("p_one_dimensional"),
                           comparison.get("p_one_dimensional_err")), fontsize=7)
     if titles:
-        a1.set_title("evidence relative to the best family (circles: 1D)", fontsize=7)
+        a1.set_title("evidence relative to the best family (circles: 1D; dotted: "
+                     "2 ln K = 2, 6, 10)", fontsize=7)
     return fig

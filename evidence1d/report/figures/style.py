@@ -268,8 +268,16 @@ def _png_pdf(fig) -> tuple:
     with p.rc_context(STYLE):
         png, pdf = io.BytesIO(), io.BytesIO()
         fig.savefig(png, format="png", dpi=PNG_DPI, bbox_inches=None)
+        _freeze_layout(fig)                   # the PDF keeps the layout of the PNG
         fig.savefig(pdf, format="pdf", bbox_inches=None, metadata={"CreationDate": None})
     return png.getvalue(), pdf.getvalue()
+
+
+def _freeze_layout(fig) -> None:
+    """Stop the layout engine after a first draw (the positions stay; saving again is
+    faster and gives the same page)."""
+    if fig.get_layout_engine() is not None:
+        fig.set_layout_engine("none")
 
 
 def _with(stem: Path, suffix: str) -> Path:
@@ -323,6 +331,7 @@ def save_pages(figs: list, stem: Path) -> list:
         with PdfPages(pdf, metadata={"CreationDate": None}) as pages:
             for fig in figs:
                 pages.savefig(fig, bbox_inches=None)
+                _freeze_layout(fig)
         for i, fig in enumerate(figs):
             buf = io.BytesIO()
             fig.savefig(buf, format="png", dpi=PNG_DPI, bbox_inches=None)

@@ -29,6 +29,17 @@ _OVER_T = r"$C/T$ (J mol$^{-1}$ K$^{-2}$)"
 _PART_STYLE = {"magnetic": "--", "constant": "-.", "electronic": ":", "lattice": (0, (5, 1, 1, 1))}
 
 
+def _log_axis(ax):
+    """Logarithmic T axis labelled 1, 2, 5, 10, 20, 50... in plain numbers (no minor labels)."""
+    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
+    ax.set_xscale("log")
+    lo, hi = ax.get_xlim()
+    subs = (1.0, 2.0, 5.0) if hi / max(lo, 1e-300) < 1e3 else (1.0,)
+    ax.xaxis.set_major_locator(LogLocator(base=10.0, subs=subs))
+    ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _pos: f"{v:g}"))
+    ax.xaxis.set_minor_formatter(NullFormatter())
+
+
 def _data(ax, x, y, err, label="data"):
     ax.errorbar(x, y, err, fmt="o", color=PALETTE["ink"], ms=2.2, elinewidth=0.6,
                 label=label, zorder=3)
@@ -141,7 +152,7 @@ def thermo_figure(block: dict, model_title: str, quick: bool = False, titles: bo
         _entropy(axes[k], ent)
     for a in axes:
         if log_t:
-            a.set_xscale("log")
+            _log_axis(a)
         no_offset(a)
         a.label_outer()
     axes[-1].set_xlabel(_T)
