@@ -12,7 +12,7 @@ numbers do not depend on the number of processes.
 
 After the families: the analyses of :mod:`evidence1d.analysis` (goodness of fit, prior
 bounds, and the evidence budget of the two leading families, which runs its own
-data-tempering paths as a third parallel stage), the verdict's reliability
+tempered evidences of data subsets as a third parallel stage), the verdict's reliability
 (:func:`~evidence1d.inference.compare.verdict_reliability`), and a record of what the
 samplers did (moves and their shares, marginalisation) for the methods text.
 """
@@ -243,18 +243,18 @@ def _budget_labels(case, problem) -> list:
                                                            for d in lab.split("+")))
 
 
-def _path_job(case, name, stages, seed, options):
-    """One island of one data-tempering path of one family: a pool job."""
-    from .analysis import path_island
-    return path_island(case.problem(name), stages, seed, **options)
+def _subset_job(case, name, labels, seed, options):
+    """One island of the tempered evidence of a subset of one family's terms: a pool job."""
+    from .analysis import subset_island
+    return subset_island(case.problem(name), labels, seed, **options)
 
 
 def _budget(case, results, comparison, settings, seed, progress, workers):
     """The evidence budget of the two leading families (third parallel stage)."""
     from tqdm.auto import tqdm
 
-    from .analysis import evidence_budget
-    from .analysis.budget import budget_paths, combine_paths
+    from .analysis import budget_subsets, evidence_budget
+    from .analysis.budget import combine_subset
     from .inference.evidence import evidence_settings
     from .inference.progress import bar_options
     order = sorted(results, key=lambda n: -results[n].evidence.log_z)
@@ -265,30 +265,33 @@ def _budget(case, results, comparison, settings, seed, progress, workers):
                            "likelihood terms"}
     if len(labels) < 2:
         return None
-    paths = budget_paths(labels)
+    subsets = budget_subsets(labels)
     options = _evidence_options(settings)
     root = np.random.SeedSequence(seed, spawn_key=(_BUDGET_KEY,))
     jobs, keys = [], []
     for fam, fam_seq in zip((a, b), root.spawn(2)):
-        for (pname, stages), path_seq in zip(paths.items(), fam_seq.spawn(len(paths))):
-            for isl in path_seq.spawn(settings["islands"]):
-                jobs.append((case, fam, stages, isl, options))
-                keys.append((fam, pname))
+        for sub, sub_seq in zip(subsets, fam_seq.spawn(len(subsets))):
+            for isl in sub_seq.spawn(settings["islands"]):
+                jobs.append((case, fam, sub, isl, options))
+                keys.append((fam, sub))
     label, _ = bar_options(progress, "budget")
-    bar = tqdm(total=len(jobs), disable=not progress, desc=label, unit="path", leave=False)
+    bar = tqdm(total=len(jobs), disable=not progress, desc=label, unit="island",
+               leave=False)
     try:
-        done = run_in_pool(_path_job, jobs, worker_count(workers, len(jobs)),
+        done = run_in_pool(_subset_job, jobs, worker_count(workers, len(jobs)),
                            on_result=lambda _: bar.update(1))
     finally:
         bar.close()
-    per = {a: {}, b: {}}
-    for (fam, pname), vals in zip(keys, done):
-        per[fam].setdefault(pname, []).append(vals)
-    combined = {fam: combine_paths(per[fam]) for fam in (a, b)}
-    pair = next(p for p in comparison.pairs if {p.a, p.b} == {a, b})
-    ln_k = pair.ln_k if pair.a == a else -pair.ln_k
+    runs = {a: {}, b: {}}
+    for (fam, sub), (lz, _) in zip(keys, done):
+        runs[fam].setdefault(sub, []).append(lz)
+    combined = {fam: {sub: combine_subset(v) for sub, v in runs[fam].items()}
+                for fam in (a, b)}
+    full = {fam: (results[fam].evidence.log_z, results[fam].evidence.log_z_err)
+            for fam in (a, b)}
     record = evidence_settings(n_islands=settings["islands"], **options)
-    return evidence_budget(labels, a, b, combined, ln_k, pair.ln_k_err, record)
+    return evidence_budget(labels, a, b, combined, full, record,
+                           [w for _, w in done if w])
 
 
 def _run_model(case, name, settings, streams, ev, out: Path | None, resume: bool, progress,
@@ -420,8 +423,9 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
         most one per job; 1 runs everything in this process). Each family has its own
         seed, so the numbers do not depend on this.
     budget : bool, optional
-        Compute the evidence budget of the two leading families (data-tempering paths:
-        about one extra evidence run per likelihood term and family; see
+        Compute the evidence budget of the two leading families (tempered evidences of
+        subsets of the data: about 2 K − 2 extra evidence runs per family for K likelihood
+        terms, most of them on fewer data; see
         :mod:`evidence1d.analysis.budget`).  Default: yes, except with ``quick``.
 
     Returns
@@ -504,10 +508,10 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
         t_b = time.time()
         budget_doc = _budget(case, results, comparison, settings, seed, progress, workers)
         if budget_doc is not None and "skipped" not in budget_doc:
-            log(f"evidence budget of {' vs '.join(budget_doc['families'])}: sequential sum "
-                f"ln K = {budget_doc['sequential_total']:.2f} ± "
-                f"{budget_doc['sequential_total_err']:.2f} against {budget_doc['ln_k']:.2f} ± "
-                f"{budget_doc['ln_k_err']:.2f} ({time.time() - t_b:.1f} s)")
+            log(f"evidence budget of {' vs '.join(budget_doc['families'])}: ln K without "
+                + ", ".join(f"{r['dataset']} {r['ln_k_without']:.2f}"
+                            for r in budget_doc["leave_one_out"])
+                + f" against {budget_doc['ln_k']:.2f} ({time.time() - t_b:.1f} s)")
     prov = provenance(case, seed=seed, start=t0, run_time=time.time() - t0, settings=settings)
     res = RunResults(models=results, comparison=comparison, reliable=reliable, out=out,
                      seed=seed, settings=settings, provenance=prov, case_path=case.path,

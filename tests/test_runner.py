@@ -1,4 +1,5 @@
-"""run(): repeatability, resume, refusal to overwrite, the log file."""
+"""run(): repeatability, resume, refusal to overwrite, the log file, the verdict's
+reliability and the records the report is written from, and the evidence budget."""
 from __future__ import annotations
 
 import json
@@ -26,14 +27,14 @@ def first_run(tmp_path_factory):
     folder = tmp_path_factory.mktemp("runner")
     case = evidence1d.load_case(write_valid_case(folder / "case", TEXT))
     out = folder / "out1"
-    evidence1d.run(case, out=out, progress=False, figures=False, workers=1)
+    evidence1d.run(case, out=out, progress=False, figures=False, workers=1, budget=False)
     return case, out
 
 
 def test_same_seed_same_numbers(first_run, tmp_path):
     case, out = first_run
     out2 = tmp_path / "out2"
-    evidence1d.run(case, out=out2, progress=False, figures=False, workers=2)
+    evidence1d.run(case, out=out2, progress=False, figures=False, workers=2, budget=False)
     assert _numbers(out) == _numbers(out2)       # workers do not change the numbers
 
 
@@ -50,7 +51,7 @@ def test_resume_reproduces_the_run(first_run, tmp_path):
     shutil.copytree(out, out3)
     (out3 / "summary.json").unlink()
     res = evidence1d.run(case, out=out3, resume=True, progress=False, figures=False,
-                         workers=1)
+                         workers=1, budget=False)
     assert _numbers(out3) == _numbers(out)
     for m in res.models.values():
         assert m.posterior.resumed_from == m.posterior.n_steps   # nothing sampled again
@@ -60,3 +61,56 @@ def test_log_file_written(first_run):
     _, out = first_run
     text = (out / "run.log").read_text()
     assert "ln Z" in text and "verdict" in text and "report written" in text
+
+
+def test_reliability_and_records_in_the_summary(first_run):
+    from evidence1d.inference.posterior import POPULATION_WEIGHT
+    _, out = first_run
+    s = json.loads((out / "summary.json").read_text())
+    c = s["comparison"]
+    rel = c["reliability"]
+    assert s["reliable"] is rel["verdict_reliable"]
+    assert c["verdict"].startswith("UNRELIABLE") is (not s["reliable"])
+    failed = {n for n, m in s["models"].items() if not m["diagnostics"]["ok"]}
+    assert set(c["posterior_unreliable"]) == failed
+    assert set(rel["posterior_notes"]) == failed - {c["best"]}   # notes, not the verdict
+    assert c["unreliable"] == ([c["best"]] if c["best"] in failed else [])
+    assert c["evidence_budget"] is None and "not asked for" in c["evidence_budget_note"]
+    for name, m in s["models"].items():
+        assert m["posterior_reliable"] is m["diagnostics"]["ok"]
+        assert set(m["goodness_of_fit"]) == {"map", "chi", "heat"}
+        moves = {mv["move"]: mv["share"] for mv in m["sampler"]["moves"]}
+        assert sum(moves.values()) == pytest.approx(1.0)
+        if "population" in moves:                 # the tempered population shaped it
+            assert moves["population"] == pytest.approx(POPULATION_WEIGHT)
+        assert m["sampler"]["evidence_particles"] == 60
+        assert m["sampler"]["evidence_islands"] == 2
+        assert m["sampler"]["n_steps"] == 120
+
+
+@pytest.mark.slow
+def test_evidence_budget_of_a_small_case(tmp_path):
+    """Two likelihood terms (chi, heat), two families: the budget is in summary.json and
+    report.md, its sequential terms add up to the quoted ln K and the last dataset's
+    leave-one-out uses the sequential prefix (about 20–40 s)."""
+    from evidence1d.report.schema import validate_summary
+    text = (CASE_YAML.split("  - name: map")[0] + "  - name: chi" +
+            CASE_YAML.split("  - name: chi", 1)[1])
+    text = (text.replace("  - spinon_continuum\n", "  - spinon_continuum\n  - paramagnon\n")
+            .replace("sampler: {steps: 200, particles: 100, islands: 2}",
+                     "sampler: {steps: 40, particles: 24, islands: 2}"))
+    case = evidence1d.load_case(write_valid_case(tmp_path / "case", text))
+    res = evidence1d.run(case, out=tmp_path / "out", progress=False, figures=False)
+    s = json.loads((tmp_path / "out" / "summary.json").read_text())
+    validate_summary(s)
+    b = s["comparison"]["evidence_budget"]
+    assert b["order"] == ["chi", "heat"] and b["families"][0] == s["comparison"]["best"]
+    lz = {n: m.evidence.log_z for n, m in res.models.items()}
+    assert b["ln_k"] == pytest.approx(lz[b["families"][0]] - lz[b["families"][1]])
+    assert sum(r["ln_k"] for r in b["sequential"]) == pytest.approx(b["ln_k"])
+    loo = {r["dataset"]: r for r in b["leave_one_out"]}
+    assert loo["heat"]["ln_k_without"] == pytest.approx(b["sequential"][0]["ln_k"])
+    for r in b["leave_one_out"]:
+        assert r["added_last"] == pytest.approx(b["ln_k"] - r["ln_k_without"])
+    report = (tmp_path / "out" / "report.md").read_text(encoding="utf-8")
+    assert "### Which datasets decide the verdict" in report and "| `heat` |" in report

@@ -9,8 +9,8 @@ only through the public :class:`~evidence1d.problem.JointProblem` API.
 from __future__ import annotations
 
 from .bounds import BOUND_MASS_MAX, BOUND_WINDOW, bound_flags
-from .budget import evidence_budget, path_island
+from .budget import budget_subsets, evidence_budget, subset_island
 from .fit import FIT_THRESHOLDS, goodness_of_fit, chi2_limit
 
 __all__ = ["goodness_of_fit", "chi2_limit", "FIT_THRESHOLDS", "bound_flags", "BOUND_WINDOW",
-           "BOUND_MASS_MAX", "evidence_budget", "path_island"]
+           "BOUND_MASS_MAX", "evidence_budget", "budget_subsets", "subset_island"]

@@ -51,8 +51,6 @@ METHOD_REFERENCES = {
     "kde": "L. Breiman, W. Meisel and E. Purcell, Technometrics 19, 135 (1977); G. R. Terrell "
            "and D. W. Scott, Ann. Statist. 20, 1236 (1992).",
     "ppc": "A. Gelman, X.-L. Meng and H. Stern, Statistica Sinica 6, 733 (1996).",
-    "chopin": "N. Chopin, \"A sequential particle filter method for static models\", "
-              "Biometrika 89, 539 (2002).",
 }
 
 #: posterior-to-prior 68 % width ratios: below the first "constrained", below the second
@@ -244,10 +242,9 @@ def _budget(s) -> list:
            f"Evidence budget of ln K = ln Z(`{a}`) − ln Z(`{bb}`) = {b['ln_k']:.2f} ± "
            f"{_f(b['ln_k_err'])} nats: the verdict rests on {rests} (each added last, "
            "given all the others). Method: " + b["method"] + f" ({b['n_particles']} particles, "
-           f"{b['n_islands']} independent paths per family). The sequential contributions "
-           f"add up to {b['sequential_total']:.2f} ± {_f(b['sequential_total_err'])} nats, "
-           "an estimate of ln K independent of the quoted one. Positive numbers favour "
+           f"{b['n_islands']} islands per subset and family). Positive numbers favour "
            f"`{a}`.", ""]
+    out += [f"- warning: {w}" for w in b["warnings"]] + ([""] if b["warnings"] else [])
     out += _table(["dataset", "in sequence (given those above)", "added last",
                    "ln K without it"], rows)
     return out
@@ -398,7 +395,7 @@ def _methods(s, ctx) -> tuple:
     has_loo = any(m["loo"] and "error" not in m["loo"] for m in models.values())
     has_budget = s["comparison"]["evidence_budget"] is not None
     keys += (["laplace"] if has_lap else []) + (["dickey"] if has_sd else []) \
-        + (["loo"] if has_loo else []) + (["chopin"] if has_budget else []) + ["fisher"]
+        + (["loo"] if has_loo else []) + ["fisher"]
     keys = list(dict.fromkeys(keys))
     ref = {k: i + 1 for i, k in enumerate(keys)}
     cite = lambda *ks: "[" + ", ".join(str(ref[k]) for k in ks if k in ref) + "]"  # noqa: E731
@@ -482,8 +479,8 @@ def _methods(s, ctx) -> tuple:
     if has_loo:
         parts.append(f"Predictive accuracy was checked by PSIS-LOO {cite('loo')}. ")
     if has_budget:
-        parts.append(f"The evidence budget adds the datasets one at a time to a tempered "
-                     f"population {cite('chopin', 'smc')}. ")
+        parts.append(f"The evidence budget takes differences of the evidences of subsets "
+                     f"of the data, each by the same tempered sequence {cite('smc')}. ")
     parts.append(f"Dataset sensitivities use the Fisher information of Gaussian data "
                  f"{cite('fisher')}.")
     refs = [f"{ref[k]}. {METHOD_REFERENCES[k]}" for k in keys]

@@ -280,11 +280,8 @@ SUMMARY_FIELDS = (
        "the datasets before it"),
     _F(f"{_C}.evidence_budget.sequential[].dataset", "string", "", "the dataset (term)"),
     _F(f"{_C}.evidence_budget.sequential[].ln_k", "number", "nats", "its contribution "
-       "ln p_a(d_k | d_<k) − ln p_b(d_k | d_<k)"),
+       "ln p_a(d_k | d_<k) − ln p_b(d_k | d_<k); they add up to ln K"),
     _F(f"{_C}.evidence_budget.sequential[].ln_k_err", "number|null", "nats", "its error"),
-    _F(f"{_C}.evidence_budget.sequential_total", "number", "nats", "sum of the sequential "
-       "contributions (an independent estimate of ln K)"),
-    _F(f"{_C}.evidence_budget.sequential_total_err", "number|null", "nats", "its error"),
     _F(f"{_C}.evidence_budget.leave_one_out", "array[object]", "", "ln K without each "
        "dataset"),
     _F(f"{_C}.evidence_budget.leave_one_out[].dataset", "string", "", "the dataset left out"),
@@ -297,8 +294,10 @@ SUMMARY_FIELDS = (
     _F(f"{_C}.evidence_budget.leave_one_out[].added_last_err", "number|null", "nats",
        "its error"),
     _F(f"{_C}.evidence_budget.method", "string", "", "the method, in words"),
-    _F(f"{_C}.evidence_budget.n_particles", "integer", "", "particles per path island"),
-    _F(f"{_C}.evidence_budget.n_islands", "integer", "", "independent paths per family"),
+    _F(f"{_C}.evidence_budget.n_particles", "integer", "", "particles per island"),
+    _F(f"{_C}.evidence_budget.n_islands", "integer", "", "independent islands per subset "
+       "and family"),
+    _F(f"{_C}.evidence_budget.warnings", "array[string]", "", "warnings of the subset runs"),
     _F(f"{_C}.evidence_budget_note", "string", "", "why the budget was not computed",
        required=False),
     _F("provenance", "object", "", "what produced these numbers"),

@@ -41,10 +41,10 @@ def test_budget_summary_fields(summary):
     doc["comparison"].pop("evidence_budget_note", None)
     doc["comparison"]["evidence_budget"] = {
         "families": [a, b], "order": ["map"], "ln_k": 1.0, "ln_k_err": 0.1,
-        "sequential": [row], "sequential_total": 1.0, "sequential_total_err": 0.1,
+        "sequential": [row],
         "leave_one_out": [{"dataset": "map", "ln_k_without": 0.0, "ln_k_without_err": None,
                            "added_last": 1.0, "added_last_err": 0.1}],
-        "method": "m", "n_particles": 10, "n_islands": 2}
+        "method": "m", "n_particles": 10, "n_islands": 2, "warnings": []}
     validate_summary(doc)
     for f in SUMMARY_FIELDS:
         if f.path.startswith("comparison.evidence_budget.") and f.required:
