@@ -81,14 +81,17 @@ def _groups(keys: np.ndarray) -> list:
 
 
 def _digits(values) -> int:
-    """Decimals that print distinct values distinctly (at least those of the spacing)."""
+    """Decimals that print the values as given (to 0.5 % of their spacing) and
+    distinctly."""
     v = np.unique(np.round(np.asarray(values, float), 9))
     if v.size < 2:
         mag = abs(float(v[0])) if v.size else 1.0
-        return 2 if mag == 0 else max(0, 2 - math.floor(math.log10(mag)))
-    step = float(np.min(np.diff(v)))
+        step = 0.01 * mag if mag > 0 else 0.01
+    else:
+        step = float(np.min(np.diff(v)))
     d = max(0, -math.floor(math.log10(step)))
-    while d < 8 and np.unique(np.round(v, d)).size < v.size:
+    while d < 8 and (np.max(np.abs(np.round(v, d) - v)) > 5e-3 * step
+                     or np.unique(np.round(v, d)).size < v.size):
         d += 1
     return d
 
