@@ -13,24 +13,29 @@ summed over the three spin components (unpolarised, no polarisation factor), wit
 ω_L the exact lower two-spinon edge and ω_T the upper edge of the principal continuum
 (ω_T = ω_U for Δ ≤ 1).  The Müller shape is exact in its edges but only an approximation
 of the line shape; it is a good one at Δ = 1 and an approximation away from it.  For Δ > 1
-the exact continuum of the π-periodic spinon bands also contains a π-shifted part
-(its upper edge 2I√(1 − k² sin²(q/2)) > ω_T for |q| < π/2) whose weight vanishes at Δ = 1;
-the line shape neglects it so that the spectrum is continuous through Δ = 1.
+the exact continuum of the π-periodic spinon bands also has a π-shifted sheet (the
+two-spinon states over the other Néel vacuum; upper edge b = 2I√(1 − k² sin²(q/2)) > ω_T
+for |q| < π/2): the model gives it the same Müller shape on [ω_L, b] and the moment
+β(1 + cos q), which vanishes as (Δ − 1)² at Δ = 1 so the spectrum is continuous through
+Δ = 1; below q_κ, where the principal sheet has closed onto its edge a = ω_L, the principal
+moment sits on a line at a (:func:`two_spinon_sheets`).
 Its resolution convolution at any temperature (S = χ''(n + 1)/π, the thermal edge of
 :mod:`evidence1d.physics.chain_thermal`), :func:`spinon_spectrum`, lives in
 :mod:`evidence1d.physics.chain_spectrum` and is re-exported here.
 
-The amplitude A(q) follows from the exact first moments of the three spin components
+The amplitudes follow from the exact first moments of the three spin components
 (double-commutator sum rule, Hohenberg & Brinkman 1974;
 :mod:`evidence1d.physics.chain_ground_state`),
 M1^zz = −2J(1 − cos q)C_xx and M1^xx = M1^yy = J[(Δ − 1)(C_xx − C_zz) − (1 − cos q)(ΔC_xx + C_zz)],
 with the ground-state correlators C_zz = ∂e₀/∂Δ, C_xx = (e₀ − ΔC_zz)/2 (Hellmann–Feynman).
 All three components share the edges, so the summed line shape is the Müller shape with
-the summed moment: A = Σ_a A_a, A_a √(ω_T² − ω_L²) = M1^aa.  For Δ < 1 the q-independent
-part of each transverse moment, J(Δ − 1)(C_xx − C_zz), is left out (it cannot live in a
-continuum that collapses onto ω = 0 at q → 0; see
-:func:`~evidence1d.physics.chain_ground_state.continuum_first_moment`).  At Δ = 1 this is
-the classic −2(1 − cos q)E_0/N.
+the summed moment: A = Σ_a A_a, A_a √(ω_T² − ω_L²) = M1^aa.  The total,
+M1 = α(1 − cos q) + β(1 + cos q) with β = J(Δ − 1)(C_xx − C_zz), is shared between the
+sheets by :func:`~evidence1d.physics.chain_ground_state.sheet_moments`: the principal
+sheet carries α(1 − cos q), the π-shifted one β(1 + cos q) for Δ > 1 (added to the
+principal sheet for |q| ≥ π/2, where b ≤ ω_T); for Δ < 1, β(1 + cos q) is left out (it
+stays finite at q → 0, where the gapless continuum collapses onto ω = 0).  At Δ = 1 this
+is the classic −2(1 − cos q)E_0/N.
 
 Regularisation: the lower edge used by the line shape is floored at ``OMEGA_FLOOR`` × ω_T
 (ω_L → 0 at q → 0 and q → π in the gapless regime), which caps the logarithmically
@@ -46,6 +51,8 @@ J. des Cloizeaux & M. Gaudin, J. Math. Phys. 7, 1384 (1966).
 J. D. Johnson, S. Krinsky & B. M. McCoy, Phys. Rev. A 8, 2526 (1973).
 G. Müller, H. Thomas, H. Beck & J. C. Bonner, Phys. Rev. B 24, 1429 (1981).
 P. C. Hohenberg & W. F. Brinkman, Phys. Rev. B 10, 128 (1974).
+A. H. Bougourzi, M. Karbach & G. Müller, Phys. Rev. B 57, 11429 (1998) (from memory).
+J.-S. Caux, J. Mossel & I. Pérez Castillo, J. Stat. Mech. P08006 (2008) (from memory).
 C. N. Yang & C. P. Yang, Phys. Rev. 150, 327 (1966) (ground-state energy; from memory).
 L. Hulthén, Ark. Mat. Astron. Fys. 26A, No. 11 (1938).
 """
@@ -56,13 +63,14 @@ import numpy as np
 from .chain_ground_state import (_E0_ERROR, _E0_GRID, _as_params, _e0_spline,  # noqa: F401
                                  _ground_state_energy_fast, continuum_first_moment,
                                  first_moment, first_moment_components,
-                                 nearest_neighbour_correlators, xxz_ground_state_energy)
+                                 nearest_neighbour_correlators, sheet_moments,
+                                 xxz_ground_state_energy)
 
 __all__ = ["spinon_bounds", "spinon_gap", "xxz_ground_state_energy", "first_moment",
            "first_moment_components", "nearest_neighbour_correlators",
-           "continuum_first_moment", "muller_edges", "muller_amplitude", "muller_density",
-           "muller_cumulative",
-           "spinon_spectrum", "OMEGA_FLOOR"]
+           "continuum_first_moment", "sheet_moments", "two_spinon_sheets", "muller_edges",
+           "muller_amplitude", "muller_density", "muller_cumulative", "spinon_spectrum",
+           "OMEGA_FLOOR"]
 
 #: Floor of the line-shape lower edge, as a fraction of the upper edge ω_T.
 OMEGA_FLOOR = 1e-3
@@ -214,11 +222,22 @@ def _h(r):
     return np.where(s > 1e-8, val, 1.0)
 
 
-def _muller(q, J, delta):
-    """Line-shape edges (floored ω_L, ω_T), amplitude A and total weight, (n_sets, n)."""
-    lower, _, top = _edges(q, J, delta)
-    wl = np.maximum(lower, OMEGA_FLOOR * top)
-    m1 = continuum_first_moment(q, J, delta)
+def _sheet_split(q, J, delta):
+    """Edges and the sheets' moments: lower (floored), principal top a, upper, m_p, m_s.
+
+    For Δ > 1 and |q| ≥ π/2 the π-shifted sheet [ω_L, b] lies inside the principal one
+    (b ≤ a) and its moment is added to the principal sheet; for |q| < π/2 it is a sheet of
+    its own up to b = ω_U (:func:`two_spinon_sheets`)."""
+    lower, upper, top = _edges(q, J, delta)
+    m_p, m_s = sheet_moments(q, J, delta)
+    inside = upper <= top                       # b ≤ a: fold the shifted moment in
+    m_p = m_p + np.where(inside, m_s, 0.0)
+    m_s = np.where(inside, 0.0, m_s)
+    return np.maximum(lower, OMEGA_FLOOR * top), top, upper, m_p, m_s
+
+
+def _sheet(wl, top, m1):
+    """Müller amplitude m1/√(top² − wl²) and total weight of one sheet, (n_sets, n)."""
     valid = (top > 0) & (wl < top)
     safe_top = np.where(valid, top, 1.0)
     r = np.where(valid, wl / safe_top, 1.0)
@@ -226,9 +245,66 @@ def _muller(q, J, delta):
     with np.errstate(divide="ignore", invalid="ignore"):
         A = np.where(valid & (width > 0), m1 / np.where(width > 0, width, 1.0), 0.0)
     total = np.where(valid, m1 / safe_top * _h(r), 0.0)           # A arccosh(ω_T/ω_L)
-    wl = np.where(valid, wl, 0.0)
-    top = np.where(valid, top, 0.0)
-    return wl, top, A, total
+    return np.where(valid, wl, 0.0), np.where(valid, top, 0.0), A, total
+
+
+def _muller(q, J, delta):
+    """Principal sheet: edges (floored ω_L, ω_T), amplitude A and total weight, (n_sets, n)."""
+    wl, top, _, m_p, _ = _sheet_split(q, J, delta)
+    return _sheet(wl, top, m_p)
+
+
+def _extras(q, J, delta):
+    """π-shifted sheet (ω_L, b, A_s, weight) and bottom line (a, weight W), (n_sets, n)."""
+    wl, top, upper, m_p, m_s = _sheet_split(q, J, delta)
+    shifted = _sheet(wl, upper, m_s)
+    line = (delta > 1.0) & (top > 0) & (wl >= top)   # |q| < q_κ: principal sheet empty
+    W = np.where(line, m_p / np.where(top > 0, top, 1.0), 0.0)
+    return shifted, (np.where(line, top, 0.0), W)
+
+
+def two_spinon_sheets(q, J, delta):
+    """Both two-spinon sheets of the model and the bottom line where the principal is empty.
+
+    H = J Σ [S^x S^x + S^y S^y + Δ S^z S^z], J > 0.  The model spectrum at T = 0 is
+
+        S(q, ω) = A Θ(ω_T − ω)/√(ω² − ω_L²) + A_s Θ(b − ω)/√(ω² − ω_L²) + W δ(ω − a)
+
+    (all for ω > ω_L): the principal sheet up to ω_T (the Müller shape with the moment
+    α(1 − cos q) of :func:`sheet_moments`, plus β(1 + cos q) for |q| ≥ π/2), the π-shifted
+    sheet up to b = 2I√(1 − k² sin²(q/2)) for Δ > 1 and |q| < π/2 (moment β(1 + cos q),
+    the same Müller shape; b → the Heisenberg edge region only as its weight β → 0), and,
+    for Δ > 1 and |q| < q_κ where the principal sheet has shrunk to its edge a = ω_L, a
+    line at a with the principal moment, W = α(1 − cos q)/a (the limit of the principal
+    sheet as its width closes, so S(q) is continuous at q_κ).
+
+    Parameters
+    ----------
+    q : array_like, shape (n,)
+        Chain phase in radians.
+    J, delta : array_like, shape (n_sets, 1)
+        Exchange in meV (> 0) and anisotropy Δ > −1.
+
+    Returns
+    -------
+    dict of ndarray, shape (n_sets, n)
+        ``lower`` (ω_L, floored; shared by both sheets), ``top`` (ω_T) and ``A`` of the
+        principal sheet; ``b`` and
+        ``A_shifted`` of the π-shifted sheet; ``line_energy`` (a) and ``line_weight`` (W);
+        ``weight``: the total ∫S dω (static structure factor of the model), all in meV,
+        1/meV·meV or dimensionless; zeros where a part is absent.
+
+    References
+    ----------
+    Müller et al., Phys. Rev. B 24, 1429 (1981); Johnson, Krinsky & McCoy (1973);
+    Bougourzi, Karbach & Müller, Phys. Rev. B 57, 11429 (1998) and Caux, Mossel & Pérez
+    Castillo, J. Stat. Mech. P08006 (2008) (the two sheets; from memory).
+    """
+    wl, top, A, total = _muller(q, J, delta)
+    (wl_s, b, A_s, total_s), (a, W) = _extras(q, J, delta)
+    return {"lower": np.where(wl > 0, wl, wl_s), "top": top, "A": A, "b": b,
+            "A_shifted": A_s, "line_energy": a, "line_weight": W,
+            "weight": total + total_s + W}
 
 
 def muller_edges(q, J, delta):
@@ -257,12 +333,12 @@ def muller_edges(q, J, delta):
 
 
 def muller_amplitude(q, J, delta):
-    """Amplitude A(q) of the Müller shape from the first-moment sum rule.
+    """Amplitude A(q) of the principal sheet's Müller shape from the first-moment sum rule.
 
-    ∫ ω A / √(ω² − ω_L²) dω over [ω_L, ω_T] = A √(ω_T² − ω_L²) = M1_c(q), the moment
-    carried by the continuum (:func:`continuum_first_moment`: the exact total moment of
-    the three components, less the q-independent transverse part for Δ < 1).  The
-    components share the edges, so A = A_xx + A_yy + A_zz with A_a √(ω_T² − ω_L²) = M1^aa.
+    ∫ ω A / √(ω² − ω_L²) dω over [ω_L, ω_T] = A √(ω_T² − ω_L²) = α(1 − cos q) (plus
+    β(1 + cos q) for Δ > 1 and |q| ≥ π/2; :func:`sheet_moments`).  The components share
+    the edges, so A = A_xx + A_yy + A_zz.  The π-shifted sheet and the bottom line are in
+    :func:`two_spinon_sheets`.
 
     Parameters
     ----------
@@ -284,7 +360,10 @@ def muller_amplitude(q, J, delta):
 
 
 def muller_density(q, omega, J, delta):
-    """T = 0 Müller line shape S(q, ω) = A Θ(ω − ω_L) Θ(ω_T − ω) / √(ω² − ω_L²).
+    """T = 0 Müller line shape of the principal sheet, A Θ(ω − ω_L) Θ(ω_T − ω) / √(ω² − ω_L²).
+
+    For Δ > 1 the model adds the π-shifted sheet and, below q_κ, a line
+    (:func:`two_spinon_sheets`).
 
     An approximation of the two-spinon line shape, good at Δ = 1, cruder away from it.
 
@@ -314,6 +393,8 @@ def muller_density(q, omega, J, delta):
 
 def muller_cumulative(q, omega, J, delta):
     """Cumulative weight W(q, ω) = ∫_{ω_L}^{ω} S dω' = A arccosh(ω/ω_L), clipped to [ω_L, ω_T].
+
+    Principal sheet only (:func:`two_spinon_sheets` gives the model's total weight).
 
     Parameters
     ----------

@@ -45,7 +45,7 @@ from scipy import special
 
 from ..errors import InputError
 from ..units import K_B_MEV
-from .chain import _muller, _reduced_phase
+from .chain import _extras, _muller, _reduced_phase
 from .chain_thermal import convolve_thermal
 from .neutron import convolve_cumulative, gauss_hermite
 
@@ -165,34 +165,23 @@ def _side(Es, sig, wl, top, A, kT, boltz, method, n_nodes, n_panels):
     return A * val / (math.sqrt(2.0 * math.pi) * sig)
 
 
-def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth):
-    """:func:`spinon_spectrum` on checked arrays; ``smooth`` enables the Gauss–Hermite path.
+def _convolve_sheet(Ef, sf, wl, top, A, kT, method, n_nodes, n_panels, smooth):
+    """One Müller sheet A/√(ω² − ω_L²) on [ω_L, top], convolved, flat (pair) arrays.
 
-    Pairs (parameter set, point) whose resolution window on either side of the singular
-    edge is clear of it (c − 6σ ≥ ω_L) take :func:`_smooth_side`, the others :func:`_side`;
-    with ``smooth=False`` every pair takes :func:`_side` (the reference path).  On the gain
-    side G_σ(Es − ω) e^{−ω/kT} = e^{−Es/kT + σ²/2k²T²} G_σ(c − ω), c = Es − σ²/kT.
-    All work is on flat arrays of the (parameter set, point) pairs.
+    T = 0: pairs whose window is clear of the singular edge (lo = E − 6σ ≥ ω_L) take
+    :func:`_smooth_side`, the others :func:`_side`; with ``smooth=False`` every pair takes
+    :func:`_side` (the reference path).  T > 0:
+    :func:`evidence1d.physics.chain_thermal.convolve_thermal`.
     """
-    qr = _reduced_phase(q)
-    if qr.ndim == 1 and qr.size > 1:    # maps repeat each wavevector: edges once per q
-        q_unique, inverse = np.unique(qr, return_inverse=True)
-        wl, top, A, _ = (np.take(a, inverse, axis=-1) for a in _muller(q_unique, J, delta))
-    else:
-        wl, top, A, _ = _muller(qr, J, delta)
-    shape = np.broadcast_shapes(wl.shape, E.shape, sigma.shape)
-    wl, top, A, Ef, sf = (np.ascontiguousarray(np.broadcast_to(a, shape)).ravel()
-                          for a in (wl, top, A, E, sigma))
-    kT = K_B_MEV * T
-    valid = A > 0
     out = np.zeros(Ef.size)
+    valid = A > 0
     if not valid.any():
-        return out.reshape(shape)
+        return out
     if kT > 0:
         def old_side(Es, s, wl_, top_, A_, kTa, boltz):
-            return _side(Es, s, wl_, top_, A_, kTa, boltz, method, int(n_nodes), int(n_panels))
-        return convolve_thermal(Ef, sf, wl, top, A, kT, old_side, method, int(n_nodes),
-                                int(n_panels), smooth).reshape(shape)
+            return _side(Es, s, wl_, top_, A_, kTa, boltz, method, n_nodes, n_panels)
+        return convolve_thermal(Ef, sf, wl, top, A, kT, old_side, method, n_nodes, n_panels,
+                                smooth)
     six = _N_SIGMA * sf
     lo = Ef - six
     active = (top > lo) & (Ef + six > wl) & valid
@@ -204,9 +193,44 @@ def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth):
         active &= ~easy
     ix = np.flatnonzero(active)
     if ix.size:
-        kTa = np.ones(ix.size)
-        out[ix] += _side(Ef[ix], sf[ix], wl[ix], top[ix], A[ix], kTa, False, method,
-                         int(n_nodes), int(n_panels))
+        out[ix] += _side(Ef[ix], sf[ix], wl[ix], top[ix], A[ix], np.ones(ix.size), False,
+                         method, n_nodes, n_panels)
+    return out
+
+
+def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth):
+    """:func:`spinon_spectrum` on checked arrays; ``smooth`` enables the Gauss–Hermite paths.
+
+    The principal sheet, the π-shifted sheet (Δ > 1, |q| < π/2) and the line at the
+    continuum bottom (Δ > 1, |q| < q_κ) of :func:`evidence1d.physics.chain.two_spinon_sheets`,
+    each convolved on flat arrays of the (parameter set, point) pairs; the line is
+    W [(n(a) + 1) G_σ(E − a) + n(a) G_σ(E + a)].
+    """
+    qr = _reduced_phase(q)
+    if qr.ndim == 1 and qr.size > 1:    # maps repeat each wavevector: edges once per q
+        q_unique, inverse = np.unique(qr, return_inverse=True)
+    else:
+        q_unique, inverse = qr, None
+    wl, top, A, _ = _muller(q_unique, J, delta)
+    (wl_s, b, A_s, _), (a, W) = _extras(q_unique, J, delta)
+    parts = [wl, top, A, wl_s, b, A_s, a, W]
+    if inverse is not None:
+        parts = [np.take(p, inverse, axis=-1) for p in parts]
+    shape = np.broadcast_shapes(parts[0].shape, E.shape, sigma.shape)
+    wl, top, A, wl_s, b, A_s, a, W, Ef, sf = (
+        np.ascontiguousarray(np.broadcast_to(p, shape)).ravel() for p in parts + [E, sigma])
+    kT = K_B_MEV * T
+    settings = (method, int(n_nodes), int(n_panels), smooth)
+    out = _convolve_sheet(Ef, sf, wl, top, A, kT, *settings)
+    ix = np.flatnonzero(A_s > 0)
+    if ix.size:
+        out[ix] += _convolve_sheet(Ef[ix], sf[ix], wl_s[ix], b[ix], A_s[ix], kT, *settings)
+    ix = np.flatnonzero(W > 0)
+    if ix.size:
+        e, s, en = Ef[ix], sf[ix], a[ix]
+        bose = 1.0 / np.expm1(en / kT) if kT > 0 else 0.0
+        g = lambda x: np.exp(-0.5 * (x / s) ** 2) / (math.sqrt(2.0 * math.pi) * s)
+        out[ix] += W[ix] * ((1.0 + bose) * g(e - en) + bose * g(e + en))
     return out.reshape(shape)
 
 
@@ -214,8 +238,9 @@ def spinon_spectrum(q, E, sigma, T, J, delta, *, method="quadrature", n_nodes=No
                     n_panels=3):
     """Resolution-convolved two-spinon S(q, E) per spin, S = χ''(n + 1)/π.
 
-    T = 0: the Müller shape on the energy-loss side
-    (:func:`evidence1d.physics.chain.muller_density`).  T > 0: S_T = A Φ_T(ω)/(1 − e^{−ω/k_BT})
+    T = 0: the model of :func:`evidence1d.physics.chain.two_spinon_sheets` on the
+    energy-loss side (the principal Müller sheet; for Δ > 1 also the π-shifted sheet and,
+    below q_κ, the line at the continuum bottom).  T > 0: S_T = A Φ_T(ω)/(1 − e^{−ω/k_BT})
     on both sides, with Φ_T the thermal Müller shape
     (:func:`evidence1d.physics.chain_thermal.thermal_shape`; S(−ω) = e^{−ω/k_BT} S(ω)).  The
     spectrum is convolved with the Gaussian resolution of width σ at each point (the edge

@@ -21,34 +21,42 @@ def _rho(x):
 def _brute(q, E, s, T, J, D):
     """Independent convolution of the model spectrum S = chi''(n + 1)/pi.
 
-    T = 0: the Müller shape on the loss side, fine Simpson rule in t = arccosh(w/wL).
-    T > 0: A Im[rho(x-) rho(x+)] / (tau (1 - exp(-w/kT))), x+- = (w +- wL)/tau,
-    tau = 4 pi kT (finite-temperature conformal form with weight 1/4; Schulz, PRB 34, 6372
-    (1986), from memory), on the signed axis |w| <= wT by adaptive quadrature (QUADPACK)."""
-    args = (np.array([q]), np.array([[J]]), np.array([[D]]))
-    wl, top = (a[0, 0] for a in chain.muller_edges(*args))
-    A = chain.muller_amplitude(*args)[0, 0]
-    if A == 0:
-        return 0.0
+    Each Müller sheet of chain.two_spinon_sheets (principal up to wT, pi-shifted up to b):
+    T = 0, the loss side by a fine Simpson rule in t = arccosh(w/wL); T > 0,
+    A Im[rho(x-) rho(x+)] / (tau (1 - exp(-w/kT))), x+- = (w +- wL)/tau, tau = 4 pi kT
+    (finite-temperature conformal form with weight 1/4; Schulz, PRB 34, 6372 (1986), from
+    memory) on the signed axis |w| <= top by adaptive quadrature (QUADPACK).  The bottom
+    line W delta(w - a) adds W [(n + 1) G(E - a) + n G(E + a)]."""
+    sh = {k: v[0, 0] for k, v in chain.two_spinon_sheets(np.array([q]), np.array([[J]]),
+                                                          np.array([[D]])).items()}
     g = lambda x: np.exp(-0.5 * (x / s) ** 2) / (np.sqrt(2 * np.pi) * s)
-    if T == 0:
-        t = np.linspace(0, np.arccosh(top / wl), 200001)
-        w = wl * np.cosh(t)
-        return A * integrate.simpson(g(E - w), x=t)
     kT = K_B_MEV * T
-    tau = 4 * np.pi * kT
+    total = 0.0
+    for top, A in ((sh["top"], sh["A"]), (sh["b"], sh["A_shifted"])):
+        wl = sh["lower"]
+        if A == 0:
+            continue
+        if T == 0:
+            t = np.linspace(0, np.arccosh(top / wl), 200001)
+            total += A * integrate.simpson(g(E - wl * np.cosh(t)), x=t)
+            continue
+        tau = 4 * np.pi * kT
 
-    def f(w):
-        w = w if abs(w) > 1e-9 * kT else 1e-9 * kT
-        phi = (_rho((w - wl) / tau) * _rho((w + wl) / tau)).imag / tau
-        return g(E - w) * phi / -np.expm1(-w / kT)
+        def f(w):
+            w = w if abs(w) > 1e-9 * kT else 1e-9 * kT
+            phi = (_rho((w - wl) / tau) * _rho((w + wl) / tau)).imag / tau
+            return g(E - w) * phi / -np.expm1(-w / kT)
 
-    lo, hi = max(E - 8 * s, -top), min(E + 8 * s, top)
-    if lo >= hi:
-        return 0.0
-    pts = [p for p in (-wl, 0.0, wl) if lo < p < hi]
-    return A * integrate.quad(f, lo, hi, points=pts or None, limit=400, epsabs=0,
-                              epsrel=1e-9)[0]
+        lo, hi = max(E - 8 * s, -top), min(E + 8 * s, top)
+        if lo < hi:
+            pts = [p for p in (-wl, 0.0, wl) if lo < p < hi]
+            total += A * integrate.quad(f, lo, hi, points=pts or None, limit=400, epsabs=0,
+                                        epsrel=1e-9)[0]
+    if sh["line_weight"] > 0:
+        a = sh["line_energy"]
+        n = 1 / np.expm1(a / kT) if T > 0 else 0.0
+        total += sh["line_weight"] * ((1 + n) * g(E - a) + n * g(E + a))
+    return total
 
 
 @pytest.mark.parametrize("delta", [0.0, 0.6, 1.0, 1.7])
@@ -69,16 +77,21 @@ def test_muller_sum_rules(q, delta):
     dens = lambda w: chain.muller_density(qa, np.array([w]), J, d)[0, 0]
     m1, _ = integrate.quad(lambda w: w * dens(w), wl, top, limit=200)
     m1_c = chain.continuum_first_moment(qa, J, d)[0, 0]
-    assert m1 == pytest.approx(m1_c, rel=1e-6)
     m0, _ = integrate.quad(dens, wl, top, limit=400)
     W = chain.muller_cumulative(qa, np.array([top * 2]), J, d)[0, 0]
     assert m0 == pytest.approx(W, rel=1e-5)
-    # per component: the summed shape carries M1^zz + 2 M1^xx, less 2 M1^xx(0) for Delta < 1
+    # the principal sheet carries alpha (1 - cos q), plus the pi-shifted sheet's
+    # beta (1 + cos q) where that lies inside it (|q| >= pi/2, Delta > 1); beta = M1^xx(0)
+    # (the double-commutator moments, Hohenberg & Brinkman 1974)
     m_xx, m_zz = (a[0, 0] for a in chain.first_moment_components(qa, J, d))
-    m_xx0 = chain.first_moment_components(np.array([0.0]), J, d)[0][0, 0]
-    assert m1_c == pytest.approx(m_zz + 2 * m_xx - (2 * m_xx0 if delta < 1 else 0.0),
-                                 rel=1e-12)
-    assert chain.first_moment(qa, J, d)[0, 0] == pytest.approx(m_zz + 2 * m_xx, rel=1e-12)
+    beta = chain.first_moment_components(np.array([0.0]), J, d)[0][0, 0]
+    total = m_zz + 2 * m_xx
+    m_shift = beta * (1 + np.cos(q)) if delta > 1 else 0.0
+    m_principal = total - beta * (1 + np.cos(q))
+    folded = m_shift if abs(q) >= np.pi / 2 else 0.0
+    assert m1 == pytest.approx(m_principal + folded, rel=1e-6)
+    assert m1_c == pytest.approx(m_principal + m_shift, rel=1e-10)
+    assert chain.first_moment(qa, J, d)[0, 0] == pytest.approx(total, rel=1e-12)
     if delta == 1.0:   # isotropic point: the classic -2 (1 - cos q) E0/N, nothing left out
         assert m1 == pytest.approx(-2 * (1 - np.cos(q)) * 1.3 * chain.xxz_ground_state_energy(
             delta), rel=1e-6)
@@ -91,7 +104,8 @@ def test_spectrum_matches_brute_force_convolution():
         J, D, q = rng.uniform(0.5, 8), rng.uniform(0, 3), rng.uniform(-4, 4)
         s = 10 ** rng.uniform(-2.5, 0) * J
         T = rng.choice([0.0, 2.0, 50.0])
-        top = chain.muller_edges(np.array([q]), np.array([[J]]), np.array([[D]]))[1][0, 0]
+        sh = chain.two_spinon_sheets(np.array([q]), np.array([[J]]), np.array([[D]]))
+        top = max(sh["top"][0, 0], sh["b"][0, 0], sh["line_energy"][0, 0])
         E = np.linspace(-top - 3 * s, top + 3 * s, 9)
         ref = np.array([_brute(q, e, s, T, J, D) for e in E])
         # cumulative: ~0.3 % at T = 0, ~2 % at T > 0 (trapezoid on the thermal edge)
@@ -188,7 +202,8 @@ def test_kernels_finite_over_prior(J, D, T, q, E, s):
 
 def _peaks(qu, s0, T, J, D):
     """Largest fine-reference S(q, E) per (set, q) over a dense energy grid, (n_sets, n_q)."""
-    _, top = chain.muller_edges(qu, J, D)
+    sh = chain.two_spinon_sheets(qu, J, D)
+    top = np.maximum(np.maximum(sh["top"], sh["b"]), sh["line_energy"])
     pk = np.zeros((J.shape[0], qu.size))
     for k in range(qu.size):
         Eg = np.linspace(-top[:, k].max() - 3 * s0, top[:, k].max() + 3 * s0, 1200)

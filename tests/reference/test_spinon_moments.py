@@ -159,17 +159,18 @@ def test_correlators_against_rings_and_finite_differences():
     np.testing.assert_allclose(czz, fd, rtol=0, atol=3e-8)
 
 
-@pytest.mark.parametrize("delta, lo, hi", [(0.0, 0.70, 1.0), (0.5, 0.88, 1.05),
+@pytest.mark.parametrize("delta, lo, hi", [(0.0, 0.78, 1.1), (0.5, 0.9, 1.08),
                                             (1.0, 0.88, 1.05)])
 def test_line_shape_weight_against_ring(delta, lo, hi):
-    # static S(q) = total weight of the Müller line shape against the 12-site ring for
+    # static S(q) = total weight of the model spectrum against the 12-site ring for
     # 0 < q < pi (q = pi itself is capped by the lower-edge floor).  Bands: measured ratios
-    # (Müller shape: an approximation, worst at the free-fermion point Delta = 0).  With the
-    # full transverse moment instead of continuum_first_moment the ratio at q = pi/6 would
-    # be 1.9 at Delta = 0 (S(q) ~ 1/q as q -> 0), which the last check shows.
+    # (0.80-1.07, 0.94-1.00, 0.90-1.04; Müller shape: an approximation, worst at the
+    # free-fermion point Delta = 0).  With the full moment of first_moment instead of
+    # continuum_first_moment the ratio at q = pi/6 would be 1.9 at Delta = 0 (S(q) ~ 1/q
+    # as q -> 0), which the last check shows.
     q, sxx, szz, _, _ = ring_moments(L_RING, delta)
     J, D = np.array([[1.0]]), np.array([[delta]])
-    W = chain.muller_cumulative(q, np.full(q.size, 1e3), J, D)[0]
+    W = chain.two_spinon_sheets(q, J, D)["weight"][0]
     ratio = (W / (2 * sxx + szz))[1:L_RING // 2]
     assert np.all((ratio > lo) & (ratio < hi)), ratio
     if delta == 0.0:
@@ -179,14 +180,18 @@ def test_line_shape_weight_against_ring(delta, lo, hi):
         assert full / (2 * sxx + szz)[1] > 1.5
 
 
-@pytest.mark.parametrize("delta", [0.5, 2.0])
+@pytest.mark.parametrize("delta", [0.5, 2.0, 3.0])
 def test_convolved_spectrum_first_moment(delta):
-    # the resolution-convolved T = 0 spectrum keeps the first moment of the line shape
-    # (a symmetric Gaussian does not move it), for both regimes; trapezoid on a fine grid
+    # the resolution-convolved T = 0 spectrum (both sheets and the bottom line for Delta > 1)
+    # keeps the first moment it is given (a symmetric Gaussian does not move it): the exact
+    # moment for Delta > 1 at every q, below and above q_kappa (0.60 at Delta = 2, 0.91 at 3)
     J, D = np.array([[1.7]]), np.array([[delta]])
-    for qv in (1.2, 2.5):
-        E = np.linspace(-1.0, 9.0, 20001)
+    for qv in (0.2, 0.75, 1.2, 2.5):
+        E = np.linspace(-1.0, 11.0, 24001)
         S = chain.spinon_spectrum(np.full(E.size, qv), E, np.full(E.size, 0.05), 0.0, J, D)[0]
         m1 = np.trapezoid(E * S, E)
-        assert m1 == pytest.approx(chain.continuum_first_moment(np.array([qv]), J, D)[0, 0],
-                                   rel=2e-4)
+        qa = np.array([qv])
+        want = chain.continuum_first_moment(qa, J, D)[0, 0]
+        assert m1 == pytest.approx(want, rel=2e-4)
+        if delta > 1:
+            assert want == pytest.approx(chain.first_moment(qa, J, D)[0, 0], rel=1e-12)
