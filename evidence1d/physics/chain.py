@@ -254,13 +254,14 @@ def _muller(q, J, delta):
     return _sheet(wl, top, m_p)
 
 
-def _extras(q, J, delta):
-    """π-shifted sheet (ω_L, b, A_s, weight) and bottom line (a, weight W), (n_sets, n)."""
+def _all_sheets(q, J, delta):
+    """Principal sheet (ω_L, ω_T, A, weight), π-shifted sheet (ω_L, b, A_s, weight) and the
+    bottom line (a, weight W), each (n_sets, n)."""
     wl, top, upper, m_p, m_s = _sheet_split(q, J, delta)
     shifted = _sheet(wl, upper, m_s)
     line = (delta > 1.0) & (top > 0) & (wl >= top)   # |q| < q_κ: principal sheet empty
     W = np.where(line, m_p / np.where(top > 0, top, 1.0), 0.0)
-    return shifted, (np.where(line, top, 0.0), W)
+    return _sheet(wl, top, m_p), shifted, (np.where(line, top, 0.0), W)
 
 
 def two_spinon_sheets(q, J, delta):
@@ -300,8 +301,7 @@ def two_spinon_sheets(q, J, delta):
     Bougourzi, Karbach & Müller, Phys. Rev. B 57, 11429 (1998) and Caux, Mossel & Pérez
     Castillo, J. Stat. Mech. P08006 (2008) (the two sheets; from memory).
     """
-    wl, top, A, total = _muller(q, J, delta)
-    (wl_s, b, A_s, total_s), (a, W) = _extras(q, J, delta)
+    (wl, top, A, total), (wl_s, b, A_s, total_s), (a, W) = _all_sheets(q, J, delta)
     return {"lower": np.where(wl > 0, wl, wl_s), "top": top, "A": A, "b": b,
             "A_shifted": A_s, "line_energy": a, "line_weight": W,
             "weight": total + total_s + W}

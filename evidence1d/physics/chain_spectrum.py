@@ -45,7 +45,7 @@ from scipy import special
 
 from ..errors import InputError
 from ..units import K_B_MEV
-from .chain import _extras, _muller, _reduced_phase
+from .chain import _all_sheets, _reduced_phase
 from .chain_thermal import convolve_thermal
 from .neutron import convolve_cumulative, gauss_hermite
 
@@ -211,8 +211,7 @@ def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth):
         q_unique, inverse = np.unique(qr, return_inverse=True)
     else:
         q_unique, inverse = qr, None
-    wl, top, A, _ = _muller(q_unique, J, delta)
-    (wl_s, b, A_s, _), (a, W) = _extras(q_unique, J, delta)
+    (wl, top, A, _), (wl_s, b, A_s, _), (a, W) = _all_sheets(q_unique, J, delta)
     parts = [wl, top, A, wl_s, b, A_s, a, W]
     if inverse is not None:
         parts = [np.take(p, inverse, axis=-1) for p in parts]
