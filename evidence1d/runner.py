@@ -88,6 +88,8 @@ class RunResults:
     budget : dict or None
         The evidence budget (:func:`evidence1d.analysis.evidence_budget`), or None when it
         was not computed (``budget=False``, one dataset, or a note why under ``"skipped"``).
+    sensitivity : dict or None
+        Prior sensitivity of ln K and P(1D) (:func:`evidence1d.analysis.prior_sensitivity`).
     """
 
     models: dict
@@ -99,6 +101,7 @@ class RunResults:
     provenance: dict = field(default_factory=dict)
     case_path: Path | None = None
     budget: dict | None = None
+    sensitivity: dict | None = None
 
 
 def effective_settings(case, quick: bool = False) -> dict:
@@ -241,6 +244,20 @@ def _budget_labels(case, problem) -> list:
     pos = {ds.name: i for i, ds in enumerate(case.datasets)}
     return sorted(problem.term_sizes(), key=lambda lab: min(pos.get(d, 0)
                                                            for d in lab.split("+")))
+
+
+def _sensitivity(case, results) -> dict:
+    """Prior sensitivity from the final tempered populations (no likelihood calls)."""
+    from .analysis.sensitivity import prior_sensitivity
+    models = {}
+    for n, r in results.items():
+        pb = case.problem(n)
+        priors = {p: pb.prior.priors[pb.prior.names.index(p)] for p in pb.names
+                  if p in pb.card.parameters}
+        models[n] = {"log_z": r.evidence.log_z, "log_z_err": r.evidence.log_z_err,
+                     "one_dimensional": r.one_dimensional, "names": list(r.evidence.names),
+                     "samples": r.evidence.posterior_samples, "priors": priors}
+    return prior_sensitivity(models, prior_odds=case.prior_odds)
 
 
 def _subset_job(case, name, labels, seed, options):
@@ -512,10 +529,11 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
                 + ", ".join(f"{r['dataset']} {r['ln_k_without']:.2f}"
                             for r in budget_doc["leave_one_out"])
                 + f" against {budget_doc['ln_k']:.2f} ({time.time() - t_b:.1f} s)")
+    sensitivity = _sensitivity(case, results)
     prov = provenance(case, seed=seed, start=t0, run_time=time.time() - t0, settings=settings)
     res = RunResults(models=results, comparison=comparison, reliable=reliable, out=out,
                      seed=seed, settings=settings, provenance=prov, case_path=case.path,
-                     budget=budget_doc)
+                     budget=budget_doc, sensitivity=sensitivity)
     log(f"verdict: {comparison.verdict}")
     if write:
         from .report import write_report

@@ -250,6 +250,36 @@ def _budget(s) -> list:
     return out
 
 
+def _sensitivity(s) -> list:
+    ps = s["comparison"]["prior_sensitivity"]
+    if not ps or not ps["rows"]:
+        return []
+    a, b = ps["families"]
+    rows = []
+    for r in ps["rows"]:
+        if r["ln_k"] is None:
+            rows.append([f"`{r['parameter']}`", r["change"], "—", "—", r["note"]])
+        else:
+            rows.append([f"`{r['parameter']}`", r["change"],
+                         f"{r['ln_k']:.2f} ± {_f(r['ln_k_err'])}",
+                         f"{r['p_one_dimensional']:.3g}", ""])
+    done = [r for r in ps["rows"] if r["ln_k"] is not None]
+    span = ""
+    if done:
+        lo = min(r["ln_k"] for r in done)
+        hi = max(r["ln_k"] for r in done)
+        span = (f" Over the reweighted rows ln K stays within [{lo:.2f}, {hi:.2f}] nats "
+                f"(declared priors: {ps['ln_k']:.2f}).")
+    out = ["### Prior sensitivity", "",
+           f"ln K of `{a}` over `{b}` and P(1D | data) with each physical prior halved and "
+           "doubled in width (about its centre; from 0 when the prior starts at 0; in ln θ "
+           "for a log-uniform prior) and log-uniform swapped for uniform or back, changed in "
+           "every family that has the parameter. Method: " + ps["method"] + "." + span, ""]
+    out += _table(["parameter", "prior change", "ln K (nats)", "P(1D | data)", "note"],
+                  rows)
+    return out
+
+
 def _parameters(s) -> list:
     out = ["## Parameters", "", "Posterior medians with the central 68 % interval "
            "(16 % and 84 % quantiles); the width ratio is the posterior 68 % width over the "
@@ -513,10 +543,10 @@ def _referee(s, ctx, smc) -> list:
             "priors scaled to the data). The Bayesian evidence of each family was computed "
             + ("by adaptive-tempering sequential Monte Carlo" if smc else "as stated above")
             + f", with {c['prior_odds']}. Robustness checks done: " + "; ".join(checks)
-            + ". Prior sensitivity of ln Z was not re-run here; widening the physical priors "
-            "by a factor of two and repeating the run is the usual check (for a parameter the "
-            "data constrain well, ln Z then falls by about ln 2, the Occam factor, while the "
-            "posterior stays put).")
+            + ". Prior sensitivity: every physical prior was halved and doubled in width (and "
+            "log-uniform swapped for uniform where it applies) by reweighting the tempered "
+            "populations; see the prior-sensitivity table for the resulting ln K and P(1D) "
+            "and for the changes that would need a re-run.")
     return ["## For a referee response", "", "A paragraph to adapt:", "", "> " + text, ""]
 
 
@@ -550,7 +580,7 @@ def render_markdown(summary: dict, context: dict) -> str:
         out += [f"> **BAD FIT**: {w}.", ""]
     out += [f"**Verdict** ({c['strength']}): {c['verdict']}", ""]
     out += _reliability(s) + _fit(s) + _bounds_alert(s)
-    out += _comparison(s) + _budget(s) + _parameters(s) + _diagnostics(s)
+    out += _comparison(s) + _budget(s) + _sensitivity(s) + _parameters(s) + _diagnostics(s)
     out += _constraints(s, context)
     out += _cards(s, context)
     methods, smc = _methods(s, context)

@@ -300,6 +300,32 @@ SUMMARY_FIELDS = (
     _F(f"{_C}.evidence_budget.warnings", "array[string]", "", "warnings of the subset runs"),
     _F(f"{_C}.evidence_budget_note", "string", "", "why the budget was not computed",
        required=False),
+    _F(f"{_C}.prior_sensitivity", "object|null", "", "ln K and P(1D) with each physical prior "
+       "halved and doubled in width, and log-uniform swapped for uniform or back"),
+    _F(f"{_C}.prior_sensitivity.families", "array[string]", "", "the winner and the "
+       "runner-up whose ln K is given"),
+    _F(f"{_C}.prior_sensitivity.ln_k", "number", "nats", "ln K with the declared priors"),
+    _F(f"{_C}.prior_sensitivity.p_one_dimensional", "number", "", "P(1D | data) with the "
+       "declared priors"),
+    _F(f"{_C}.prior_sensitivity.method", "string", "", "how the changed evidences were "
+       "obtained"),
+    _F(f"{_C}.prior_sensitivity.rows", "array[object]", "", "one row per parameter and "
+       "change"),
+    _F(f"{_C}.prior_sensitivity.rows[].parameter", "string", "", "the physical parameter "
+       "(changed in every family that has it)"),
+    _F(f"{_C}.prior_sensitivity.rows[].change", "string", "", "'width × 0.5', 'width × 2', "
+       "'uniform' or 'log-uniform'"),
+    _F(f"{_C}.prior_sensitivity.rows[].families", "array[string]", "", "families whose prior "
+       "changed"),
+    _F(f"{_C}.prior_sensitivity.rows[].method", "string", "", "'reweighting' or 'needs a "
+       "re-run' (no number then)"),
+    _F(f"{_C}.prior_sensitivity.rows[].ln_k", "number|null", "nats", "ln K with the changed "
+       "prior"),
+    _F(f"{_C}.prior_sensitivity.rows[].ln_k_err", "number|null", "nats", "its error"),
+    _F(f"{_C}.prior_sensitivity.rows[].p_one_dimensional", "number|null", "", "P(1D | data) "
+       "with the changed prior"),
+    _F(f"{_C}.prior_sensitivity.rows[].note", "string", "", "why a row could not be "
+       "reweighted"),
     _F("provenance", "object", "", "what produced these numbers"),
     _F("provenance.versions", "mapping[string|null]", "", "versions of evidence1d, its "
        "dependencies and Python"),

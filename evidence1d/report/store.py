@@ -219,6 +219,7 @@ def save_results(results, case_file: Path) -> None:
            "seed": int(results.seed), "settings": dict(results.settings),
            "reliable": bool(results.reliable), "provenance": dict(results.provenance),
            "comparison": results.comparison.to_dict(), "budget": results.budget,
+           "sensitivity": results.sensitivity,
            "models": {}}
     for name, mr in results.models.items():
         ev, post = mr.evidence, mr.posterior
@@ -392,7 +393,7 @@ def load_results(out):
     return RunResults(models=models, comparison=cmp_, reliable=doc["reliable"], out=out,
                       seed=doc["seed"], settings=doc["settings"],
                       provenance=doc["provenance"], case_path=out / doc["case_file"],
-                      budget=doc["budget"])
+                      budget=doc["budget"], sensitivity=doc["sensitivity"])
 
 
 def export_samples(results) -> list:

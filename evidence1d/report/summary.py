@@ -312,7 +312,7 @@ def _one_dimensional_block(cmp_, models) -> dict:
             "p_with_nested_limits": float(p), "p_with_nested_limits_err": float(err)}
 
 
-def _comparison_block(cmp_, models, budget) -> dict:
+def _comparison_block(cmp_, models, budget, sensitivity=None) -> dict:
     order = sorted(cmp_.names, key=lambda n: -cmp_.log_z[n])
     strength = next(p.wording for p in cmp_.pairs if {p.a, p.b} == set(order[:2]))
     rel = dict(cmp_.reliability)
@@ -329,7 +329,8 @@ def _comparison_block(cmp_, models, budget) -> dict:
            "reliability": rel,
            "winner_fit_warnings": _fit_warnings(
                cmp_.best, models[cmp_.best].analysis["goodness_of_fit"]),
-           "evidence_budget": None}
+           "evidence_budget": None,
+           "prior_sensitivity": None if sensitivity is None else dict(sensitivity)}
     if budget is not None and "skipped" in budget:
         out["evidence_budget_note"] = "not computed: " + budget["skipped"]
     elif budget is not None:
@@ -362,7 +363,7 @@ def build_summary(results, case) -> dict:
     doc = {"schema_version": SCHEMA_VERSION, "title": case.title,
            "reliable": bool(results.reliable), "models": models,
            "comparison": _comparison_block(results.comparison, results.models,
-                                           results.budget),
+                                           results.budget, results.sensitivity),
            "provenance": dict(results.provenance)}
     return json_ready(doc)
 

@@ -118,3 +118,19 @@ def test_methods_text_follows_what_ran(summary, context):
         m["move"] == "population" for m in s0["moves"])
     assert re.search(r"independence proposals", _methods(base)) or not any(
         m["move"] == "population" for m in s0["moves"])
+
+
+def test_prior_sensitivity_table(run_dir, summary):
+    out, _ = run_dir
+    ps = summary["comparison"]["prior_sensitivity"]
+    assert ps["families"] == sorted(summary["models"], key=lambda n: -summary["models"][n][
+        "log_evidence"])[:2]
+    physical = {p for m in summary["models"].values() for p, v in m["parameters"].items()
+                if v["role"] == "physical"}
+    assert {r["parameter"] for r in ps["rows"]} <= physical
+    for r in ps["rows"]:
+        assert (r["ln_k"] is None) is (r["method"] == "needs a re-run")
+        assert (r["method"] == "needs a re-run") is bool(r["note"])
+    text = (out / "report.md").read_text(encoding="utf-8")
+    assert "### Prior sensitivity" in text
+    assert "Prior sensitivity: every physical prior" in text.split("## For a referee")[1]

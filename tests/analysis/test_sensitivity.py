@@ -1,0 +1,95 @@
+"""Prior sensitivity by reweighting, against the exact evidence of a Gaussian likelihood
+under uniform and log-uniform priors (closed form and independent quadrature)."""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from scipy import integrate, stats
+
+from evidence1d.analysis.sensitivity import (prior_sensitivity, prior_variants,
+                                             reweighted_log_z)
+from evidence1d.inference.priors import LogUniform, Normal, Uniform
+
+S = 0.1          # posterior sd of μ: n = 100 points of unit error (s = σ/√n)
+
+
+def _log_z(prior, ybar, s=S):
+    """ln ∫ N(μ; ȳ, s²) π(μ) dμ (the likelihood up to a constant that cancels in every
+    difference): closed form for a uniform prior (Φ differences), adaptive quadrature
+    otherwise."""
+    lo, hi = prior.support
+    if isinstance(prior, Uniform):
+        mass = stats.norm.cdf((hi - ybar) / s) - stats.norm.cdf((lo - ybar) / s)
+        return math.log(mass / (hi - lo))
+    f = lambda m: stats.norm.pdf(m, ybar, s) * math.exp(prior.log_pdf(np.array([m]))[0])  # noqa: E731
+    return math.log(integrate.quad(f, max(lo, ybar - 12 * s), min(hi, ybar + 12 * s),
+                                   points=[ybar])[0])
+
+
+def _posterior(rng, prior, ybar, n=40_000):
+    """Exact posterior draws ∝ N(μ; ȳ, s²) π(μ) by rejection from the truncated normal."""
+    lo, hi = prior.support
+    a, b = (lo - ybar) / S, (hi - ybar) / S
+    x = stats.truncnorm(a, b, loc=ybar, scale=S).rvs(size=4 * n, random_state=rng)
+    if isinstance(prior, LogUniform):              # accept with probability ∝ 1/μ
+        x = x[rng.random(x.size) < lo / x]
+    return x[:n]
+
+
+@pytest.mark.parametrize("prior, ybar", [(Uniform(0.0, 8.0), 2.0), (Uniform(1.0, 9.0), 4.0),
+                                         (LogUniform(0.5, 50.0), 3.0)])
+def test_reweighting_against_exact_evidences(rng, prior, ybar):
+    x = _posterior(rng, prior, ybar)
+    base = _log_z(prior, ybar)
+    for label, new, widens, moved in prior_variants(prior):
+        rw = reweighted_log_z(x, prior, new, widens, moved)
+        assert rw["valid"], (label, rw["why"])
+        exact = _log_z(new, ybar) - base
+        assert abs(rw["delta_ln_z"] - exact) < 5 * rw["err"] + 1e-3, (label, rw, exact)
+
+
+def test_widths_of_the_variants():
+    v = {lab: new for lab, new, _, _ in prior_variants(Uniform(0.0, 3.0))}
+    assert v["width × 0.5"] == Uniform(0.0, 1.5) and v["width × 2"] == Uniform(0.0, 6.0)
+    v = {lab: new for lab, new, _, _ in prior_variants(Uniform(1.0, 3.0))}
+    assert v["width × 2"] == Uniform(0.0, 4.0) and v["log-uniform"] == LogUniform(1.0, 3.0)
+    v = {lab: new for lab, new, _, _ in prior_variants(LogUniform(0.1, 10.0))}
+    assert v["width × 2"].lower == pytest.approx(0.01) and v["uniform"] == Uniform(0.1, 10.0)
+    v = {lab: new for lab, new, _, _ in prior_variants(Normal(2.1, 0.1))}
+    assert v["width × 2"] == Normal(2.1, 0.2)
+
+
+def test_widening_at_a_bound_the_posterior_touches_needs_a_re_run(rng):
+    prior = Uniform(0.0, 8.0)
+    x = _posterior(rng, prior, 7.95)
+    doubled = [v for v in prior_variants(prior) if v[0] == "width × 2"][0]
+    rw = reweighted_log_z(x, prior, doubled[1], doubled[2], doubled[3])
+    assert not rw["valid"] and rw["delta_ln_z"] is None and "moves out" in rw["why"]
+
+
+def test_ln_k_follows_the_occam_factor(rng):
+    # "a" and "b" share μ (same prior, same posterior): changing it moves both ln Z alike
+    # and leaves ln K; "b" also has c, well constrained inside uniform [0, 4]: doubling its
+    # width lowers ln Z_b by ln 2, raising ln K by ln 2 (Occam factor; Kass & Raftery 1995)
+    mu = _posterior(rng, Uniform(0.0, 8.0), 2.0)
+    c = _posterior(rng, Uniform(0.0, 4.0), 1.5)
+    models = {
+        "a": {"log_z": 0.0, "log_z_err": 0.1, "one_dimensional": True, "names": ["mu"],
+              "samples": mu[:, None], "priors": {"mu": Uniform(0.0, 8.0)}},
+        "b": {"log_z": -1.0, "log_z_err": 0.1, "one_dimensional": False,
+              "names": ["mu", "c"], "samples": np.column_stack([mu, c]),
+              "priors": {"mu": Uniform(0.0, 8.0), "c": Uniform(0.0, 4.0)}}}
+    out = prior_sensitivity(models)
+    assert out["families"] == ["a", "b"] and out["ln_k"] == pytest.approx(1.0)
+    rows = {(r["parameter"], r["change"]): r for r in out["rows"]}
+    for change in ("width × 0.5", "width × 2"):
+        r = rows[("mu", change)]
+        assert r["families"] == ["a", "b"] and r["method"] == "reweighting"
+        assert r["ln_k"] == pytest.approx(1.0, abs=1e-12)
+    r = rows[("c", "width × 2")]
+    assert r["ln_k"] == pytest.approx(1.0 + math.log(2.0), abs=0.01)
+    p1 = 1 / (1 + math.exp(-1.0 - math.log(2.0)))        # equal prior odds
+    assert r["p_one_dimensional"] == pytest.approx(p1, abs=0.005)
+    assert rows[("c", "width × 0.5")]["ln_k"] == pytest.approx(1.0 - math.log(2.0), abs=0.01)
