@@ -94,6 +94,13 @@ def check_png(path, widths=(3.4, 7.0)):
         assert any(abs(width_in - w) < 0.01 for w in widths), width_in
 
 
+@pytest.fixture(autouse=True)
+def _close_figures():
+    yield
+    import matplotlib.pyplot as plt
+    plt.close("all")
+
+
 @pytest.fixture(scope="module")
 def stored(run_dir):
     out, _ = run_dir

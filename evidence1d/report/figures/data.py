@@ -111,11 +111,11 @@ def _limits(s, support):
     lo, hi = float(np.min(s)), float(np.max(s))
     span = hi - lo if hi > lo else 1e-3 * max(abs(lo), 1.0)
     a, b = lo - 0.08 * span, hi + 0.08 * span
-    pl, ph = support
-    if math.isfinite(pl) and pl > a - 0.35 * span:
-        a = min(a, pl - 0.04 * span) if pl < lo else pl - 0.04 * span
-    if math.isfinite(ph) and ph < b + 0.35 * span:
-        b = max(b, ph + 0.04 * span) if ph > hi else ph + 0.04 * span
+    pl, ph = support                     # a prior bound close by is shown
+    if math.isfinite(pl) and a - 0.35 * span < pl <= lo:
+        a = min(a, pl - 0.04 * span)
+    if math.isfinite(ph) and hi <= ph < b + 0.35 * span:
+        b = max(b, ph + 0.04 * span)
     return a, b
 
 
