@@ -61,8 +61,14 @@ _RESOLUTION = Spec({"fwhm": Field(as_float_list, required=True,
                                     help="momentum-resolution FWHM [along the chain, across "
                                          "it] in the dataset's wavevector unit")},
                    what="resolution")
-_POWDER = Spec({"n_theta": Field(as_positive_int, default=16),
-                "n_phi": Field(as_positive_int, default=4)}, what="powder_average")
+_POWDER = Spec({"tolerance": Field(as_positive_float, default=None,
+                                   help="relative accuracy of the average (default 0.01)"),
+                "phase_step": Field(as_positive_float, default=None,
+                                    help="largest phase step of the first direction grid in "
+                                         "rad (default 1.5)"),
+                "max_grid": Field(as_positive_int, default=None,
+                                  help="largest number of θ and of φ intervals (default 64)")},
+               what="powder_average")
 
 _DATASET = Spec({
     "name": Field(as_str, default=None, help="dataset name (default: file name)"),
@@ -381,6 +387,12 @@ def load_case(path) -> Case:
             if b["powder_average"] is not None:
                 b["powder_average"] = check_mapping(b["powder_average"], _POWDER,
                                                     f"{where}.powder_average", doc)
+                from .physics.powder import PowderSettings
+                try:
+                    PowderSettings(**{k: v for k, v in b["powder_average"].items()
+                                      if v is not None})
+                except InputError as exc:
+                    raise doc.error(exc.message, f"{where}.powder_average") from None
         fpath = _resolve(base, b["file"])
         name = b["name"] or Path(b["file"]).stem
         if not name.replace("_", "").replace("-", "").isalnum():

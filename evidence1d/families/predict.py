@@ -28,7 +28,7 @@ import numpy as np
 from ..data import Dataset
 from .base import Family, SpectralPoints
 
-__all__ = ["DatasetPredictor", "SAMPLE_EXTRAS"]
+__all__ = ["DatasetPredictor", "PowderAverage", "SAMPLE_EXTRAS"]
 
 #: sample-level extra parameters: name -> (unit, description, dataset kind that uses it)
 SAMPLE_EXTRAS = {
@@ -118,6 +118,7 @@ class DatasetPredictor:
         opt = dataset.options
         name = dataset.name
         self.nuisance, self.extras = [], []
+        self._powder = None
         if dataset.kind in ("crystal_spectrum", "powder_spectrum"):
             from ..physics import neutron
             self.nuisance.append(f"{name}:scale")
@@ -143,21 +144,10 @@ class DatasetPredictor:
                                            sigma_Q_par=sq_par, sigma_Q_perp=sq_perp)
                 self._ndir = 1
             else:
-                pa = opt.get("powder_average") or {}
-                u, w = neutron.powder_directions(n_theta=pa.get("n_theta", 16),
-                                                 n_phi=pa.get("n_phi", 4))
-                Q = dataset.x["Q"]
-                self._Q = Q
-                self._ndir = len(w)
-                self._wdir = w
-                Qv = Q[:, None, None] * u[None, :, :]      # (n, n_dir, 3)
-                rep = lambda a: np.repeat(a, len(w))       # noqa: E731
-                self._pts = SpectralPoints(Q_par=Qv[..., 0].ravel(), Q_a=Qv[..., 1].ravel(),
-                                           Q_b=Qv[..., 2].ravel(), d=sample.spin_spacing,
-                                           a_perp=sample.lattice["a"],
-                                           b_perp=sample.lattice["b"], energy=rep(E),
-                                           sigma=rep(self._sigma),
-                                           temperature=float(opt["temperature"]))
+                self._Q = dataset.x["Q"]
+                self._powder = PowderAverage(family, self._Q, E, self._sigma,
+                                             float(opt["temperature"]), sample,
+                                             opt.get("powder_average"))
             self._elastic_shape = neutron.elastic_line(E, self._sigma)
         elif dataset.kind == "susceptibility":
             if opt.get("chi0", True):
@@ -264,13 +254,13 @@ class DatasetPredictor:
         if ds.kind in ("crystal_spectrum", "powder_spectrum"):
             from ..physics import neutron
             g = p.get("g", 2.0)
-            if self._pts.has_q_resolution and not fam.handles_q_resolution:
+            if self._powder is not None:
+                S = self._powder.average(p)
+            elif self._pts.has_q_resolution and not fam.handles_q_resolution:
                 from .qresolution import q_averaged_spectrum
                 S = q_averaged_spectrum(fam, p, self._pts)
             else:
                 S = fam.spectrum(p, self._pts)
-            if self._ndir > 1:
-                S = (S.reshape(S.shape[0], -1, self._ndir) * self._wdir).sum(axis=-1)
             F = neutron.magnetic_form_factor(self._Q, self.sample.ion, self.sample.charge, g)
             return F ** 2 * S
         T = ds.x["T"]
@@ -319,3 +309,105 @@ class DatasetPredictor:
                 m = m + p["beta_lattice"] * T ** 3
             return m
         return m
+
+
+# ------------------------------------------------------------------------ powder average
+def _rows(p: dict, rows, k: int) -> dict:
+    """The parameter sets ``rows`` of a batch ``p`` of ``k`` sets."""
+    return {n: (np.asarray(v)[rows] if np.ndim(v) and np.shape(v)[0] == k else v)
+            for n, v in p.items()}
+
+
+def _batch_size(p: dict) -> int:
+    return max([np.shape(v)[0] for v in p.values() if np.ndim(v)] or [1])
+
+
+class PowderAverage:
+    """The powder average of a family's spectrum at a dataset's (|Q|, E) points.
+
+    A family with ``chain_only`` true gets the exact one-dimensional average over the chain
+    phase (:func:`evidence1d.physics.powder.adaptive_chain_average`, one grid per energy
+    for every |Q|); any other family the adaptive sphere average
+    (:func:`evidence1d.physics.powder.adaptive_sphere_average`), with the interchain
+    phases along the sample's interchain lattice vectors.  Both are refined until the
+    tolerance of ``options`` (the case file's ``powder_average`` block) is met.
+
+    Parameters
+    ----------
+    family : Family
+    Q, E, sigma : ndarray, shape (n,)
+        |Q| in Å⁻¹, energy and resolution σ in meV of every point.
+    temperature : float
+        Sample temperature in K.
+    sample : Sample
+        Spin spacing and interchain geometry.
+    options : dict, optional
+        ``tolerance``, ``phase_step``, ``max_grid`` (see
+        :class:`evidence1d.physics.powder.PowderSettings`).
+
+    References
+    ----------
+    G. L. Squires, Introduction to the Theory of Thermal Neutron Scattering (CUP, 1978),
+    Ch. 7 (powder average of the magnetic cross-section).
+    """
+
+    def __init__(self, family: Family, Q, E, sigma, temperature: float, sample,
+                 options=None):
+        from ..physics.powder import PowderSettings
+        self.settings = PowderSettings(**{k: v for k, v in (options or {}).items()
+                                          if v is not None})
+        self.family = family
+        self.Q = np.asarray(Q, dtype=float)
+        self.E = np.asarray(E, dtype=float)
+        self.sigma = np.asarray(sigma, dtype=float)
+        self.temperature = float(temperature)
+        self.d = float(sample.spin_spacing)
+        self.chain_only = bool(getattr(family, "chain_only", False))
+        geo = getattr(sample, "geometry", None)
+        if geo is None or geo.is_default:
+            R = np.array([[sample.lattice["a"], 0.0], [0.0, sample.lattice["b"]]])
+        else:
+            R = np.asarray(geo.interchain_vectors(), dtype=float)
+        self.a_perp, self.b_perp = float(np.hypot(*R[0])), float(np.hypot(*R[1]))
+        # frame across the chain with its first axis along R₁: Q_b = Q⊥·R̂₂
+        self._cos = float(R[0] @ R[1]) / (self.a_perp * self.b_perp)
+        self._sin = float(np.sqrt(max(1.0 - self._cos ** 2, 0.0)))
+        self.mirror = abs(self._cos) < 1e-9
+        keys, inverse = np.unique(np.stack([self.E, self.sigma], axis=1), axis=0,
+                                  return_inverse=True)
+        self._E_group, self._sigma_group = keys[:, 0], keys[:, 1]
+        self._group = np.asarray(inverse).ravel()
+
+    def _points(self, Q_par, Q1, Q2, E, sigma) -> SpectralPoints:
+        return SpectralPoints(Q_par=Q_par, Q_a=Q1, Q_b=self._cos * Q1 + self._sin * Q2,
+                              d=self.d, a_perp=self.a_perp, b_perp=self.b_perp, energy=E,
+                              sigma=sigma, temperature=self.temperature)
+
+    def average(self, p: dict, details: bool = False):
+        """⟨S⟩ over the directions of Q at every point, shape (n_sets, n), in 1/meV.
+
+        With ``details`` also the grid each (set, point) converged on: the chain grid n
+        (``chain_only``) or the number of directions, negative where the largest grid was
+        reached before convergence.
+        """
+        from ..physics import powder
+        fam, k = self.family, _batch_size(p)
+        if self.chain_only:
+            def evaluate(rows, q, g):
+                zero = np.zeros_like(q)
+                return fam.spectrum(_rows(p, rows, k),
+                                    self._points(q / self.d, zero, zero, self._E_group[g],
+                                                 self._sigma_group[g]))
+            avg, grid = powder.adaptive_chain_average(
+                evaluate, self.Q * self.d, self._group, self._E_group.size, k, self.settings)
+            grid = np.take(grid, self._group, axis=1)
+        else:
+            def evaluate(row, u, i):
+                Qv = self.Q[i][:, None] * u
+                return fam.spectrum(_rows(p, [row], k),
+                                    self._points(Qv[:, 0], Qv[:, 1], Qv[:, 2], self.E[i],
+                                                 self.sigma[i]))
+            avg, grid = powder.adaptive_sphere_average(
+                evaluate, self.Q, (self.d, self.a_perp, self.b_perp), k, self.settings,
+                mirror=self.mirror)
+        return (avg, grid) if details else avg

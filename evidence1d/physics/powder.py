@@ -1,0 +1,537 @@
+"""Powder average of a neutron spectrum over the directions of Q, converged to a tolerance.
+
+A powder measures, at each |Q| and energy E, the average of S(Q, E) over the directions of Q
+on the sphere of radius |Q|.  Two schemes, both adaptive and both driven by a callback that
+evaluates the spectrum of a batch of parameter sets at chosen points:
+
+chain phase only   a spectrum that depends on Q only through the chain phase q = Q_∥ d
+                   (2π-periodic and even in q) has the exact one-dimensional average
+                   ⟨S⟩(|Q|, E) = (1/x) ∫_0^x S(q, E) dq, x = |Q| d (isotropic directions:
+                   Q_∥ = |Q| cos θ with cos θ uniform).  S is sampled on q_j = π j / n,
+                   j = 0..n, once per energy; its cosine series S = Σ_m a_m cos(m q) (the
+                   trigonometric interpolant, a discrete cosine transform) integrates in
+                   closed form: ⟨S⟩(x) = a_0 + Σ_{m ≥ 1} a_m sin(m x) / (m x).  a_0 is the
+                   zone average (whole zones), the rest the remainder; one set of nodes
+                   serves every |Q| of that energy.  n doubles (the nodes are nested)
+                   until two successive levels agree.
+three dimensions   Clenshaw–Curtis in cos θ (θ from the chain axis; nodes uniform in θ)
+                   times the trapezoidal rule in φ (exact for trigonometric polynomials of
+                   degree < n_φ); the φ-average over a set closed under φ → φ + π is an even,
+                   smooth function of θ, so both rules converge spectrally.  Both node sets
+                   nest under doubling; the error indicators are the changes from halving
+                   each, and each parameter set refines the direction that needs it until
+                   every point agrees to the tolerance.
+
+Convergence test (both schemes): a point is converged when its last change is at most
+``tol`` × (|value| + ``floor`` × max over the dataset of |value|) for that parameter set.
+Each parameter set is refined on its own, so a set's result does not depend on the other
+sets of the batch.
+
+Units: wavevectors in Å⁻¹, spacings in Å, phases in radians; the spectrum's own units are
+kept (1/meV for S).
+
+References
+----------
+L. N. Trefethen, *Spectral Methods in MATLAB* (SIAM, 2000), Ch. 12 (Clenshaw–Curtis weights);
+L. N. Trefethen, "Is Gauss quadrature better than Clenshaw–Curtis?", SIAM Rev. 50, 67 (2008).
+L. N. Trefethen & J. A. C. Weideman, "The exponentially convergent trapezoidal rule",
+SIAM Rev. 56, 385 (2014) (trapezoidal rule for periodic functions).
+C. W. Clenshaw & A. R. Curtis, Numer. Math. 2, 197 (1960).
+G. L. Squires, *Introduction to the Theory of Thermal Neutron Scattering* (CUP, 1978),
+Ch. 7 (powder average of the magnetic cross-section).
+"""
+from __future__ import annotations
+
+import functools
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import fft
+
+from ..errors import InputError
+
+__all__ = ["PowderSettings", "clenshaw_curtis", "sphere_rule", "cosine_coefficients",
+           "chain_average", "adaptive_chain_average", "adaptive_sphere_average"]
+
+
+@dataclass(frozen=True)
+class PowderSettings:
+    """Accuracy settings of the powder average (the case file's ``powder_average`` block).
+
+    Attributes
+    ----------
+    tolerance : float
+        A point is converged when its change between two nested levels is at most
+        ``tolerance`` × (|value| + ``floor`` × the largest |value| of the dataset).
+    floor : float
+        Fraction of the dataset's largest value below which points are judged on that
+        absolute scale (dimensionless).
+    phase_step : float
+        Largest phase step in rad between neighbouring directions of the first grid of the
+        sphere average, along every lattice direction (|Q| × spacing × angle step): a
+        feature of the spectrum narrower than about this many radians of phase can be
+        missed by the first two grids.
+    max_grid : int
+        Largest number of intervals in θ and in φ over the symmetric part of the sphere.
+    chain_nodes : tuple of int
+        Smallest and largest n of the chain-phase grid q_j = π j / n (powers of two).
+    """
+
+    tolerance: float = 1e-2
+    floor: float = 1e-2
+    phase_step: float = 1.5
+    max_grid: int = 64
+    chain_nodes: tuple = (32, 8192)
+
+    def __post_init__(self):
+        for name in ("tolerance", "floor"):
+            v = getattr(self, name)
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 < v < 1:
+                raise InputError(f"powder_average: '{name}' must be a number in (0, 1); "
+                                 f"got {v!r}")
+        v = self.phase_step
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 < v <= 2 * np.pi:
+            raise InputError(f"powder_average: 'phase_step' must be a number in (0, 2π] "
+                             f"(radians); got {v!r}")
+        v = self.max_grid
+        if isinstance(v, bool) or not isinstance(v, (int, np.integer)) or not 2 <= v <= 4096:
+            raise InputError(f"powder_average: 'max_grid' must be an integer from 2 to "
+                             f"4096; got {v!r}")
+        lo, hi = self.chain_nodes
+        for v in (lo, hi):
+            if isinstance(v, bool) or not isinstance(v, (int, np.integer)) or v < 4 \
+                    or v & (v - 1):
+                raise InputError(f"powder_average: the chain grid limits must be powers of "
+                                 f"two >= 4; got {v!r}")
+        if lo > hi:
+            raise InputError(f"powder_average: the chain grid lower limit {lo} exceeds the "
+                             f"upper limit {hi}")
+
+
+# --------------------------------------------------------------------------- fixed rules
+@functools.lru_cache(maxsize=32)
+def _cc_weights(n: int) -> np.ndarray:
+    theta = np.pi * np.arange(n + 1) / n
+    w = np.zeros(n + 1)
+    v = np.ones(n - 1)
+    inner = theta[1:-1]
+    if n % 2 == 0:
+        w[0] = w[n] = 1.0 / (n * n - 1)
+        for k in range(1, n // 2):
+            v -= 2.0 * np.cos(2 * k * inner) / (4 * k * k - 1)
+        v -= np.cos(n * inner) / (n * n - 1)
+    else:
+        w[0] = w[n] = 1.0 / (n * n)
+        for k in range(1, (n - 1) // 2 + 1):
+            v -= 2.0 * np.cos(2 * k * inner) / (4 * k * k - 1)
+    w[1:-1] = 2.0 * v / n
+    w = w / 2.0                                   # mean over u in [-1, 1]
+    w.setflags(write=False)
+    return w
+
+
+def clenshaw_curtis(n: int):
+    """Clenshaw–Curtis rule for the mean of f(u) over u = cos θ ∈ [−1, 1].
+
+    Parameters
+    ----------
+    n : int
+        Number of intervals in θ (≥ 1); nodes θ_j = π j / n, j = 0..n.
+
+    Returns
+    -------
+    theta : ndarray, shape (n + 1,)
+        Nodes in θ (rad), from 0 to π.
+    w : ndarray, shape (n + 1,)
+        Weights summing to 1: mean f ≈ Σ_j w_j f(cos θ_j), exact for polynomials in u of
+        degree ≤ n.
+
+    References
+    ----------
+    C. W. Clenshaw & A. R. Curtis, Numer. Math. 2, 197 (1960); weights as in
+    L. N. Trefethen, Spectral Methods in MATLAB (SIAM, 2000), program clencurt.
+    """
+    if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or n < 1:
+        raise InputError(f"the number of Clenshaw-Curtis intervals must be a positive "
+                         f"integer; got {n!r}")
+    return np.pi * np.arange(int(n) + 1) / int(n), _cc_weights(int(n)).copy()
+
+
+def _directions(theta, phi):
+    """Unit vectors (along the chain, along a, along b), shape theta.shape + (3,)."""
+    s = np.sin(theta)
+    return np.stack([np.cos(theta) + 0.0 * phi, s * np.cos(phi), s * np.sin(phi)], axis=-1)
+
+
+def sphere_rule(n_theta: int, n_phi: int):
+    """Product rule for the average over the unit sphere: Clenshaw–Curtis × trapezoid.
+
+    Parameters
+    ----------
+    n_theta : int
+        Intervals in θ (θ from the chain axis); the two poles are single directions.
+    n_phi : int
+        Equally spaced azimuths φ_k = 2π k / n_phi (even n_phi keeps the set closed under
+        inversion).
+
+    Returns
+    -------
+    u : ndarray, shape (m, 3)
+        Unit vectors (along the chain, along a, along b).
+    w : ndarray, shape (m,)
+        Weights summing to 1; exact for spherical harmonics of degree ≤ min(n_theta,
+        n_phi − 1).
+
+    References
+    ----------
+    Clenshaw & Curtis (1960); trapezoidal rule for periodic functions, Trefethen &
+    Weideman, SIAM Rev. 56, 385 (2014).
+    """
+    for name, v in (("n_theta", n_theta), ("n_phi", n_phi)):
+        if isinstance(v, bool) or not isinstance(v, (int, np.integer)) or v < 1:
+            raise InputError(f"the '{name}' parameter of sphere_rule must be a positive "
+                             f"integer; got {v!r} instead")
+    theta, wt = clenshaw_curtis(int(n_theta))
+    phi = 2.0 * np.pi * np.arange(int(n_phi)) / int(n_phi)
+    inner = _directions(theta[1:-1, None], phi[None, :]).reshape(-1, 3)
+    u = np.concatenate([[[1.0, 0.0, 0.0]], inner, [[-1.0, 0.0, 0.0]]])
+    w = np.concatenate([[wt[0]], np.repeat(wt[1:-1] / n_phi, n_phi), [wt[-1]]])
+    return u, w
+
+
+# ------------------------------------------------------------------------- chain phase
+def cosine_coefficients(values) -> np.ndarray:
+    """Coefficients a_m of the trigonometric interpolant S(q) = Σ_{m=0}^{n} a_m cos(m q).
+
+    Parameters
+    ----------
+    values : array_like, shape (..., n + 1)
+        S at q_j = π j / n, j = 0..n, of a 2π-periodic even function.
+
+    Returns
+    -------
+    ndarray, shape (..., n + 1)
+        a_0 (the zone average), ..., a_n; the interpolant matches ``values`` at the nodes.
+
+    References
+    ----------
+    Discrete cosine transform of type I (scipy.fft.dct); Trefethen, Spectral Methods in
+    MATLAB (2000), Ch. 8 (Chebyshev/cosine interpolation).
+    """
+    values = np.asarray(values, dtype=float)
+    n = values.shape[-1] - 1
+    a = fft.dct(values, type=1, axis=-1) / n
+    a[..., 0] *= 0.5
+    a[..., -1] *= 0.5
+    return a
+
+
+def _sinc_basis(x, n) -> np.ndarray:
+    """B[m, i] = sin(m x_i) / (m x_i) (1 at m = 0 or x = 0), shape (n + 1, len(x))."""
+    m = np.arange(n + 1)[:, None]
+    return np.sinc(m * np.asarray(x, dtype=float)[None, :] / np.pi)
+
+
+def chain_average(values, x) -> np.ndarray:
+    """(1/x) ∫_0^x S(q) dq from S on the grid q_j = π j / n (one zone, S even and periodic).
+
+    Parameters
+    ----------
+    values : array_like, shape (..., n + 1)
+        S(q_j), q_j = π j / n.
+    x : array_like, shape (k,)
+        Upper limits x = |Q| d in radians (≥ 0).
+
+    Returns
+    -------
+    ndarray, shape (..., k)
+        a_0 + Σ_{m ≥ 1} a_m sin(m x)/(m x) with a_m from :func:`cosine_coefficients`; the
+        powder average of a spectrum that depends on Q only through q = Q_∥ d.
+
+    References
+    ----------
+    Isotropic average with Q_∥ = |Q| cos θ, cos θ uniform: Squires (1978), Ch. 7;
+    closed-form integral of the cosine series (Trefethen 2000, Ch. 8).
+    """
+    values = np.asarray(values, dtype=float)
+    return cosine_coefficients(values) @ _sinc_basis(x, values.shape[-1] - 1)
+
+
+def adaptive_chain_average(evaluate, x, group, n_groups: int, n_sets: int,
+                           settings: PowderSettings = PowderSettings()):
+    """Powder average of a chain-phase-only spectrum, refined until converged.
+
+    Parameters
+    ----------
+    evaluate : callable
+        ``evaluate(rows, q, g)`` → ndarray (len(rows), len(q)): the spectrum of parameter
+        sets ``rows`` (int array) at chain phases ``q`` (rad) and energy groups ``g`` (int
+        array, same length as ``q``).
+    x : ndarray, shape (n,)
+        |Q| d of every point (rad).
+    group : ndarray of int, shape (n,)
+        Energy group (0..n_groups − 1) of every point; points of one group share E and σ.
+    n_groups, n_sets : int
+    settings : PowderSettings
+
+    Returns
+    -------
+    avg : ndarray, shape (n_sets, n)
+        ⟨S⟩ at every point.
+    levels : ndarray of int, shape (n_sets, n_groups)
+        The n of the chain grid each (set, group) converged at; ``-n`` where the largest
+        level was reached without convergence.
+
+    References
+    ----------
+    See :func:`chain_average`.
+    """
+    x = np.asarray(x, dtype=float)
+    group = np.asarray(group, dtype=int)
+    n_lo, n_hi = settings.chain_nodes
+    members = [np.flatnonzero(group == g) for g in range(n_groups)]
+    out = np.zeros((n_sets, x.size))
+    levels = np.zeros((n_sets, n_groups), dtype=int)
+    active = np.ones((n_sets, n_groups), dtype=bool)
+    n = max(2, n_lo // 2)
+    F = np.full((n_sets, n_groups, n + 1), np.nan)
+    q = np.pi * np.arange(n + 1) / n
+    rows = np.arange(n_sets)
+    F[:] = evaluate(rows, np.tile(q, n_groups),
+                    np.repeat(np.arange(n_groups), n + 1)).reshape(n_sets, n_groups, n + 1)
+    prev = _chain_estimates(F, x, members, active)
+    while True:
+        n *= 2
+        G = np.full((n_sets, n_groups, n + 1), np.nan)
+        G[..., ::2] = F
+        rows = np.flatnonzero(active.any(axis=1))
+        gsel = np.flatnonzero(active[rows].any(axis=0))
+        q_new = np.pi * np.arange(1, n, 2) / n
+        vals = evaluate(rows, np.tile(q_new, gsel.size), np.repeat(gsel, q_new.size))
+        G[np.ix_(rows, gsel, np.arange(1, n, 2))] = vals.reshape(rows.size, gsel.size, -1)
+        F = G
+        cur = _chain_estimates(F, x, members, active)
+        scale = settings.floor * np.nanmax(np.abs(np.where(np.isnan(cur), out, cur)), axis=1,
+                                           initial=0.0)
+        for g, ix in enumerate(members):
+            live = np.flatnonzero(active[:, g])
+            if live.size == 0:
+                continue
+            c, p = cur[np.ix_(live, ix)], prev[np.ix_(live, ix)]
+            bad = np.abs(c - p) > settings.tolerance * (np.abs(c) + scale[live, None])
+            done = ~bad.any(axis=1) & (n >= n_lo)
+            last = n >= n_hi
+            fin = live[done | last]
+            out[np.ix_(fin, ix)] = cur[np.ix_(fin, ix)]
+            levels[fin, g] = np.where(done[done | last], n, -n)
+            active[fin, g] = False
+        if not active.any():
+            return out, levels
+        prev = cur
+
+
+def _chain_estimates(F, x, members, active):
+    """Averages at every point from the grid values of the active (set, group) pairs."""
+    n = F.shape[-1] - 1
+    est = np.full((F.shape[0], x.size), np.nan)
+    for g, ix in enumerate(members):
+        live = np.flatnonzero(active[:, g])
+        if live.size and ix.size:
+            est[np.ix_(live, ix)] = chain_average(F[live, g], x[ix])
+    return est
+
+
+# ------------------------------------------------------------------------ sphere average
+@functools.lru_cache(maxsize=64)
+def _theta_weights(n: int) -> np.ndarray:
+    """Clenshaw–Curtis weights of the 2n-interval rule folded onto θ_j = (π/2) j / n.
+
+    The mean over the sphere of a function even under Q_∥ → −Q_∥ (θ → π − θ)."""
+    w = _cc_weights(2 * n)
+    out = w[:n + 1].copy()
+    out[:n] += w[2 * n:n:-1]                      # θ and π − θ share a value
+    out.setflags(write=False)
+    return out
+
+
+@functools.lru_cache(maxsize=64)
+def _phi_weights(n: int, mirror: bool) -> np.ndarray:
+    """Trapezoid weights in φ summing to 1: on φ_k = (π/2) k / n, k = 0..n (ends halved)
+    when ``mirror`` (spectrum even in Q_a and in Q_b), else on φ_k = π k / n, k < n."""
+    if mirror:
+        w = np.full(n + 1, 1.0 / n)
+        w[0] = w[-1] = 0.5 / n
+    else:
+        w = np.full(n, 1.0 / n)
+    w.setflags(write=False)
+    return w
+
+
+def _phi_nodes(n: int, mirror: bool) -> np.ndarray:
+    return (0.5 * np.pi * np.arange(n + 1) / n) if mirror else (np.pi * np.arange(n) / n)
+
+
+def _estimates(V, mirror):
+    """Mean over the grid and the changes from halving θ and from halving φ.
+
+    V has shape (m, n_θ + 1, n_φ (+ 1)); returns three arrays of shape (m,)."""
+    nt = V.shape[1] - 1
+    nph = V.shape[2] - 1 if mirror else V.shape[2]
+    ring = V @ _phi_weights(nph, mirror)
+    I = ring @ _theta_weights(nt)
+    I_t = ring[:, ::2] @ _theta_weights(nt // 2)
+    I_p = (V[..., ::2] @ _phi_weights(nph // 2, mirror)) @ _theta_weights(nt)
+    return I, np.abs(I - I_t), np.abs(I - I_p)
+
+
+def adaptive_sphere_average(evaluate, Q, spacings, n_sets: int,
+                            settings: PowderSettings = PowderSettings(), mirror: bool = True):
+    """Mean of a spectrum over the sphere of radius |Q| at every point, refined until converged.
+
+    The spectrum must be even under Q_∥ → −Q_∥ and under Q_⊥ → −Q_⊥ (every spin model on
+    a lattice of chains with inversion symmetry, in zero field); with ``mirror`` also under
+    each interchain component alone (orthogonal interchain directions), as it is for
+    couplings and polarisation factors that depend on cos(Q·r) and on squared components.
+    The rule then needs θ ∈ [0, π/2] (θ from the chain axis) and φ ∈ [0, π/2] (``mirror``)
+    or [0, π).  Each point has its own grid: Clenshaw–Curtis in θ times the trapezoidal
+    rule in φ.  The first grid keeps the phase step between neighbouring directions below
+    ``settings.phase_step`` along every lattice direction; then θ and φ are doubled
+    independently while the change from halving them exceeds the tolerance.
+
+    Parameters
+    ----------
+    evaluate : callable
+        ``evaluate(row, u, i)`` → ndarray (1, len(i)): the spectrum of parameter set
+        ``row`` (int) at the wavevectors |Q_i| u and the energy of point i (int array
+        (m,)); u are unit vectors of shape (m, 3) with components (cos θ, sin θ cos φ,
+        sin θ sin φ), along the chain and across it.
+    Q : ndarray, shape (n,)
+        |Q| of every point in Å⁻¹.
+    spacings : tuple of 3 float
+        Spin spacing along the chain and the two interchain spacings in Å (they set the
+        first grid through ``settings.phase_step``).
+    n_sets : int
+    settings : PowderSettings
+    mirror : bool, optional
+        Whether the spectrum is even in each interchain component alone.
+
+    Returns
+    -------
+    avg : ndarray, shape (n_sets, n)
+    directions : ndarray of int, shape (n_sets, n)
+        Directions of the final grid of each (set, point), negative where ``max_grid`` was
+        reached before convergence.
+
+    References
+    ----------
+    Clenshaw & Curtis (1960); Trefethen, SIAM Rev. 50, 67 (2008); Trefethen & Weideman,
+    SIAM Rev. 56, 385 (2014).
+    """
+    Q = np.asarray(Q, dtype=float)
+    out = np.zeros((n_sets, Q.size))
+    ndir = np.zeros((n_sets, Q.size), dtype=int)
+    for s in range(n_sets):
+        out[s], ndir[s] = _sphere_one_set(evaluate, s, Q, spacings, settings, bool(mirror))
+    return out, ndir
+
+
+def _nodes(nt, nph, mirror, rows=None, cols=None):
+    """Unit vectors of the grid, θ rows × φ columns, shape (len(rows), len(cols), 3)."""
+    theta = 0.5 * np.pi * np.arange(nt + 1) / nt
+    phi = _phi_nodes(nph, mirror)
+    theta = theta if rows is None else theta[rows]
+    phi = phi if cols is None else phi[cols]
+    return _directions(theta[:, None], phi[None, :])
+
+
+def _evaluate_blocks(evaluate, s, blocks):
+    """One call for blocks (points, unit vectors (r, c, 3)) → list of arrays (m, r, c)."""
+    if not blocks:
+        return []
+    us, ixs, shapes = [], [], []
+    for pts, u in blocks:
+        r, c = u.shape[:2]
+        us.append(np.tile(u.reshape(-1, 3), (pts.size, 1)))
+        ixs.append(np.repeat(pts, r * c))
+        shapes.append((pts.size, r, c))
+    vals = np.asarray(evaluate(s, np.concatenate(us), np.concatenate(ixs))).reshape(-1)
+    out, k = [], 0
+    for shp in shapes:
+        m = int(np.prod(shp))
+        out.append(vals[k:k + m].reshape(shp))
+        k += m
+    return out
+
+
+def _first_grid(Q, spacings, st, mirror):
+    """Even interval counts (n_θ, n_φ) whose phase steps stay below ``st.phase_step``."""
+    d, a, b = spacings
+    span = (0.5 * np.pi if mirror else np.pi) * Q / st.phase_step
+    even = lambda x: np.clip(2 * np.ceil(x / 2.0).astype(int), 2, st.max_grid)  # noqa: E731
+    return even(0.5 * np.pi * Q / st.phase_step * max(d, a, b)), even(span * max(a, b))
+
+
+def _sphere_one_set(evaluate, s, Q, spacings, st, mirror):
+    n_points = Q.size
+    extra = 1 if mirror else 0                     # the closed φ range holds both ends
+    nt0, np0 = _first_grid(Q, spacings, st, mirror)
+    out = np.zeros(n_points)
+    ndir = np.zeros(n_points, dtype=int)
+    cohorts = {}
+    for key in sorted(set(zip(nt0.tolist(), np0.tolist()))):
+        ix = np.flatnonzero((nt0 == key[0]) & (np0 == key[1]))
+        u = _nodes(*key, mirror)
+        V, pole = _evaluate_blocks(evaluate, s, [(ix, u[1:]), (ix, u[:1, :1])])
+        V = np.concatenate([np.repeat(pole, key[1] + extra, axis=2), V], axis=1)
+        cohorts[key] = (ix, V)
+    known = np.zeros(n_points)
+    while cohorts:
+        est = {key: _estimates(V, mirror) for key, (ix, V) in cohorts.items()}
+        for key, (ix, _) in cohorts.items():
+            known[ix] = est[key][0]
+        scale = st.floor * np.max(np.abs(known))
+        moves = []
+        for key, (ix, V) in cohorts.items():
+            nt, nph = key
+            I, e_t, e_p = est[key]
+            tau = st.tolerance * (np.abs(I) + scale)
+            more_t = (e_t > tau) & (nt < st.max_grid)
+            more_p = (e_p > tau) & (nph < st.max_grid)
+            unresolved = (e_t > tau) | (e_p > tau)
+            fin = ~(more_t | more_p)
+            out[ix[fin]] = I[fin]
+            n_dir = nt * (nph + extra) + 1
+            ndir[ix[fin]] = np.where(unresolved[fin], -n_dir, n_dir)
+            for mt in (False, True):
+                for mp in (False, True):
+                    sel = (more_t == mt) & (more_p == mp) & ~fin
+                    if sel.any():
+                        moves.append([key, mt, mp, ix[sel], V[sel]])
+        # θ: new rows at the odd indices of the doubled grid, at every current φ
+        todo = [m for m in moves if m[1]]
+        blocks = [(m[3], _nodes(2 * m[0][0], m[0][1], mirror,
+                                rows=np.arange(1, 2 * m[0][0], 2))) for m in todo]
+        for m, new in zip(todo, _evaluate_blocks(evaluate, s, blocks)):
+            (nt, nph), V = m[0], m[4]
+            W = np.empty((V.shape[0], 2 * nt + 1, V.shape[2]))
+            W[:, ::2], W[:, 1::2] = V, new
+            m[0], m[4] = (2 * nt, nph), W
+        # φ: new columns at the odd indices of the doubled grid, every row but the pole
+        todo = [m for m in moves if m[2]]
+        blocks = [(m[3], _nodes(m[0][0], 2 * m[0][1], mirror,
+                                rows=np.arange(1, m[0][0] + 1),
+                                cols=np.arange(1, 2 * m[0][1], 2))) for m in todo]
+        for m, new in zip(todo, _evaluate_blocks(evaluate, s, blocks)):
+            (nt, nph), V = m[0], m[4]
+            W = np.empty((V.shape[0], nt + 1, 2 * nph + extra))
+            W[..., ::2] = V
+            W[:, 1:, 1::2] = new
+            W[:, 0, 1::2] = V[:, 0, :1]
+            m[0], m[4] = (nt, 2 * nph), W
+        cohorts = {}
+        for key, _, _, ix, V in moves:
+            if key in cohorts:
+                ix0, V0 = cohorts[key]
+                ix, V = np.concatenate([ix0, ix]), np.concatenate([V0, V])
+            cohorts[key] = (ix, V)
+    return out, ndir
