@@ -317,6 +317,7 @@ def _run_model(case, name, settings, streams, ev, out: Path | None, resume: bool
     from .inference.compare import savage_dickey
     from .inference.diagnostics import diagnose, psis_loo
     from .analysis import bound_flags, goodness_of_fit
+    from .analysis.metal import metal_context
     from .inference.laplace import laplace_evidence
     from .inference.posterior import population_moves, sample_posterior
 
@@ -370,6 +371,7 @@ def _run_model(case, name, settings, streams, ev, out: Path | None, resume: bool
                                            rng=np.random.default_rng(nu_seed.spawn(1)[0])),
         "prior_bounds": bound_flags(problem.full_names, full, problem.declared_priors,
                                     nested),
+        "metal": metal_context(problem.full_names, full, problem.units),
         "sampler": {"moves": _describe_moves(moves), "n_walkers": int(walkers),
                     "n_steps": int(settings["steps"]), "population_size": int(len(pool)),
                     "move_acceptance": dict(post.move_acceptance),

@@ -299,6 +299,27 @@ def _parameters(s) -> list:
         if m["fixed_parameters"]:
             out += ["Fixed: " + ", ".join(f"`{p}` = {v['value']:g} {v['unit']}"
                                           for p, v in m["fixed_parameters"].items()) + ".", ""]
+    metal = [(n, m["metal"]) for n, m in s["models"].items() if m.get("metal")]
+    if metal:
+        out += ["### Metal context", "",
+                "Wilson ratio of the fitted χ₀ and γ_e, R_W = 4π² k_B² χ₀ / (3 (2 μ_B)² γ_e) "
+                "(Wilson 1975; 1 for free electrons, about 2 for strong correlations), over "
+                "the posterior samples with γ_e > 0. The fitted χ₀ also holds the core "
+                "diamagnetism and any Van Vleck term: subtract them before reading R_W as a "
+                "Fermi-liquid ratio.", ""]
+        rows = []
+        for n, mc in metal:
+            w = mc["wilson_ratio"]
+            if w is None:
+                rows.append([f"`{n}`", "— (no sample with γ_e > 0)", "—"])
+                continue
+            med, plus, minus, exp = round_interval(w["median"], w["q16"], w["q84"])
+            text = f"{med} +{plus} −{minus}"
+            if exp:
+                text = f"({text}) × 10^{exp}"
+            rows.append([f"`{n}`", text, f"{mc['fraction_gamma_nonpositive']:.0%}"])
+        out += _table(["family", "R_W (median, 68 %)", "samples with γ_e ≤ 0 (left out)"],
+                      rows)
     flagged = [(n, f) for n, m in s["models"].items() for f in m["prior_bounds"]]
     out += ["### Parameters at a prior bound", "",
             f"A bound is flagged when more than {BOUND_MASS_MAX:.0%} of the posterior lies "

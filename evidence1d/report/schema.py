@@ -178,6 +178,16 @@ SUMMARY_FIELDS = (
     _F(f"{_M}.prior_bounds[].nested_limit", "boolean", "", "the bound is the family's nested "
        "one-dimensional limit"),
     _F(f"{_M}.prior_bounds[].advice", "string", "", "what to do"),
+    _F(f"{_M}.metal", "object|null", "", "metal context when χ₀ and γ_e are fitted (null "
+       "otherwise)"),
+    _F(f"{_M}.metal.wilson_ratio", "object|null", "", "Wilson ratio R_W = 4π² k_B² χ₀ / "
+       "(3 (2 μ_B)² γ_e) over the samples with γ_e > 0 (null: none)"),
+    _F(f"{_M}.metal.wilson_ratio.median", "number", "", "posterior median"),
+    _F(f"{_M}.metal.wilson_ratio.q16", "number", "", "16 % quantile"),
+    _F(f"{_M}.metal.wilson_ratio.q84", "number", "", "84 % quantile"),
+    _F(f"{_M}.metal.fraction_gamma_nonpositive", "number", "", "fraction of samples with "
+       "γ_e ≤ 0, left out"),
+    _F(f"{_M}.metal.note", "string", "", "how to read it"),
     _F(f"{_M}.sampler", "object", "", "what the samplers of this family did (the methods "
        "text is written from it)"),
     _F(f"{_M}.sampler.moves", "array[object]", "", "the emcee move mixture"),

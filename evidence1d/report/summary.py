@@ -249,6 +249,7 @@ def _model_block(mr, problem) -> dict:
         "laplace": lap, "savage_dickey": sdk, "loo": loo,
         "goodness_of_fit": dict(an["goodness_of_fit"]),
         "prior_bounds": list(an["prior_bounds"]),
+        "metal": an.get("metal"),
         "sampler": _sampler_block(an["sampler"], ev),
     }
 

@@ -6,6 +6,7 @@ from __future__ import annotations
 import copy
 import re
 
+import numpy as np
 import pytest
 
 from evidence1d.report.markdown import render_markdown, report_context
@@ -134,3 +135,21 @@ def test_prior_sensitivity_table(run_dir, summary):
     text = (out / "report.md").read_text(encoding="utf-8")
     assert "### Prior sensitivity" in text
     assert "Prior sensitivity: every physical prior" in text.split("## For a referee")[1]
+
+
+def test_metal_context_when_chi0_and_gamma_are_fitted(run_dir, summary):
+    from evidence1d.analysis.metal import wilson_ratio
+    from evidence1d.report.store import load_results
+    out, _ = run_dir
+    res = load_results(out)
+    text = (out / "report.md").read_text(encoding="utf-8")
+    assert "### Metal context" in text
+    for name, mr in res.models.items():
+        mc = summary["models"][name]["metal"]
+        cols = [mr.full_names.index("chi0"), mr.full_names.index("gamma_e")]
+        x = np.asarray(mr.full_samples)[:, cols]
+        rw = wilson_ratio(x[:, 0], x[:, 1])
+        assert mc["fraction_gamma_nonpositive"] == pytest.approx(np.mean(~np.isfinite(rw)))
+        if mc["wilson_ratio"] is not None:
+            assert mc["wilson_ratio"]["median"] == pytest.approx(
+                np.median(rw[np.isfinite(rw)]))
