@@ -233,84 +233,6 @@ def _evidences(case, names, settings, seeds, out: Path | None, resume: bool, pro
     return {n: evidences[n] for n in names}
 
 
-#: spawn key of the evidence budget's random stream: a child of the run seed that no
-#: family uses (``_model_seeds`` spawns children 0 … n − 1)
-_BUDGET_KEY = 2 ** 20
-
-
-def _budget_labels(case, problem) -> list:
-    """The likelihood terms of a problem in the case's dataset order (the stated order of
-    the sequential budget)."""
-    pos = {ds.name: i for i, ds in enumerate(case.datasets)}
-    return sorted(problem.term_sizes(), key=lambda lab: min(pos.get(d, 0)
-                                                           for d in lab.split("+")))
-
-
-def _sensitivity(case, results) -> dict:
-    """Prior sensitivity from the final tempered populations (no likelihood calls)."""
-    from .analysis.sensitivity import prior_sensitivity
-    models = {}
-    for n, r in results.items():
-        pb = case.problem(n)
-        priors = {p: pb.prior.priors[pb.prior.names.index(p)] for p in pb.names
-                  if p in pb.card.parameters}
-        models[n] = {"log_z": r.evidence.log_z, "log_z_err": r.evidence.log_z_err,
-                     "one_dimensional": r.one_dimensional, "names": list(r.evidence.names),
-                     "samples": r.evidence.posterior_samples, "priors": priors}
-    return prior_sensitivity(models, prior_odds=case.prior_odds)
-
-
-def _subset_job(case, name, labels, seed, options):
-    """One island of the tempered evidence of a subset of one family's terms: a pool job."""
-    from .analysis import subset_island
-    return subset_island(case.problem(name), labels, seed, **options)
-
-
-def _budget(case, results, comparison, settings, seed, progress, workers):
-    """The evidence budget of the two leading families (third parallel stage)."""
-    from tqdm.auto import tqdm
-
-    from .analysis import budget_subsets, evidence_budget
-    from .analysis.budget import combine_subset
-    from .inference.evidence import evidence_settings
-    from .inference.progress import bar_options
-    order = sorted(results, key=lambda n: -results[n].evidence.log_z)
-    a, b = order[0], order[1]
-    labels = _budget_labels(case, case.problem(a))
-    if labels != _budget_labels(case, case.problem(b)):
-        return {"skipped": "the two leading families group the datasets into different "
-                           "likelihood terms"}
-    if len(labels) < 2:
-        return None
-    subsets = budget_subsets(labels)
-    options = _evidence_options(settings)
-    root = np.random.SeedSequence(seed, spawn_key=(_BUDGET_KEY,))
-    jobs, keys = [], []
-    for fam, fam_seq in zip((a, b), root.spawn(2)):
-        for sub, sub_seq in zip(subsets, fam_seq.spawn(len(subsets))):
-            for isl in sub_seq.spawn(settings["islands"]):
-                jobs.append((case, fam, sub, isl, options))
-                keys.append((fam, sub))
-    label, _ = bar_options(progress, "budget")
-    bar = tqdm(total=len(jobs), disable=not progress, desc=label, unit="island",
-               leave=False)
-    try:
-        done = run_in_pool(_subset_job, jobs, worker_count(workers, len(jobs)),
-                           on_result=lambda _: bar.update(1))
-    finally:
-        bar.close()
-    runs = {a: {}, b: {}}
-    for (fam, sub), (lz, _) in zip(keys, done):
-        runs[fam].setdefault(sub, []).append(lz)
-    combined = {fam: {sub: combine_subset(v) for sub, v in runs[fam].items()}
-                for fam in (a, b)}
-    full = {fam: (results[fam].evidence.log_z, results[fam].evidence.log_z_err)
-            for fam in (a, b)}
-    record = evidence_settings(n_islands=settings["islands"], **options)
-    return evidence_budget(labels, a, b, combined, full, record,
-                           [w for _, w in done if w])
-
-
 def _run_model(case, name, settings, streams, ev, out: Path | None, resume: bool, progress,
                position=None):
     """Everything after the evidence for one family: a pool job."""
@@ -456,6 +378,7 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
     InputError
         The output folder exists (without ``overwrite`` or ``resume``), or an unknown model.
     """
+    from .analysis.stage import run_budget, run_sensitivity
     from .inference.compare import compare_models, verdict_reliability, with_reliability
     from .provenance import provenance
 
@@ -525,13 +448,14 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
         budget_doc = {"skipped": "a --quick run" if quick else "not asked for"}
     else:
         t_b = time.time()
-        budget_doc = _budget(case, results, comparison, settings, seed, progress, workers)
+        budget_doc = run_budget(case, results, settings, _evidence_options(settings), seed,
+                                progress, workers)
         if budget_doc is not None and "skipped" not in budget_doc:
             log(f"evidence budget of {' vs '.join(budget_doc['families'])}: ln K without "
                 + ", ".join(f"{r['dataset']} {r['ln_k_without']:.2f}"
                             for r in budget_doc["leave_one_out"])
                 + f" against {budget_doc['ln_k']:.2f} ({time.time() - t_b:.1f} s)")
-    sensitivity = _sensitivity(case, results)
+    sensitivity = run_sensitivity(case, results)
     prov = provenance(case, seed=seed, start=t0, run_time=time.time() - t0, settings=settings)
     res = RunResults(models=results, comparison=comparison, reliable=reliable, out=out,
                      seed=seed, settings=settings, provenance=prov, case_path=case.path,

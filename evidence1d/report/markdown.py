@@ -12,7 +12,10 @@ References
 """
 from __future__ import annotations
 
-from ..analysis.bounds import BOUND_MASS_MAX, BOUND_WINDOW
+from .referee import (bounds_alert, bounds_section, budget_section, fit_section,
+                      metal_section, reliability_section, sensitivity_section)
+from .referee import fmt as _f
+from .referee import md_table as _table
 from .summary import round_interval
 
 __all__ = ["report_context", "render_markdown", "METHOD_REFERENCES", "WIDTH_LEVELS",
@@ -97,16 +100,6 @@ def report_context(results, case) -> dict:
     }
 
 
-def _f(x, fmt=".2f"):
-    return "—" if x is None else format(x, fmt)
-
-
-def _table(header, rows) -> list:
-    out = ["| " + " | ".join(header) + " |", "|" + "---|" * len(header)]
-    out += ["| " + " | ".join(str(c).replace("|", "\\|") for c in r) + " |" for r in rows]
-    return out + [""]
-
-
 def _width_word(r):
     if r is None:
         return "—"
@@ -157,129 +150,6 @@ def _comparison(s) -> list:
     return out
 
 
-def _reliability(s) -> list:
-    c = s["comparison"]
-    r = c["reliability"]
-    t = r["thresholds"]
-    state = "reliable" if r["verdict_reliable"] else "**UNRELIABLE**"
-    agree = r["island_pairs_agreeing"]
-    out = [f"Reliability of the verdict: {state}. It rests on the evidences (ln K of "
-           f"`{r['winner']}` over `{r['runner_up']}` = {r['ln_k']:.2f} ± {_f(r['ln_k_err'])} "
-           f"nats; ranking {'secure' if r['ranking_secure'] else 'NOT secure'} at "
-           f"{t['ln_k_sigmas']:g} standard errors; "
-           + (f"{agree:.0%} of paired islands agree; " if agree is not None else "")
-           + f"evidence errors {'finite' if r['evidence_errors_finite'] else 'NOT finite'}) "
-           f"and on the winner's posterior (diagnostics "
-           f"{'passed' if r['winner_diagnostics_ok'] else 'FAILED'}). Each family's own "
-           "posterior is judged separately below: a losing family's failed chain is a note "
-           "on that family, not on the verdict.", ""]
-    for n, note in r["posterior_notes"].items():
-        out += [f"- Note on `{n}`: {note}"]
-    if r["posterior_notes"]:
-        out.append("")
-    return out
-
-
-def _fit(s) -> list:
-    from ..analysis.fit import FIT_THRESHOLDS
-    rows = []
-    best = s["comparison"]["best"]
-    for n, m in s["models"].items():
-        for d, f in m["goodness_of_fit"].items():
-            verdict = "**bad**" if f["bad_fit"] else "ok"
-            if f["median_unrepresentative"]:
-                verdict += " (the median is no fit: curved or multimodal posterior)"
-            rows.append([f"`{n}`" + (" (winner)" if n == best else ""), f"`{d}`",
-                         str(f["n_points"]), f"{f['chi2_per_point']:.2f}",
-                         f"{f['chi2_min_draws'] / f['n_points']:.2f}",
-                         f"{f['chi2_per_point_limit']:.2f}", f"{f['p_value']:.2g}", verdict])
-    method = next((f["p_value_method"] for m in s["models"].values()
-                   for f in m["goodness_of_fit"].values()), "")
-    out = ["### Goodness of fit", "",
-           "χ² at the posterior median of every parameter, per point (χ²/N, not per degree of "
-           "freedom: a joint nonlinear fit has none per dataset), and the posterior-"
-           f"predictive p-value ({method}; Gelman, Meng & Stern 1996). A fit is called bad "
-           f"when χ²/N exceeds 1 + {FIT_THRESHOLDS['chi2_sigmas']:g}√(2/N) (five standard "
-           "deviations of χ²/N for a correct model with correct errors; common practice) or "
-           f"p < {FIT_THRESHOLDS['p_min']:g} (common practice); the χ²/N rule is applied to "
-           "the better of the median and the best posterior draw, since the component-wise "
-           "median of a curved posterior need not be near any draw. The evidence ranks the "
-           "families; only these numbers say whether the winner describes the data.", ""]
-    out += _table(["family", "dataset", "N", "χ²/N at median", "smallest χ²/N of the draws",
-                   "bad above", "p", "fit"], rows)
-    return out
-
-
-def _bounds_alert(s) -> list:
-    best = s["comparison"]["best"]
-    flags = s["models"][best]["prior_bounds"]
-    if not flags:
-        return []
-    items = ", ".join(f"`{f['parameter']}` at its {f['bound']} bound {f['bound_value']:g}"
-                      for f in flags)
-    return [f"> **Prior bound**: the winner's posterior piles up on {items}; see "
-            "\"Parameters at a prior bound\" below.", ""]
-
-
-def _budget(s) -> list:
-    c = s["comparison"]
-    b = c["evidence_budget"]
-    if b is None:
-        note = c.get("evidence_budget_note")
-        return ["### Which datasets decide the verdict", "", f"Evidence budget {note}.", ""] \
-            if note else []
-    a, bb = b["families"]
-    loo = {r["dataset"]: r for r in b["leave_one_out"]}
-    rows = []
-    for r in b["sequential"]:
-        lo = loo.get(r["dataset"])
-        rows.append([f"`{r['dataset']}`", f"{r['ln_k']:.2f} ± {_f(r['ln_k_err'])}",
-                     f"{lo['added_last']:.2f} ± {_f(lo['added_last_err'])}" if lo else "—",
-                     f"{lo['ln_k_without']:.2f} ± {_f(lo['ln_k_without_err'])}" if lo else "—"])
-    ranked = sorted(b["leave_one_out"], key=lambda r: -abs(r["added_last"]))
-    rests = ", ".join(f"`{r['dataset']}` ({r['added_last']:.1f} nats)" for r in ranked)
-    out = ["### Which datasets decide the verdict", "",
-           f"Evidence budget of ln K = ln Z(`{a}`) − ln Z(`{bb}`) = {b['ln_k']:.2f} ± "
-           f"{_f(b['ln_k_err'])} nats: the verdict rests on {rests} (each added last, "
-           "given all the others). Method: " + b["method"] + f" ({b['n_particles']} particles, "
-           f"{b['n_islands']} islands per subset and family). Positive numbers favour "
-           f"`{a}`.", ""]
-    out += [f"- warning: {w}" for w in b["warnings"]] + ([""] if b["warnings"] else [])
-    out += _table(["dataset", "in sequence (given those above)", "added last",
-                   "ln K without it"], rows)
-    return out
-
-
-def _sensitivity(s) -> list:
-    ps = s["comparison"]["prior_sensitivity"]
-    if not ps or not ps["rows"]:
-        return []
-    a, b = ps["families"]
-    rows = []
-    for r in ps["rows"]:
-        if r["ln_k"] is None:
-            rows.append([f"`{r['parameter']}`", r["change"], "—", "—", r["note"]])
-        else:
-            rows.append([f"`{r['parameter']}`", r["change"],
-                         f"{r['ln_k']:.2f} ± {_f(r['ln_k_err'])}",
-                         f"{r['p_one_dimensional']:.3g}", ""])
-    done = [r for r in ps["rows"] if r["ln_k"] is not None]
-    span = ""
-    if done:
-        lo = min(r["ln_k"] for r in done)
-        hi = max(r["ln_k"] for r in done)
-        span = (f" Over the reweighted rows ln K stays within [{lo:.2f}, {hi:.2f}] nats "
-                f"(declared priors: {ps['ln_k']:.2f}).")
-    out = ["### Prior sensitivity", "",
-           f"ln K of `{a}` over `{b}` and P(1D | data) with each physical prior halved and "
-           "doubled in width (about its centre; from 0 when the prior starts at 0; in ln θ "
-           "for a log-uniform prior) and log-uniform swapped for uniform or back, changed in "
-           "every family that has the parameter. Method: " + ps["method"] + "." + span, ""]
-    out += _table(["parameter", "prior change", "ln K (nats)", "P(1D | data)", "note"],
-                  rows)
-    return out
-
-
 def _parameters(s) -> list:
     out = ["## Parameters", "", "Posterior medians with the central 68 % interval "
            "(16 % and 84 % quantiles); the width ratio is the posterior 68 % width over the "
@@ -299,42 +169,6 @@ def _parameters(s) -> list:
         if m["fixed_parameters"]:
             out += ["Fixed: " + ", ".join(f"`{p}` = {v['value']:g} {v['unit']}"
                                           for p, v in m["fixed_parameters"].items()) + ".", ""]
-    metal = [(n, m["metal"]) for n, m in s["models"].items() if m.get("metal")]
-    if metal:
-        out += ["### Metal context", "",
-                "Wilson ratio of the fitted χ₀ and γ_e, R_W = 4π² k_B² χ₀ / (3 (2 μ_B)² γ_e) "
-                "(Wilson 1975; 1 for free electrons, about 2 for strong correlations), over "
-                "the posterior samples with γ_e > 0. The fitted χ₀ also holds the core "
-                "diamagnetism and any Van Vleck term: subtract them before reading R_W as a "
-                "Fermi-liquid ratio.", ""]
-        rows = []
-        for n, mc in metal:
-            w = mc["wilson_ratio"]
-            if w is None:
-                rows.append([f"`{n}`", "— (no sample with γ_e > 0)", "—"])
-                continue
-            med, plus, minus, exp = round_interval(w["median"], w["q16"], w["q84"])
-            text = f"{med} +{plus} −{minus}"
-            if exp:
-                text = f"({text}) × 10^{exp}"
-            rows.append([f"`{n}`", text, f"{mc['fraction_gamma_nonpositive']:.0%}"])
-        out += _table(["family", "R_W (median, 68 %)", "samples with γ_e ≤ 0 (left out)"],
-                      rows)
-    flagged = [(n, f) for n, m in s["models"].items() for f in m["prior_bounds"]]
-    out += ["### Parameters at a prior bound", "",
-            f"A bound is flagged when more than {BOUND_MASS_MAX:.0%} of the posterior lies "
-            f"within {BOUND_WINDOW:.0%} of the prior width of it (or beyond it); a posterior "
-            f"the data leave flat puts about {BOUND_WINDOW:.0%} there (a reporting choice of "
-            "this package). Such a posterior is shaped by where the prior ends: widen the "
-            "prior or justify the bound.", ""]
-    if flagged:
-        out += _table(["family", "parameter", "bound", "posterior mass there", "advice"],
-                      [[f"`{n}`", f"`{f['parameter']}`", f"{f['bound']} = {f['bound_value']:g}",
-                        f"{f['mass']:.0%}" + (f" ({f['mass_outside']:.0%} beyond)"
-                                              if f["mass_outside"] else ""), f["advice"]]
-                       for n, f in flagged])
-    else:
-        out += ["None flagged.", ""]
     return out
 
 
@@ -600,8 +434,9 @@ def render_markdown(summary: dict, context: dict) -> str:
     for w in c["winner_fit_warnings"]:
         out += [f"> **BAD FIT**: {w}.", ""]
     out += [f"**Verdict** ({c['strength']}): {c['verdict']}", ""]
-    out += _reliability(s) + _fit(s) + _bounds_alert(s)
-    out += _comparison(s) + _budget(s) + _sensitivity(s) + _parameters(s) + _diagnostics(s)
+    out += reliability_section(s) + fit_section(s) + bounds_alert(s)
+    out += _comparison(s) + budget_section(s) + sensitivity_section(s)
+    out += _parameters(s) + bounds_section(s) + metal_section(s) + _diagnostics(s)
     out += _constraints(s, context)
     out += _cards(s, context)
     methods, smc = _methods(s, context)

@@ -1,9 +1,11 @@
-"""The numbers of the report: posterior summaries, dataset sensitivities, predictive bands.
+"""The numbers of the report: posterior summaries and dataset sensitivities.
 
-Everything the report layers print or draw is computed here from the run's results and the
-case, deterministically (no random numbers), so that rebuilding from saved results gives
-the same numbers.  :func:`build_summary` gives the ``summary.json`` document (schema in
-:mod:`evidence1d.report.schema`); :func:`predictive_data` the arrays the figures draw.
+Everything the report layers print is computed here (or, for the analyses of
+:mod:`evidence1d.analysis`, during the run) from the run's results and the case,
+deterministically (no random numbers), so that rebuilding from saved results gives the same
+numbers.  :func:`build_summary` gives the ``summary.json`` document (schema in
+:mod:`evidence1d.report.schema`; the comparison block in :mod:`evidence1d.report.verdict`).
+The figures take their arrays from :mod:`evidence1d.report.figures`.
 
 Which datasets constrain which parameter
 ----------------------------------------
@@ -25,16 +27,16 @@ References
 """
 from __future__ import annotations
 
-import dataclasses
 import math
 
 import numpy as np
 
 from .schema import SCHEMA_VERSION
+from .verdict import comparison_block
 
 __all__ = ["QUANTILES", "BAND_QUANTILES", "parameter_role", "quantile_summary",
            "prior_interval", "dataset_sensitivity", "build_summary", "json_ready",
-           "round_interval", "draw_indices", "predictive_data", "corner_inputs", "MAX_DRAWS"]
+           "round_interval", "draw_indices", "MAX_DRAWS"]
 
 #: quantiles quoted for every parameter (median and the central 68 % interval)
 QUANTILES = (0.16, 0.5, 0.84)
@@ -42,8 +44,6 @@ QUANTILES = (0.16, 0.5, 0.84)
 BAND_QUANTILES = (0.025, 0.16, 0.5, 0.84, 0.975)
 #: posterior draws used for predictive bands (bounds the drawing time)
 MAX_DRAWS = 200
-_DENSE = 60                      # points of a smooth model curve
-_MAX_CUTS = 6                    # cuts drawn per spectrum
 
 
 def json_ready(obj):
@@ -268,79 +268,6 @@ def _sampler_block(rec, ev) -> dict:
             "evidence_max_sweeps": int(st.get("max_sweeps", 0))}
 
 
-def _fit_warnings(best: str, fits: dict) -> list:
-    from ..analysis.fit import FIT_THRESHOLDS
-    out = []
-    for ds, f in fits.items():
-        if f["bad_fit"]:
-            low = min(f["chi2"], f["chi2_min_draws"]) / f["n_points"]
-            out.append(f"the winning family {best} fits {ds} badly: χ²/N = {low:.2f} at best "
-                       f"({f['chi2_per_point']:.2f} at the posterior median) over "
-                       f"{f['n_points']} points (bad above "
-                       f"1 + {FIT_THRESHOLDS['chi2_sigmas']:g}√(2/N) = "
-                       f"{f['chi2_per_point_limit']:.2f}), posterior-predictive p = "
-                       f"{f['p_value']:.2g} (bad below {FIT_THRESHOLDS['p_min']:g}); the "
-                       "evidence ranks the families, it does not say the winner is "
-                       "adequate: look at the residuals before quoting its parameters")
-    return out
-
-
-def _one_dimensional_block(cmp_, models) -> dict:
-    """What "one-dimensional" means in this run, and P(1D) counting nested limits."""
-    from ..inference.compare import p_one_dimensional_with_limits
-    fams = [n for n in cmp_.names if cmp_.one_dimensional[n]]
-    limits, rows = {}, []
-    for n, mr in models.items():
-        sd = mr.savage_dickey
-        if sd is None or cmp_.one_dimensional[n]:
-            continue
-        limits[n] = (sd["ln_bf_nested_vs_full"], sd["ln_bf_err"])
-        rows.append({"family": n, "parameter": sd["parameter"], "value": float(sd["value"]),
-                     "ln_bf_limit_vs_full": sd["ln_bf_nested_vs_full"],
-                     "counted": False})
-    p, err = (p_one_dimensional_with_limits(cmp_, limits) if limits
-              else (float(cmp_.p_one_dimensional), float(cmp_.p_one_dimensional_err)))
-    definition = ("P(one-dimensional | data) is the summed posterior probability of the "
-                  "families whose model card declares one_dimensional: true ("
-                  + (", ".join(fams) or "none") + "). Nested one-dimensional limits inside "
-                  "other families (" + (", ".join(f"{r['family']}: {r['parameter']} = "
-                                                   f"{r['value']:g}" for r in rows)
-                                        or "none in this run")
-                  + ") are not counted; p_with_nested_limits counts each as a separate "
-                  "hypothesis with half its family's prior probability and evidence "
-                  "Z × BF(limit/full) from the Savage–Dickey ratio.")
-    return {"definition": definition, "families": fams, "nested_limits": rows,
-            "p_with_nested_limits": float(p), "p_with_nested_limits_err": float(err)}
-
-
-def _comparison_block(cmp_, models, budget, sensitivity=None) -> dict:
-    order = sorted(cmp_.names, key=lambda n: -cmp_.log_z[n])
-    strength = next(p.wording for p in cmp_.pairs if {p.a, p.b} == set(order[:2]))
-    rel = dict(cmp_.reliability)
-    out = {"best": cmp_.best, "strength": strength, "verdict": cmp_.verdict,
-           "pairs": [p.to_dict() for p in cmp_.pairs],
-           "prior_probabilities": dict(cmp_.prior_probability),
-           "model_probabilities": dict(cmp_.posterior_probability),
-           "prior_odds": cmp_.prior_odds_stated,
-           "p_one_dimensional": float(cmp_.p_one_dimensional),
-           "p_one_dimensional_err": float(cmp_.p_one_dimensional_err),
-           "one_dimensional": _one_dimensional_block(cmp_, models),
-           "unreliable": list(cmp_.unreliable),
-           "posterior_unreliable": [n for n, mr in models.items() if not mr.diagnostics.ok],
-           "reliability": rel,
-           "winner_fit_warnings": _fit_warnings(
-               cmp_.best, models[cmp_.best].analysis["goodness_of_fit"]),
-           "evidence_budget": None,
-           "prior_sensitivity": None if sensitivity is None else dict(sensitivity)}
-    if budget is not None and "skipped" in budget:
-        out["evidence_budget_note"] = "not computed: " + budget["skipped"]
-    elif budget is not None:
-        out["evidence_budget"] = dict(budget)
-    else:
-        out["evidence_budget_note"] = "not computed: the datasets form one likelihood term"
-    return out
-
-
 def build_summary(results, case) -> dict:
     """The ``summary.json`` document of a run.
 
@@ -363,8 +290,8 @@ def build_summary(results, case) -> dict:
     models = {n: _model_block(mr, case.problem(n)) for n, mr in results.models.items()}
     doc = {"schema_version": SCHEMA_VERSION, "title": case.title,
            "reliable": bool(results.reliable), "models": models,
-           "comparison": _comparison_block(results.comparison, results.models,
-                                           results.budget, results.sensitivity),
+           "comparison": comparison_block(results.comparison, results.models,
+                                          results.budget, results.sensitivity),
            "provenance": dict(results.provenance)}
     return json_ready(doc)
 
@@ -410,192 +337,3 @@ def draw_indices(n_samples: int, n_max: int = MAX_DRAWS) -> np.ndarray:
     .. [1] Gelman, Meng & Stern, Statistica Sinica 6, 733 (1996): predictive draws.
     """
     return np.unique(np.linspace(0, n_samples - 1, min(n_max, n_samples)).astype(int))
-
-
-# ------------------------------------------------------------------ predictive data
-def _bands(pred) -> np.ndarray:
-    return np.quantile(pred, BAND_QUANTILES, axis=0)
-
-
-def _predict_at(problem, case, ds, x, params) -> np.ndarray:
-    """Predictions of one dataset's model at other points ``x`` (same kind and options)."""
-    from ..families.predict import DatasetPredictor
-    n = len(next(iter(x.values())))
-    other = dataclasses.replace(ds, x=x, y=np.zeros(n), err=np.ones(n),
-                                lines=np.zeros(n, dtype=int))
-    pr = DatasetPredictor(problem.family, other, case.sample)
-    with np.errstate(all="ignore"):
-        return pr.predict(params)
-
-
-def _groups(keys: np.ndarray) -> list:
-    """Indices of points sharing a key row (rounded), in order of first appearance."""
-    _, first, inv = np.unique(np.round(keys, 6), axis=0, return_index=True,
-                              return_inverse=True)
-    order = np.argsort(first)
-    return [np.flatnonzero(inv.reshape(-1) == g) for g in order]
-
-
-def _grid(qx, E):
-    """(x values, E values, index map (nE, nx)) if the points form a full grid, else None."""
-    ux, uE = np.unique(np.round(qx, 6)), np.unique(np.round(E, 6))
-    if ux.size < 3 or uE.size < 3 or ux.size * uE.size != qx.size:
-        return None
-    ix = np.searchsorted(ux, np.round(qx, 6))
-    iE = np.searchsorted(uE, np.round(E, 6))
-    idx = np.full((uE.size, ux.size), -1)
-    idx[iE, ix] = np.arange(qx.size)
-    return None if np.any(idx < 0) else (ux, uE, idx)
-
-
-def _spectrum_data(problem, case, ds, params, point_bands, median_params, one_d):
-    x = ds.x
-    E = x["energy"]
-    crystal = ds.kind == "crystal_spectrum"
-    wave = np.stack([x["Q_par"], x["Q_perp"]], axis=1) if crystal else x["Q"][:, None]
-    out = {"cuts": [], "map": None}
-    groups = _groups(wave)
-    if len(groups) <= ds.n / 3:
-        pick = [groups[i] for i in draw_indices(len(groups), _MAX_CUTS)]
-        dense = {k: [] for k in x}
-        for g in pick:
-            e = np.linspace(E[g].min(), E[g].max(), _DENSE)
-            for k in x:
-                dense[k].append(e if k == "energy" else np.full(_DENSE, x[k][g[0]]))
-        dense = {k: np.concatenate(v) for k, v in dense.items()}
-        bands = _bands(_predict_at(problem, case, ds, dense, params))
-        for c, g in enumerate(pick):
-            s = slice(c * _DENSE, (c + 1) * _DENSE)
-            label = (f"Q_par = {x['Q_par'][g[0]]:.3g}, Q_perp = {x['Q_perp'][g[0]]:.3g} Å⁻¹"
-                     if crystal else f"|Q| = {x['Q'][g[0]]:.3g} Å⁻¹")
-            order = g[np.argsort(E[g])]
-            out["cuts"].append({"label": label, "axis": "energy", "x": E[order],
-                                "y": ds.y[order], "err": ds.err[order],
-                                "model_x": dense["energy"][s], "bands": bands[:, s]})
-    else:
-        e_groups = _groups(E[:, None])
-        for g in (e_groups[i] for i in draw_indices(len(e_groups), _MAX_CUTS)):
-            if g.size < 3:
-                continue
-            axis = "Q" if not crystal else ("Q_par" if np.ptp(x["Q_par"][g]) >=
-                                            np.ptp(x["Q_perp"][g]) else "Q_perp")
-            order = g[np.argsort(x[axis][g])]
-            out["cuts"].append({"label": f"E = {E[g[0]]:.3g} meV", "axis": axis,
-                                "x": x[axis][order], "y": ds.y[order], "err": ds.err[order],
-                                "model_x": x[axis][order], "bands": point_bands[:, order]})
-    axis = None
-    if crystal:
-        if np.unique(np.round(x["Q_perp"], 6)).size == 1:
-            axis = "Q_par"
-        elif np.unique(np.round(x["Q_par"], 6)).size == 1:
-            axis = "Q_perp"
-    else:
-        axis = "Q"
-    grid = _grid(x[axis], E) if axis else None
-    if grid is not None:
-        ux, uE, idx = grid
-        med = point_bands[2]
-        out["map"] = {"axis": axis, "x": ux, "energy": uE, "data": ds.y[idx],
-                      "model": med[idx], "residual": (ds.y[idx] - med[idx]) / ds.err[idx],
-                      "bounds": None}
-        if one_d and axis == "Q_par" and {"J", "delta"} <= set(median_params):
-            from ..physics.chain import spinon_bounds
-            qd = np.linspace(ux.min(), ux.max(), 200)
-            lo, hi = spinon_bounds(qd * case.sample.spin_spacing,
-                                   np.array([[median_params["J"]]]),
-                                   np.array([[median_params["delta"]]]))
-            out["map"]["bounds"] = {"x": qd, "lower": lo[0], "upper": hi[0],
-                                    "J": median_params["J"],
-                                    "delta": median_params["delta"]}
-    return out
-
-
-def predictive_data(results, case, summary, n_draws: int = MAX_DRAWS) -> dict:
-    """Arrays for the posterior-predictive figures of every family and dataset.
-
-    Parameters
-    ----------
-    results : RunResults
-    case : Case
-    summary : dict
-        The document of :func:`build_summary` (posterior medians).
-    n_draws : int
-        Posterior draws used for the bands (evenly spaced over the samples).
-
-    Returns
-    -------
-    dict
-        model -> dataset -> {"kind", "units", "x", "y", "err", "model_x", "bands" (5, n)
-        at :data:`BAND_QUANTILES`, "residual"} for thermodynamic data; spectra carry
-        "cuts" (list of such blocks) and "map" (data, model, normalised residual on the
-        grid and, for a one-dimensional family with J and Δ, the spinon continuum bounds
-        at the posterior median) instead.
-
-    References
-    ----------
-    .. [1] A. Gelman, X.-L. Meng and H. Stern, Statistica Sinica 6, 733 (1996): posterior
-       predictive assessment.
-    .. [2] des Cloizeaux & Pearson, Phys. Rev. 128, 2131 (1962); Johnson, Krinsky & McCoy,
-       Phys. Rev. A 8, 2526 (1973): the continuum bounds.
-    """
-    out = {}
-    for name, mr in results.models.items():
-        problem = case.problem(name)
-        samples = np.asarray(mr.full_samples)
-        draws = samples[draw_indices(samples.shape[0], n_draws)]
-        params = problem.params(draws)
-        at_points = problem.predict(draws)
-        medians = {n: v["median"] for n, v in summary["models"][name]["parameters"].items()}
-        medians.update({n: v["value"] for n, v in
-                        summary["models"][name]["fixed_parameters"].items()})
-        per = {}
-        for pr in problem.predictors:
-            ds = pr.dataset
-            pb = _bands(at_points[ds.name])
-            block = {"kind": ds.kind, "units": dict(ds.units),
-                     "residual": (ds.y - pb[2]) / ds.err}
-            if ds.kind in ("crystal_spectrum", "powder_spectrum"):
-                block.update(_spectrum_data(problem, case, ds, params, pb, medians,
-                                            mr.one_dimensional))
-            else:
-                T = ds.x["T"]
-                dense = {"T": np.linspace(T.min(), T.max(), 2 * _DENSE)}
-                block.update(x=T, y=ds.y, err=ds.err, model_x=dense["T"],
-                             bands=_bands(_predict_at(problem, case, ds, dense, params)))
-            per[ds.name] = block
-        out[name] = per
-    return out
-
-
-def corner_inputs(results, case) -> dict:
-    """Samples and axis labels of each family's corner plot: its free physical parameters.
-
-    Nuisance and sample-level parameters are left out (they are in the tables); a family
-    with fewer than two free physical parameters shows all its parameters.
-
-    Parameters
-    ----------
-    results : RunResults
-    case : Case
-
-    Returns
-    -------
-    dict
-        model -> {"samples": (n, k) array, "labels": list of "symbol (unit)"}.
-
-    References
-    ----------
-    .. [1] Foreman-Mackey, J. Open Source Softw. 1, 24 (2016).
-    """
-    from .figures import axis_label
-    out = {}
-    for name, mr in results.models.items():
-        card = case.models[name].card
-        cols = [j for j, n in enumerate(mr.names) if n in card.parameters]
-        if len(cols) < 2:
-            cols = list(range(len(mr.names)))
-        labels = [axis_label(mr.names[j], mr.units.get(mr.names[j], ""),
-                             card.parameters.get(mr.names[j], {}).get("latex"))
-                  for j in cols]
-        out[name] = {"samples": np.asarray(mr.posterior.samples)[:, cols], "labels": labels}
-    return out

@@ -4,7 +4,6 @@ the common mean apart between datasets (a misfit family), where adding one datas
 population fitted to the others fails; the subsets tempered from the prior must not."""
 from __future__ import annotations
 
-import math
 import os
 
 import numpy as np

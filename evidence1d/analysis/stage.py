@@ -1,0 +1,128 @@
+"""The analysis stage of a run that needs the case: the evidence budget (tempered evidences
+of data subsets, spread over a process pool like the evidence islands) and the prior
+sensitivity (reweighting of the stored tempered populations).
+
+References
+----------
+.. [1] P. Del Moral, A. Doucet and A. Jasra, J. R. Stat. Soc. B 68, 411 (2006).
+.. [2] R. E. Kass and A. E. Raftery, J. Am. Stat. Assoc. 90, 773 (1995), §4.3 and §5.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = ["BUDGET_KEY", "budget_labels", "run_budget", "run_sensitivity"]
+
+#: spawn key of the evidence budget's random stream: a child of the run seed that no
+#: family uses (``evidence1d.runner._model_seeds`` spawns children 0 … n − 1)
+BUDGET_KEY = 2 ** 20
+
+
+def budget_labels(case, problem) -> list:
+    """The likelihood terms of a problem in the case's dataset order (the stated order of
+    the sequential budget)."""
+    pos = {ds.name: i for i, ds in enumerate(case.datasets)}
+    return sorted(problem.term_sizes(), key=lambda lab: min(pos.get(d, 0)
+                                                           for d in lab.split("+")))
+
+
+def run_sensitivity(case, results) -> dict:
+    """Prior sensitivity of a run from the final tempered populations (no likelihood calls).
+
+    Parameters
+    ----------
+    case : Case
+    results : dict of str to ModelResult
+
+    Returns
+    -------
+    dict
+        :func:`~evidence1d.analysis.sensitivity.prior_sensitivity` of the run.
+    """
+    from .sensitivity import prior_sensitivity
+    models = {}
+    for n, r in results.items():
+        pb = case.problem(n)
+        priors = {p: pb.prior.priors[pb.prior.names.index(p)] for p in pb.names
+                  if p in pb.card.parameters}
+        models[n] = {"log_z": r.evidence.log_z, "log_z_err": r.evidence.log_z_err,
+                     "one_dimensional": r.one_dimensional, "names": list(r.evidence.names),
+                     "samples": r.evidence.posterior_samples, "priors": priors}
+    return prior_sensitivity(models, prior_odds=case.prior_odds)
+
+
+def _subset_job(case, name, labels, seed, options):
+    """One island of the tempered evidence of a subset of one family's terms: a pool job."""
+    from .budget import subset_island
+    return subset_island(case.problem(name), labels, seed, **options)
+
+
+def run_budget(case, results, settings, options, seed, progress, workers):
+    """The evidence budget of the two leading families of a run (its third parallel stage).
+
+    Parameters
+    ----------
+    case : Case
+    results : dict of str to ModelResult
+        The families, with their quoted evidences.
+    settings : dict
+        The run's sampler settings (``islands``).
+    options : dict
+        Keyword arguments of :func:`~evidence1d.inference.evidence.run_island`.
+    seed : int
+        The run's seed; the budget's stream is the child ``BUDGET_KEY`` of it.
+    progress : bool
+        A progress bar.
+    workers : int or None
+        Processes (:func:`evidence1d.parallel.worker_count`).
+
+    Returns
+    -------
+    dict or None
+        :func:`~evidence1d.analysis.budget.evidence_budget`, ``{"skipped": why}`` or None
+        (one likelihood term).
+
+    References
+    ----------
+    .. [1] Del Moral, Doucet & Jasra, JRSS B 68, 411 (2006).
+    """
+    from tqdm.auto import tqdm
+
+    from ..inference.evidence import evidence_settings
+    from ..inference.progress import bar_options
+    from ..parallel import run_in_pool, worker_count
+    from .budget import budget_subsets, combine_subset, evidence_budget
+    order = sorted(results, key=lambda n: -results[n].evidence.log_z)
+    a, b = order[0], order[1]
+    labels = budget_labels(case, case.problem(a))
+    if labels != budget_labels(case, case.problem(b)):
+        return {"skipped": "the two leading families group the datasets into different "
+                           "likelihood terms"}
+    if len(labels) < 2:
+        return None
+    subsets = budget_subsets(labels)
+    root = np.random.SeedSequence(seed, spawn_key=(BUDGET_KEY,))
+    jobs, keys = [], []
+    for fam, fam_seq in zip((a, b), root.spawn(2)):
+        for sub, sub_seq in zip(subsets, fam_seq.spawn(len(subsets))):
+            for isl in sub_seq.spawn(settings["islands"]):
+                jobs.append((case, fam, sub, isl, options))
+                keys.append((fam, sub))
+    label, _ = bar_options(progress, "budget")
+    bar = tqdm(total=len(jobs), disable=not progress, desc=label, unit="island",
+               leave=False)
+    try:
+        done = run_in_pool(_subset_job, jobs, worker_count(workers, len(jobs)),
+                           on_result=lambda _: bar.update(1))
+    finally:
+        bar.close()
+    runs = {a: {}, b: {}}
+    for (fam, sub), (lz, _) in zip(keys, done):
+        runs[fam].setdefault(sub, []).append(lz)
+    combined = {fam: {sub: combine_subset(v) for sub, v in runs[fam].items()}
+                for fam in (a, b)}
+    full = {fam: (results[fam].evidence.log_z, results[fam].evidence.log_z_err)
+            for fam in (a, b)}
+    record = evidence_settings(n_islands=settings["islands"], **options)
+    return evidence_budget(labels, a, b, combined, full, record,
+                           [w for _, w in done if w])
