@@ -1,42 +1,50 @@
 """Powder average of a neutron spectrum over the directions of Q, converged to a tolerance.
 
-A powder measures, at each |Q| and energy E, the average of S(Q, E) over the directions of Q
-on the sphere of radius |Q|.  Two schemes, both adaptive and both driven by a callback that
-evaluates the spectrum of a batch of parameter sets at chosen points:
+A powder measures, at each |Q| and energy E, the mean of S(Q, E) over the directions of Q on
+the sphere of radius |Q|.  Two adaptive schemes, both driven by a callback that evaluates
+the spectrum of parameter sets at chosen points:
 
 chain phase only   a spectrum that depends on Q only through the chain phase q = Q_∥ d
-                   (2π-periodic and even in q) has the exact one-dimensional average
-                   ⟨S⟩(|Q|, E) = (1/x) ∫_0^x S(q, E) dq, x = |Q| d (isotropic directions:
-                   Q_∥ = |Q| cos θ with cos θ uniform).  S is sampled on q_j = π j / n,
-                   j = 0..n, once per energy; its cosine series S = Σ_m a_m cos(m q) (the
-                   trigonometric interpolant, a discrete cosine transform) integrates in
-                   closed form: ⟨S⟩(x) = a_0 + Σ_{m ≥ 1} a_m sin(m x) / (m x).  a_0 is the
-                   zone average (whole zones), the rest the remainder; one set of nodes
-                   serves every |Q| of that energy.  n doubles (the nodes are nested)
-                   until two successive levels agree.
-three dimensions   Clenshaw–Curtis in cos θ (θ from the chain axis; nodes uniform in θ)
-                   times the trapezoidal rule in φ (exact for trigonometric polynomials of
-                   degree < n_φ); the φ-average over a set closed under φ → φ + π is an even,
-                   smooth function of θ, so both rules converge spectrally.  Both node sets
-                   nest under doubling; the error indicators are the changes from halving
-                   each, and each parameter set refines the direction that needs it until
-                   every point agrees to the tolerance.
+                   (2π-periodic and even in q) has the exact one-dimensional mean
+                   ⟨S⟩(|Q|, E) = (1/x) ∫_0^x S(q, E) dq, x = |Q| d (Q_∥ = |Q| cos θ with
+                   cos θ uniform).  S is sampled on q_j = π j / n, j = 0..n, once per
+                   energy; its cosine series S = Σ_m a_m cos(m q) (the trigonometric
+                   interpolant, a discrete cosine transform) integrates in closed form,
+                   ⟨S⟩(x) = a_0 + Σ_{m ≥ 1} a_m sin(m x)/(m x): a_0 is the zone average
+                   (whole zones), the rest the remainder, and one grid serves every |Q| of
+                   that energy.  n doubles (nested nodes) until two levels agree.
+three dimensions   Clenshaw–Curtis in θ (from the chain axis) times the trapezoidal rule in
+                   φ, on θ ∈ [0, π/2] and φ ∈ [0, π/2] (spectrum even in each component) or
+                   [0, π) (even under Q → −Q only).  The φ-mean over a set closed under
+                   φ → φ + π is an even, smooth function of θ, so both rules converge
+                   spectrally.  Each point starts from a grid whose phase step between
+                   neighbouring directions is at most ``phase_step`` along every lattice
+                   direction (so the node count grows as |Q|²), then θ and φ are doubled
+                   independently while halving either changes the mean by more than the
+                   tolerance.
 
-Convergence test (both schemes): a point is converged when its last change is at most
-``tol`` × (|value| + ``floor`` × max over the dataset of |value|) for that parameter set.
-Each parameter set is refined on its own, so a set's result does not depend on the other
-sets of the batch.
+Convergence (both schemes): a point is converged when its last change is at most
+``tolerance`` × (|value| + ``floor`` × the dataset's largest |value|) for that parameter
+set.  Each set is refined on its own: its result does not depend on the rest of the batch.
 
-Units: wavevectors in Å⁻¹, spacings in Å, phases in radians; the spectrum's own units are
-kept (1/meV for S).
+Measured accuracy of the defaults (tolerance 0.01, phase step 1.5 rad, at most 64 × 64
+intervals) against dense independent quadratures, |Q| 0.3–3 Å⁻¹ × E 0.2–4 meV, d = 3.1 Å,
+interchain 7.4 and 7.9 Å, resolution FWHM 0.1 + 0.02 E meV, points above 10⁻³ of the
+largest value: spinon chain (J 0.3–20 meV, Δ 0.5–1) median ≤ 10⁻⁶, 90th percentile
+≤ 2 × 10⁻⁵, worst point 10⁻³ (grids of 32 to 2048 intervals); gapped spin waves (J ≈ 1 meV,
+J_⊥ 0.02–0.2 meV, damping 0–0.3) and paramagnons (ξ_∥ 10–20 Å, ξ_⊥ 3–8 Å) median ≤ 10⁻⁵,
+90th percentile ≤ 2 × 10⁻³, worst point 4 %, with 400–900 directions per point on an
+octant (about 8 times as many over the whole sphere).
+
+Units: wavevectors in Å⁻¹, spacings in Å, phases in radians; the spectrum keeps its units.
 
 References
 ----------
-L. N. Trefethen, *Spectral Methods in MATLAB* (SIAM, 2000), Ch. 12 (Clenshaw–Curtis weights);
+C. W. Clenshaw & A. R. Curtis, Numer. Math. 2, 197 (1960); weights as in L. N. Trefethen,
+*Spectral Methods in MATLAB* (SIAM, 2000), program clencurt.
 L. N. Trefethen, "Is Gauss quadrature better than Clenshaw–Curtis?", SIAM Rev. 50, 67 (2008).
 L. N. Trefethen & J. A. C. Weideman, "The exponentially convergent trapezoidal rule",
-SIAM Rev. 56, 385 (2014) (trapezoidal rule for periodic functions).
-C. W. Clenshaw & A. R. Curtis, Numer. Math. 2, 197 (1960).
+SIAM Rev. 56, 385 (2014).
 G. L. Squires, *Introduction to the Theory of Thermal Neutron Scattering* (CUP, 1978),
 Ch. 7 (powder average of the magnetic cross-section).
 """
@@ -50,7 +58,7 @@ from scipy import fft
 
 from ..errors import InputError
 
-__all__ = ["PowderSettings", "clenshaw_curtis", "sphere_rule", "cosine_coefficients",
+__all__ = ["PowderSettings", "clenshaw_curtis", "cosine_coefficients",
            "chain_average", "adaptive_chain_average", "adaptive_sphere_average"]
 
 
@@ -160,43 +168,8 @@ def clenshaw_curtis(n: int):
 def _directions(theta, phi):
     """Unit vectors (along the chain, along a, along b), shape theta.shape + (3,)."""
     s = np.sin(theta)
-    return np.stack([np.cos(theta) + 0.0 * phi, s * np.cos(phi), s * np.sin(phi)], axis=-1)
-
-
-def sphere_rule(n_theta: int, n_phi: int):
-    """Product rule for the average over the unit sphere: Clenshaw–Curtis × trapezoid.
-
-    Parameters
-    ----------
-    n_theta : int
-        Intervals in θ (θ from the chain axis); the two poles are single directions.
-    n_phi : int
-        Equally spaced azimuths φ_k = 2π k / n_phi (even n_phi keeps the set closed under
-        inversion).
-
-    Returns
-    -------
-    u : ndarray, shape (m, 3)
-        Unit vectors (along the chain, along a, along b).
-    w : ndarray, shape (m,)
-        Weights summing to 1; exact for spherical harmonics of degree ≤ min(n_theta,
-        n_phi − 1).
-
-    References
-    ----------
-    Clenshaw & Curtis (1960); trapezoidal rule for periodic functions, Trefethen &
-    Weideman, SIAM Rev. 56, 385 (2014).
-    """
-    for name, v in (("n_theta", n_theta), ("n_phi", n_phi)):
-        if isinstance(v, bool) or not isinstance(v, (int, np.integer)) or v < 1:
-            raise InputError(f"the '{name}' parameter of sphere_rule must be a positive "
-                             f"integer; got {v!r} instead")
-    theta, wt = clenshaw_curtis(int(n_theta))
-    phi = 2.0 * np.pi * np.arange(int(n_phi)) / int(n_phi)
-    inner = _directions(theta[1:-1, None], phi[None, :]).reshape(-1, 3)
-    u = np.concatenate([[[1.0, 0.0, 0.0]], inner, [[-1.0, 0.0, 0.0]]])
-    w = np.concatenate([[wt[0]], np.repeat(wt[1:-1] / n_phi, n_phi), [wt[-1]]])
-    return u, w
+    c = np.cos(theta) + np.zeros_like(phi)
+    return np.stack([c, s * np.cos(phi), s * np.sin(phi)], axis=-1)
 
 
 # ------------------------------------------------------------------------- chain phase

@@ -50,17 +50,19 @@ def test_clenshaw_curtis_exact_for_polynomials():
         pw.clenshaw_curtis(0)
 
 
-def test_sphere_rule_moments():
+@pytest.mark.parametrize("mirror", [True, False])
+def test_sphere_average_moments(mirror):
     # <x^2a y^2b z^2c> over the unit sphere = (2a-1)!!(2b-1)!!(2c-1)!!/(2a+2b+2c+1)!!
-    u, w = pw.sphere_rule(12, 14)
-    assert w.sum() == pytest.approx(1.0, abs=1e-14)
-    np.testing.assert_allclose(np.linalg.norm(u, axis=1), 1.0, atol=1e-15)
-    x, y, z = u.T
-    for val, ref in [((w * x ** 2).sum(), 1 / 3), ((w * y ** 2).sum(), 1 / 3),
-                     ((w * z ** 4).sum(), 1 / 5), ((w * x ** 2 * y ** 2).sum(), 1 / 15),
-                     ((w * x ** 2 * y ** 2 * z ** 2).sum(), 1 / 105),
-                     ((w * x * y).sum(), 0.0), ((w * y ** 3 * z).sum(), 0.0)]:
-        assert val == pytest.approx(ref, abs=1e-14)
+    cases = [((2, 0, 0), 1 / 3), ((0, 2, 0), 1 / 3), ((0, 0, 4), 1 / 5),
+             ((2, 2, 0), 1 / 15), ((2, 2, 2), 1 / 105), ((0, 4, 2), 1 / 35)]
+
+    def evaluate(row, u, i):
+        a, b, c = np.array([cases[k][0] for k in i]).T
+        return (u[:, 0] ** a * u[:, 1] ** b * u[:, 2] ** c)[None, :]
+
+    avg, ndir = pw.adaptive_sphere_average(evaluate, np.full(len(cases), 0.5), (D, A, B), 1,
+                                           mirror=mirror)
+    np.testing.assert_allclose(avg[0], [c[1] for c in cases], rtol=1e-13)
 
 
 def test_chain_average_of_exponential_cosine():
@@ -227,7 +229,8 @@ def _chain_reference(fam, p, Q, E, panel=0.01, order=8):
 def _sphere_reference(fam, p, Q, E, density=1.0):
     """Mean over the directions of Q: Gauss–Legendre in cos θ ∈ (0, 1) times the midpoint
     rule in φ ∈ (0, π/2) (the octant the symmetry test above licenses), node counts growing
-    with |Q| (at |Q| = 3 Å⁻¹ about 200 × 100 directions for density 1)."""
+    with |Q| (at |Q| = 3 Å⁻¹ about 200 × 100 directions for density 1; on the test's points
+    density 0.5 agrees with density 1 to 1e-5)."""
     out = []
     for Qi, Ei in zip(Q, E):
         nu, nph = int(density * (20 + 60 * Qi)), int(density * (10 + 30 * Qi))
@@ -273,15 +276,15 @@ def test_default_average_meets_the_stated_accuracy(name, grid):
     if name == "spinon_continuum":
         fam.chain_only = True          # the spinon spectrum depends on q = Q_par d only
     p = {k: np.array([[v]]) for k, v in PARAMS[name].items()}
-    Q, E = _subset(FLAGSHIP if grid == "flagship" else COARSE, 24, seed=7)
+    Q, E = _subset(FLAGSHIP if grid == "flagship" else COARSE, 16, seed=7)
     avg = PowderAverage(fam, Q, E, _sigma(E), T, _sample()).average(p)
     if name == "spinon_continuum":
         ref, check = _chain_reference(fam, p, Q, E), _chain_reference(fam, p, Q, E, 0.02)
     else:
-        ref, check = _sphere_reference(fam, p, Q, E), _sphere_reference(fam, p, Q, E, 0.7)
+        ref, check = _sphere_reference(fam, p, Q, E, 0.5), _sphere_reference(fam, p, Q, E, 0.35)
     assert np.percentile(_relative_errors(check, ref), 90) < 1e-3   # the reference converged
     err = _relative_errors(avg, ref)
-    assert err.size >= 8
+    assert err.size >= 6
     assert np.median(err) <= 0.01 and np.percentile(err, 90) <= 0.03, \
         (np.median(err), np.percentile(err, 90))
 
