@@ -448,8 +448,13 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
         budget_doc = {"skipped": "a --quick run" if quick else "not asked for"}
     else:
         t_b = time.time()
-        budget_doc = run_budget(case, results, settings, _evidence_options(settings), seed,
-                                progress, workers)
+        try:
+            budget_doc = run_budget(case, results, settings, _evidence_options(settings),
+                                    seed, progress, workers)
+        except (InputError, ValueError, FloatingPointError, np.linalg.LinAlgError) as exc:
+            # an analysis must not sink a finished comparison; the report says why
+            budget_doc = {"skipped": f"failed ({exc.__class__.__name__}: {exc})"}
+            log(f"evidence budget not computed: {exc}")
         if budget_doc is not None and "skipped" not in budget_doc:
             log(f"evidence budget of {' vs '.join(budget_doc['families'])}: ln K without "
                 + ", ".join(f"{r['dataset']} {r['ln_k_without']:.2f}"

@@ -166,7 +166,8 @@ def render_tables(summary: dict, context: dict) -> str:
     for n, m in s["models"].items():
         for d, f in m["goodness_of_fit"].items():
             rows.append([latex_escape(n), latex_escape(d), str(f["n_points"]),
-                         f"${f['chi2_per_point']:.2f}$", f"${f['chi2_per_point_limit']:.2f}$",
+                         "---" if f["chi2_per_point"] is None else f"${f['chi2_per_point']:.2f}$",
+                         f"${f['chi2_per_point_limit']:.2f}$",
                          f"${f['p_value']:.2g}$", "bad" if f["bad_fit"] else "ok"])
     out += _tabular("llrrrrl", ["Family", "Dataset", "$N$", r"$\chi^2/N$",
                                 r"bad above", "$p$", "Fit"], rows,

@@ -67,8 +67,9 @@ def fit_section(s) -> list:
             if f["median_unrepresentative"]:
                 verdict += " (the median is no fit: curved or multimodal posterior)"
             rows.append([f"`{n}`" + (" (winner)" if n == best else ""), f"`{d}`",
-                         str(f["n_points"]), f"{f['chi2_per_point']:.2f}",
-                         f"{f['chi2_min_draws'] / f['n_points']:.2f}",
+                         str(f["n_points"]), fmt(f["chi2_per_point"]),
+                         fmt(None if f["chi2_min_draws"] is None
+                             else f["chi2_min_draws"] / f["n_points"]),
                          f"{f['chi2_per_point_limit']:.2f}", f"{f['p_value']:.2g}", verdict])
     method = next((f["p_value_method"] for m in s["models"].values()
                    for f in m["goodness_of_fit"].values()), "")

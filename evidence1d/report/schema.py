@@ -149,13 +149,14 @@ SUMMARY_FIELDS = (
     _F(f"{_M}.loo.error", "string", "", "why LOO could not be computed", required=False),
     _F(f"{_M}.goodness_of_fit", "mapping[object]", "", "dataset -> goodness of fit of the "
        "family (see report.md)"),
-    _F(f"{_G}.chi2", "number", "", "χ² = Σ((y − μ)/σ)² at the posterior median of every "
+    _F(f"{_G}.chi2", "number|null", "", "χ² = Σ((y − μ)/σ)² at the posterior median of every "
        "parameter (σ times any error-inflation factor)"),
     _F(f"{_G}.n_points", "integer", "", "data points N"),
-    _F(f"{_G}.chi2_per_point", "number", "", "χ²/N (per point, not per degree of freedom)"),
+    _F(f"{_G}.chi2_per_point", "number|null", "", "χ²/N (per point, not per degree of freedom)"),
     _F(f"{_G}.chi2_per_point_limit", "number", "", "1 + 5√(2/N): χ²/N above it is a bad fit "
        "(five standard deviations of χ²/N for a correct model; common practice)"),
-    _F(f"{_G}.chi2_min_draws", "number", "", "smallest χ² among the posterior draws used"),
+    _F(f"{_G}.chi2_min_draws", "number|null", "", "smallest χ² among the posterior draws used "
+       "(null, like the two above, when the predictions are not finite: a bad fit)"),
     _F(f"{_G}.p_value", "number", "", "posterior-predictive p-value of the χ² discrepancy; "
        "below 0.001 the fit is bad (common practice)"),
     _F(f"{_G}.p_value_method", "string", "", "how the p-value was computed"),

@@ -153,3 +153,14 @@ def test_metal_context_when_chi0_and_gamma_are_fitted(run_dir, summary):
         if mc["wilson_ratio"] is not None:
             assert mc["wilson_ratio"]["median"] == pytest.approx(
                 np.median(rw[np.isfinite(rw)]))
+
+
+def test_a_fit_without_finite_predictions_still_renders(summary, context):
+    from evidence1d.report.latex import render_tables
+    from evidence1d.report.schema import validate_summary
+    doc = copy.deepcopy(summary)
+    f = next(iter(next(iter(doc["models"].values()))["goodness_of_fit"].values()))
+    f.update(chi2=None, chi2_per_point=None, chi2_min_draws=None, bad_fit=True)
+    validate_summary(doc)
+    assert "| — | — |" in render_markdown(doc, context)
+    assert "---" in render_tables(doc, context)
