@@ -211,9 +211,17 @@ def test_comparison_is_readable_over_five_decades(fdata, tmp_path):
     cmp_ = json.loads(json.dumps(fdata["comparison"]))
     names = list(cmp_["models"])
     cmp_["models"][names[-1]]["log_evidence"] = cmp_["models"][names[0]]["log_evidence"] - 1e5
+    cmp_["evidence_budget"] = {                    # the layout of summary.json (schema.py)
+        "families": names[:2], "ln_k": 3.5, "ln_k_err": 0.4,
+        "sequential": [{"dataset": "map", "ln_k": 2.9, "ln_k_err": 0.3},
+                       {"dataset": "chi", "ln_k": 0.6, "ln_k_err": 0.2}]}
     fig = comparison_figure(cmp_, quick=True)
-    check_figure(fig)
+    texts = check_figure(fig)
     a1, a2 = fig.axes[:2]
     assert a1.get_xscale() == "symlog" and a1.get_xlim()[0] <= -1e5
     assert a2.get_xscale() == "log"
+    joined = " ".join(t.get_text() for t, _ in texts)
+    assert "evidence budget" in joined and "2.90 ± 0.30" in joined
+    if cmp_.get("prior_sensitivity"):
+        assert "prior sensitivity" in joined
     check_png(save_figure(fig, tmp_path / "comparison")[0])

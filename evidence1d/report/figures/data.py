@@ -226,6 +226,8 @@ def figure_data(results, case, summary: dict, settings=None, quick: bool = False
                                                   spec, f"{where} (dataset '{ds.name}')")
             else:
                 blocks[ds.name] = _thermo_block(problem, case, ds, params, pb, log_axis)
+        out["comparison"].setdefault("symbols", {}).update(
+            {n: v.get("latex") or n for n, v in problem.card.parameters.items()})
         out["models"][name] = {
             "title": sm.get("title", name), "one_dimensional": bool(mr.one_dimensional),
             "corner": _corner_block(mr, case, problem, sm["parameters"], settings["truths"]),

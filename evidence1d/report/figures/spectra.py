@@ -60,9 +60,9 @@ def _x_label(block, cut):
     return wavevector_label(cut["axis"], block["wavevector_unit"])
 
 
-def _title(body, text, width):
+def _title(body, text, width, tail=""):
     if text:
-        body.suptitle(title_lines(text, width), fontsize=7)
+        body.suptitle(title_lines(text, width, tail=tail), fontsize=7)
 
 
 @styled
@@ -123,12 +123,10 @@ def cut_pages(block: dict, model_title: str, quick: bool = False, titles: bool =
         handles, labels = body.axes[0].get_legend_handles_labels()
         body.legend(handles, labels, loc="outside lower center", ncol=4, fontsize=6)
         if titles:
-            t = f"{model_title}: dataset '{block['name']}'"
-            if block.get("common"):
-                t += f" at {block['common']}"
+            tail = f"at {block['common']}" if block.get("common") else ""
             if n_pages > 1:
-                t += f" (page {p + 1} of {n_pages})"
-            _title(body, t, width)
+                tail = f"{tail} (page {p + 1} of {n_pages})".strip()
+            _title(body, f"{model_title}: dataset '{block['name']}'", width, tail)
         figs.append(fig)
     return figs
 
@@ -233,8 +231,6 @@ def map_figure(block: dict, model_title: str, dataset: str, intensity_unit: str,
         body.legend(handles, labels, loc="outside lower center", ncol=len(labels),
                     fontsize=6)
     if titles:
-        t = f"{model_title}: dataset '{dataset}'"
-        if block.get("common"):
-            t += f" at {block['common']}"
-        _title(body, t, DOUBLE_WIDTH)
+        _title(body, f"{model_title}: dataset '{dataset}'", DOUBLE_WIDTH,
+               f"at {block['common']}" if block.get("common") else "")
     return fig

@@ -192,11 +192,24 @@ def wrap(text: str, width: int) -> str:
     return "\n".join(textwrap.wrap(text, width)) if text else text
 
 
-def title_lines(text: str, width_in: float, size: float = 7.0) -> str:
+def _shown_length(text: str) -> int:
+    """Characters a mathtext string shows (``$Q_\\perp$`` shows two)."""
+    import re
+    return len(re.sub(r"\$|\\[A-Za-z]+|[_{}^]", "", text)) + text.count("\\") // 2
+
+
+def title_lines(text: str, width_in: float, size: float = 7.0, tail: str = "") -> str:
     """Wrap a title to a figure ``width_in`` inches wide at font ``size`` points (DejaVu Sans
-    averages about 0.6 em per character)."""
-    return "\n".join(wrap(line, max(20, int(width_in * 72.0 / (0.6 * size)) - 2))
-                     for line in text.split("\n"))
+    averages about 0.6 em per character); ``tail`` (e.g. ``at Q⊥ = 0 r.l.u.``) is kept in
+    one piece, on the last line if it fits there, else on its own line."""
+    limit = max(20, int(width_in * 72.0 / (0.6 * size)) - 2)
+    lines = [w for line in text.split("\n") for w in wrap(line, limit).split("\n")]
+    if tail:
+        if _shown_length(lines[-1]) + 1 + _shown_length(tail) <= limit:
+            lines[-1] = f"{lines[-1]} {tail}"
+        else:
+            lines.append(tail)
+    return "\n".join(lines)
 
 
 def no_offset(ax) -> None:
