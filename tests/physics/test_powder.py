@@ -276,7 +276,7 @@ def test_default_average_meets_the_stated_accuracy(name, grid):
     if name == "spinon_continuum":
         fam.chain_only = True          # the spinon spectrum depends on q = Q_par d only
     p = {k: np.array([[v]]) for k, v in PARAMS[name].items()}
-    Q, E = _subset(FLAGSHIP if grid == "flagship" else COARSE, 16, seed=7)
+    Q, E = _subset(FLAGSHIP if grid == "flagship" else COARSE, 12, seed=7)
     avg = PowderAverage(fam, Q, E, _sigma(E), T, _sample()).average(p)
     if name == "spinon_continuum":
         ref, check = _chain_reference(fam, p, Q, E), _chain_reference(fam, p, Q, E, 0.02)
