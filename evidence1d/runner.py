@@ -431,7 +431,8 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
     rel = verdict_reliability(comparison,
                               {n: r.evidence.island_log_z for n, r in results.items()},
                               {n: r.diagnostics.ok for n, r in results.items()},
-                              {n: list(r.diagnostics.warnings) for n, r in results.items()})
+                              {n: list(r.diagnostics.warnings) for n, r in results.items()},
+                              {n: list(r.evidence.warnings) for n, r in results.items()})
     comparison = with_reliability(comparison, rel)
     reliable = bool(rel["verdict_reliable"])
     for n, note in rel["posterior_notes"].items():

@@ -183,7 +183,8 @@ VERDICT_THRESHOLDS = {"ln_k_sigmas": 2.0, "ln_k_claim": 1.0, "island_majority": 
 
 
 def verdict_reliability(cmp_: Comparison, island_log_z: dict, posterior_ok: dict,
-                        posterior_warnings: dict | None = None) -> dict:
+                        posterior_warnings: dict | None = None,
+                        evidence_warnings: dict | None = None) -> dict:
     """Whether the verdict can be trusted, separately from each family's posterior.
 
     The verdict (which family wins, how strongly, and P(1D)) rests on the evidences, which
@@ -198,7 +199,9 @@ def verdict_reliability(cmp_: Comparison, island_log_z: dict, posterior_ok: dict
        of the winner against island r of the runner-up, independent estimates of ln K)
        rank the families as the combined ln K does, so that the log-mean-exp is not carried
        by one island that found a mode the others missed;
-    4. the winner's convergence diagnostics pass.
+    4. the winner's convergence diagnostics pass;
+    5. the tempered sequences of the two leading families reached β = 1 by their adaptive
+       schedule (not by the jump the temperature cap forces, which biases ln Z).
 
     A family that failed its diagnostics but is not the winner gets a note: its parameter
     table is unreliable, but its ln Z does not come from that chain, so the verdict stands
@@ -213,6 +216,8 @@ def verdict_reliability(cmp_: Comparison, island_log_z: dict, posterior_ok: dict
         family -> whether its convergence diagnostics passed.
     posterior_warnings : dict, optional
         family -> its diagnostic warnings (the first is quoted in the note).
+    evidence_warnings : dict, optional
+        family -> the warnings of its evidence run.
 
     Returns
     -------
@@ -261,6 +266,11 @@ def verdict_reliability(cmp_: Comparison, island_log_z: dict, posterior_ok: dict
         reasons.append(f"the posterior of the winner {best} failed the convergence "
                        f"diagnostics ({first}); its parameters and nested-limit ratio "
                        "cannot be quoted")
+    for n in (best, second):
+        capped = [w for w in (evidence_warnings or {}).get(n, []) if "jumped to β = 1" in w]
+        if capped:
+            reasons.append(f"the tempered sequence of {n} hit its temperature cap ({capped[0]}),"
+                           " so its ln Z is biased")
     notes = {}
     for n in cmp_.names:
         if n == best or posterior_ok.get(n, True):

@@ -350,7 +350,8 @@ def _methods(s, ctx) -> tuple:
                  f"finite error, ln K exceeds {rt['ln_k_sigmas']:g} standard errors whenever "
                  f"it claims more than a bare mention (ln K + {rt['ln_k_sigmas']:g}σ ≥ "
                  f"{rt['ln_k_claim']:g} nat), more than {rt['island_majority']:.0%} of the "
-                 "paired islands rank the two leading families alike, and the winner's "
+                 "paired islands rank the two leading families alike, their tempered "
+                 "sequences reach the posterior without the temperature cap, and the winner's "
                  "posterior passes the thresholds above; a losing family's posterior is "
                  "judged on its own. Goodness of fit is the χ² at the posterior median and "
                  f"the posterior-predictive p-value of the χ² discrepancy {cite('ppc')}. ")

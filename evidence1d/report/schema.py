@@ -68,9 +68,10 @@ SUMMARY_FIELDS = (
     _F("schema_version", "string", "", "version of this layout"),
     _F("title", "string", "", "title of the case"),
     _F("reliable", "boolean", "", "whether the verdict can be trusted (finite evidence "
-       "errors, ranking and islands secure against the size of ln K, the winner's "
-       "diagnostics; see comparison.reliability); false: every output says UNRELIABLE. A "
-       "losing family's failed chain does not make it false"),
+       "errors, ranking and islands secure against the size of ln K, no capped temperature "
+       "schedule for the two leading families, the winner's diagnostics; see "
+       "comparison.reliability); false: every output says UNRELIABLE. A losing family's "
+       "failed chain does not make it false"),
     _F("models", "mapping[object]", "", "one entry per model family, keyed by its name"),
     _F(f"{_M}.title", "string", "", "title of the family's model card"),
     _F(f"{_M}.one_dimensional", "boolean", "", "whether the family is one-dimensional physics"),

@@ -88,3 +88,16 @@ def test_p_one_dimensional_with_nested_limits():
     _, err = p_one_dimensional_with_limits(cmp_, {"ladder": (1.0, 0.3)})
     f = lambda b: (0.5 + 0.25 * e2 * math.exp(b)) / (0.5 + 0.25 * e2 * (1 + math.exp(b)))  # noqa: E731
     assert err == pytest.approx(abs(f(1.001) - f(0.999)) / 0.002 * 0.3, rel=1e-4)
+
+
+def test_a_capped_temperature_schedule_makes_the_verdict_unreliable():
+    cmp_ = compare_models({"a": (0.0, 0.1, True), "b": (-50.0, 0.1, False),
+                           "c": (-90.0, 0.1, False)})
+    capped = "reached 500 temperatures; jumped to β = 1 (raise max_temperatures)"
+    ok = {"a": True, "b": True, "c": True}
+    isl = {"a": [0, 0], "b": [-50, -50], "c": [-90, -90]}
+    rel = verdict_reliability(cmp_, isl, ok, evidence_warnings={"b": [capped]})
+    assert not rel["verdict_reliable"] and "temperature cap" in rel["reasons"][0]
+    # a third family far behind does not change the verdict's reliability
+    rel = verdict_reliability(cmp_, isl, ok, evidence_warnings={"c": [capped]})
+    assert rel["verdict_reliable"]
