@@ -30,7 +30,7 @@ set.  Each set is refined on its own: its result does not depend on the rest of 
 Measured accuracy of the defaults (tolerance 0.01, phase step 1.5 rad, at most 64 × 64
 intervals) against dense independent quadratures, |Q| 0.3–3 Å⁻¹ × E 0.2–4 meV, d = 3.1 Å,
 interchain 7.4 and 7.9 Å, resolution FWHM 0.1 + 0.02 E meV, points above 10⁻³ of the
-largest value: spinon chain (J 0.3–20 meV, Δ 0.5–1) median ≤ 10⁻⁶, 90th percentile
+largest value: spinon chain (J 0.3–20 meV, Δ 0.5–1) median ≤ 2 × 10⁻⁶, 90th percentile
 ≤ 2 × 10⁻⁵, worst point 10⁻³ (grids of 32 to 2048 intervals); gapped spin waves (J ≈ 1 meV,
 J_⊥ 0.02–0.2 meV, damping 0–0.3) and paramagnons (ξ_∥ 10–20 Å, ξ_⊥ 3–8 Å) median ≤ 10⁻⁵,
 90th percentile ≤ 2 × 10⁻³, worst point 4 %, with 400–900 directions per point on an
