@@ -33,6 +33,10 @@ def bar_options(progress, default_label: str):
     Returns
     -------
     (str, int or None)
+
+    References
+    ----------
+    .. [1] tqdm documentation (``desc``, ``position``).
     """
     if isinstance(progress, dict):
         return (f"{progress.get('label', '')} {default_label}".strip(),
@@ -64,6 +68,10 @@ class PlainProgress:
         Work already done (a resumed stage).
     stream : file-like
         Where the lines go.
+
+    References
+    ----------
+    .. [1] ECMA-48 (1991): plain lines, no control functions.
     """
 
     #: fractions of the total at which a line is written

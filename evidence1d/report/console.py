@@ -28,6 +28,10 @@ def case_table(case) -> str:
     Returns
     -------
     str
+
+    References
+    ----------
+    .. [1] The case file layout of :mod:`evidence1d.case`.
     """
     rows = []
     for ds in case.datasets:
@@ -56,7 +60,12 @@ def case_table(case) -> str:
 
 
 def verdict_lines(results) -> str:
-    """The lines ``run`` prints at the end: verdict, ln Z table, where the report is."""
+    """The lines ``run`` prints at the end: verdict, ln Z table, where the report is.
+
+    References
+    ----------
+    .. [1] Kass & Raftery, JASA 90, 773 (1995) (the verdict's wording).
+    """
     cmp_ = results.comparison
     lines = ["", "model                     ln Z              P(model)  1D"]
     for name, m in results.models.items():
@@ -82,6 +91,10 @@ def report_lines(out, figures: bool = True, figures_only: bool = False) -> str:
     Returns
     -------
     str
+
+    References
+    ----------
+    .. [1] The run folder layout of :mod:`evidence1d.report.store`.
     """
     out = Path(out)
     folder = out / "figures"

@@ -30,7 +30,12 @@ _OVERLAY_STYLES = ("--", ":", "-", "-.")
 
 
 def draw_bands(ax, x, bands, label=True):
-    """The 95 % and 68 % predictive bands and the median of ``bands`` (5, n)."""
+    """The 95 % and 68 % predictive bands and the median of ``bands`` (5, n).
+
+    References
+    ----------
+    .. [1] Gelman, Meng & Stern, Statistica Sinica 6, 733 (1996).
+    """
     ax.fill_between(x, bands[0], bands[4], color=PALETTE["band95"], lw=0,
                     label="95 % band" if label else None)
     ax.fill_between(x, bands[1], bands[3], color=PALETTE["band68"], lw=0,

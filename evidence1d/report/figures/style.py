@@ -70,7 +70,12 @@ _WAVEVECTOR_SYMBOLS = {"Q_par": r"$Q_\parallel$", "Q_perp": r"$Q_\perp$", "Q": r
 
 
 def plt():
-    """matplotlib.pyplot on the Agg backend (no display, no TeX installation needed)."""
+    """matplotlib.pyplot on the Agg backend (no display, no TeX installation needed).
+
+    References
+    ----------
+    .. [1] Hunter, Comput. Sci. Eng. 9, 90 (2007).
+    """
     import matplotlib
     matplotlib.use("Agg", force=False)
     import matplotlib.pyplot as pyplot
@@ -79,7 +84,12 @@ def plt():
 
 def styled(draw):
     """Decorator: run a drawing function inside :data:`STYLE` (fonts, ticks, line widths
-    apply to everything it creates)."""
+    apply to everything it creates).
+
+    References
+    ----------
+    .. [1] Hunter, Comput. Sci. Eng. 9, 90 (2007) (``rc_context``).
+    """
     import functools
 
     @functools.wraps(draw)
@@ -188,7 +198,12 @@ def value_text(symbol: str, median: float, q16: float, q84: float, unit: str = "
 
 
 def wrap(text: str, width: int) -> str:
-    """Wrap plain text to lines of at most ``width`` characters."""
+    """Wrap plain text to lines of at most ``width`` characters.
+
+    References
+    ----------
+    .. [1] Python standard library, ``textwrap``.
+    """
     return "\n".join(textwrap.wrap(text, width)) if text else text
 
 
@@ -201,7 +216,12 @@ def _shown_length(text: str) -> int:
 def title_lines(text: str, width_in: float, size: float = 7.0, tail: str = "") -> str:
     """Wrap a title to a figure ``width_in`` inches wide at font ``size`` points (DejaVu Sans
     averages about 0.6 em per character); ``tail`` (e.g. ``at Q⊥ = 0 r.l.u.``) is kept in
-    one piece, on the last line if it fits there, else on its own line."""
+    one piece, on the last line if it fits there, else on its own line.
+
+    References
+    ----------
+    .. [1] DejaVu Sans metrics (about 0.6 em per character; common practice).
+    """
     limit = max(20, int(width_in * 72.0 / (0.6 * size)) - 2)
     lines = [w for line in text.split("\n") for w in wrap(line, limit).split("\n")]
     if tail:
@@ -213,7 +233,12 @@ def title_lines(text: str, width_in: float, size: float = 7.0, tail: str = "") -
 
 
 def no_offset(ax) -> None:
-    """Plain tick labels: no offset (“+1”) and no multiplier text on either axis."""
+    """Plain tick labels: no offset (“+1”) and no multiplier text on either axis.
+
+    References
+    ----------
+    .. [1] Hunter, Comput. Sci. Eng. 9, 90 (2007) (``ScalarFormatter``).
+    """
     from matplotlib.ticker import ScalarFormatter
     for axis in (ax.xaxis, ax.yaxis):
         fmt = axis.get_major_formatter()
@@ -239,6 +264,10 @@ def new_figure(width: float, height: float, constrained: bool = True, quick: boo
         The figure to save.
     body : matplotlib.figure.Figure or SubFigure
         Where to draw (the figure itself, or the part below the strip).
+
+    References
+    ----------
+    .. [1] Hunter, Comput. Sci. Eng. 9, 90 (2007) (constrained layout, subfigures).
     """
     p = plt()
     with p.rc_context(STYLE):
@@ -257,14 +286,24 @@ def new_figure(width: float, height: float, constrained: bool = True, quick: boo
 
 def stamp_quick(fig) -> None:
     """Mark a figure with explicit margins: one line in the bottom :data:`STAMP_HEIGHT`
-    (which the figure keeps free)."""
+    (which the figure keeps free).
+
+    References
+    ----------
+    .. [1] Hunter, Comput. Sci. Eng. 9, 90 (2007).
+    """
     h = fig.get_figheight()
     fig.text(0.5, 0.5 * STAMP_HEIGHT / h, QUICK_STAMP, ha="center", va="center",
              fontsize=6, color=PALETTE["stamp"], fontstyle="italic")
 
 
 def fit_text(fig, text_artist, box, min_size: float = 4.5) -> None:
-    """Shrink a text's font until its extent fits ``box`` (a Bbox in display units)."""
+    """Shrink a text's font until its extent fits ``box`` (a Bbox in display units).
+
+    References
+    ----------
+    .. [1] Hunter, Comput. Sci. Eng. 9, 90 (2007) (``Text.get_window_extent``).
+    """
     fig.canvas.draw_idle()
     renderer = fig.canvas.get_renderer()
     size = text_artist.get_fontsize()
