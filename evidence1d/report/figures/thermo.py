@@ -135,6 +135,9 @@ def thermo_figure(block: dict, model_title: str, quick: bool = False, titles: bo
     if kind == "entropy" and "ceiling" in block:
         ax.axhline(block["ceiling"], color=PALETTE["prior"], ls="--", lw=0.8,
                    label=block["ceiling_label"])
+        top = max(block["ceiling"], float(np.nanmax(block["bands"][4])),
+                  float(np.nanmax(block["y"] + block["err"])))
+        ax.set_ylim(min(0.0, float(np.nanmin(block["y"] - block["err"]))), 1.08 * top)
     k = 1
     if kind == "susceptibility":
         _inverse(axes[k], block)
