@@ -128,6 +128,8 @@ _CASE = Spec({
     "prior_odds": Field(_mapping, default=None, help="prior model odds {model: weight}"),
     "seed": Field(as_int, default=20261201),
     "output": Field(as_str, default=None, help="output folder"),
+    "figures": Field(_mapping, default=None, help="figure choices: cuts, temperature_axis, "
+                                                  "map_scale, map_percentiles, titles, truths"),
 }, what="the case file")
 
 
@@ -185,7 +187,7 @@ class Case:
     """
 
     def __init__(self, *, path, title, sample, datasets, models, extras, sampler, prior_odds,
-                 seed, output):
+                 seed, output, figures=None):
         self.path = Path(path)
         self.title = title
         self.sample = sample
@@ -196,6 +198,7 @@ class Case:
         self.prior_odds = prior_odds
         self.seed = seed
         self.output = Path(output)
+        self.figures = figures
         self._problems = {}
 
     def __repr__(self):
@@ -466,6 +469,14 @@ def load_case(path) -> Case:
             except InputError as exc:
                 raise doc.error(exc.message, f"prior_odds.{k}") from None
     output = _resolve(base, top["output"]) if top["output"] else base / "results"
+    if top["figures"] is not None:
+        from .report.figures.settings import figure_settings
+        try:
+            figure_settings(top["figures"], datasets=[d.name for d in datasets],
+                            models=list(models))
+        except InputError as exc:
+            raise doc.error(exc.message, exc.key or "figures") from None
     return Case(path=doc.path, title=top["title"] or doc.path.stem, sample=sample,
                 datasets=datasets, models=models, extras=extras, sampler=sampler,
-                prior_odds=top["prior_odds"], seed=top["seed"], output=output)
+                prior_odds=top["prior_odds"], seed=top["seed"], output=output,
+                figures=top["figures"])

@@ -23,3 +23,12 @@ def test_model_entry_options_override_the_card(valid_case, capsys):
     edit_file(valid_case, "options: {interchain: 2}", "options: {no_such_option: 2}")
     code, err = check_command(capsys, valid_case)
     assert code == 2 and "no_such_option" in err and len(err.splitlines()) == 1, err
+
+
+def test_figures_block_is_read_and_checked(valid_case, capsys):
+    edit_file(valid_case, "seed: 7", "seed: 7\nfigures: {temperature_axis: log, cuts: all}")
+    case = evidence1d.load_case(valid_case)
+    assert case.figures == {"temperature_axis": "log", "cuts": "all"}
+    edit_file(valid_case, "temperature_axis: log", "temperature_axis: sideways")
+    code, err = check_command(capsys, valid_case)
+    assert code == 2 and "temperature_axis" in err and len(err.splitlines()) == 1, err
