@@ -86,6 +86,11 @@ def test_reliability_and_records_in_the_summary(first_run):
         assert m["sampler"]["evidence_particles"] == 60
         assert m["sampler"]["evidence_islands"] == 2
         assert m["sampler"]["n_steps"] == 120
+    # the methods paragraph is written from these records (the case's sampler settings)
+    methods = (out / "report.md").read_text(encoding="utf-8").split("## Methods")[1]
+    methods = methods.split("References:")[0]
+    assert "with 60 particles in each of 2 independent islands" in methods
+    assert "120 steps per walker" in methods
 
 
 @pytest.mark.slow
