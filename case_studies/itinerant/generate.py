@@ -1,31 +1,33 @@
 """Regenerate the itinerant case study's data (deterministic; seed below).
 
-Scenario (invented): the nearly antiferromagnetic metal CuRh3Q, measured at the fictional
-Ostrander Neutron Centre. The truth is the quasi-elastic paramagnon. Every data file is
-written by evidence1d's own simulator; nothing here is a measurement.
+Scenario (invented): the nearly antiferromagnetic metal CuRh3Q, measured at 1.5 K at the
+fictional Ostrander Neutron Centre.
+
+The data are SIMULATED by the out-of-family generators of the misspecification suite
+(``tests/misspecification``, via ``case_studies/simulated_design.py``): an overdamped
+paramagnon with Lorentzian Ornstein–Zernike χ_Q in its continuum form (not the lattice form
+of evidence1d's paramagnon family), a temperature-dependent correlation length, Γ₀ = 1.2 meV;
+χ(T) a Stoner-enhanced Pauli term with a T² decrease plus impurities; C/T = γ + β T² +
+δ T² ln(T/20 K); counting noise and backgrounds.  None of evidence1d's model families
+generated them.
 
     python case_studies/itinerant/generate.py
 """
 from pathlib import Path
 import sys
 
-HERE = Path(__file__).resolve().parent
-sys.path.insert(0, str(HERE.parent / "flagship"))
-from generate import grids  # noqa: E402  (the same measurement plan as the flagship)
+import numpy as np
 
-from evidence1d.simulate import NoiseModel, regenerate  # noqa: E402
+HERE = Path(__file__).resolve().parent
+sys.path.insert(0, str(HERE.parent))
+from simulated_design import FILES, design, generators, scenarios  # noqa: E402
 
 SEED = 13
-TRUTH = {
-    "chi_uniform": 4.0e-3, "theta_sf": 40.0, "xi_par": 8.0, "xi_perp": 2.0,
-    "gamma0": 1.2, "g": 2.1,                              # emu/mol, K, Å, Å, meV, 1
-    "chi0": 1.0e-4, "c_imp": 1.0e-3, "gamma_e": 1.0e-2, "beta_lattice": 2.0e-4,
-    "map:scale": 40.0, "map:background": 0.5, "map:slope": 0.05,
-    "cut:scale": 40.0, "cut:background": 0.4,
-}
+T = 1.5                                      # K
 
 if __name__ == "__main__":
-    regenerate(HERE / "case.yaml", "paramagnon", TRUTH, grids(), seed=SEED,
-               noise=NoiseModel(exposure=30.0, relative=0.01),
-               scenario="itinerant case study, invented metal CuRh3Q")
+    D = design()
+    _, spectra, chi, heat, _ = scenarios.itinerant(D, T=T)
+    generators.write_data(HERE, FILES, D, spectra, chi, heat, np.random.default_rng(SEED),
+                          "itinerant case study, invented metal CuRh3Q", exposure=5.0)
     print("itinerant data regenerated in", HERE / "data")

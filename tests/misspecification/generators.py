@@ -166,11 +166,12 @@ def _thermo(y, rel, floor, rng):
 
 def design():
     """Points of every scenario: a map along the chain, a cut across it at L = 0.96."""
-    L = np.linspace(0.08, 1.92, 20)
-    E = np.linspace(0.25, 3.6, 14)
+    # energy steps (0.12 and 0.1 meV) no wider than the resolution, as in a real scan
+    L = np.linspace(0.1, 1.9, 14)
+    E = np.linspace(0.25, 3.6, 28)
     LL, EE = np.meshgrid(L, E, indexing="ij")
-    H = np.linspace(0.0, 1.0, 8)
-    E2 = np.linspace(0.2, 2.4, 10)
+    H = np.linspace(0.0, 1.0, 6)
+    E2 = np.linspace(0.2, 2.3, 22)
     HH, EE2 = np.meshgrid(H, E2, indexing="ij")
     return {"map": (LL.ravel(), np.zeros(LL.size), EE.ravel()),
             "cut": (np.full(HH.size, 0.96), HH.ravel(), EE2.ravel()),
@@ -184,28 +185,44 @@ def _phases(L, H):
     return q, qa, Q
 
 
-def write_case(folder: Path, scen: Scenario, spectra: dict, chi, heat, rng,
-               exposure=5.0, temperature=1.5):
-    """Write data files and case.yaml for a scenario; return the case path."""
-    folder.mkdir(parents=True, exist_ok=True)
-    (folder / "data").mkdir(exist_ok=True)
-    head = f"# SIMULATED data (misspecification suite: {scen.name}); not a measurement\n"
-    D = design()
+def write_data(folder: Path, files: dict, design: dict, spectra: dict, chi, heat, rng,
+               header: str, exposure=5.0, scale=40.0):
+    """Write the simulated data files.
+
+    ``files`` maps 'map', 'cut', 'chi', 'heat' to paths relative to ``folder``; spectra are
+    I = scale |F(Q)|² S + background + slope E with Poisson counts at ``exposure`` counts per
+    intensity unit; thermodynamic data get Gaussian errors (relative + floor).
+    """
+    head = f"# SIMULATED data ({header}); not a measurement\n"
     for key, (S, bkg, slope) in spectra.items():
-        L, H, E = D[key]
+        L, H, E = design[key]
         _, _, Q = _phases(L, H)
-        I = 40.0 * form_factor_sq(Q) * S + bkg + slope * E
+        I = scale * form_factor_sq(Q) * S + bkg + slope * E
         y, e = _counts(I, exposure, rng)
-        with open(folder / "data" / f"{key}.csv", "w") as fh:
+        path = folder / files[key]
+        path.parent.mkdir(parents=True, exist_ok=True)
+        with open(path, "w") as fh:
             fh.write(head + "q_par, q_perp, energy, intensity, error\n")
             for row in zip(L, H, E, y, e):
                 fh.write(", ".join(f"{v:.6g}" for v in row) + "\n")
     for key, (T, y0, rel, floor, col) in {"chi": chi, "heat": heat}.items():
         y, e = _thermo(y0, rel, floor, rng)
-        with open(folder / "data" / f"{key}.csv", "w") as fh:
+        path = folder / files[key]
+        path.parent.mkdir(parents=True, exist_ok=True)
+        with open(path, "w") as fh:
             fh.write(head + f"T, {col}, error\n")
             for row in zip(T, y, e):
                 fh.write(", ".join(f"{v:.6g}" for v in row) + "\n")
+
+
+def write_case(folder: Path, scen: Scenario, spectra: dict, chi, heat, rng,
+               exposure=5.0, temperature=1.5):
+    """Write data files and case.yaml for a scenario; return the case path."""
+    folder.mkdir(parents=True, exist_ok=True)
+    head = f"# SIMULATED data (misspecification suite: {scen.name}); not a measurement\n"
+    files = {k: f"data/{k}.csv" for k in ("map", "cut", "chi", "heat")}
+    write_data(folder, files, design(), spectra, chi, heat, rng,
+               f"misspecification suite: {scen.name}", exposure=exposure)
     text = f"""# {head[2:].strip()}
 title: "misspecification: {scen.name}"
 sample:
@@ -229,7 +246,7 @@ datasets:
      units: {{temperature: K, heat_capacity: J/mol/K}}}}
 models:
 {{models}}
-sampler: {{steps: 300, particles: 150, islands: 2}}
+sampler: {{steps: 100, particles: 100, islands: 2}}
 seed: 4242
 {scen.extra_case}"""
     models = "\n".join(
