@@ -1,14 +1,18 @@
 """Spinon-continuum family: the S = 1/2 XXZ chain (one-dimensional).
 
 Spin Hamiltonian: H = J Σ_i [S^x_i S^x_{i+1} + S^y_i S^y_{i+1} + Δ S^z_i S^z_{i+1}],
-J > 0 antiferromagnetic, J in meV.  The spectrum is the two-spinon continuum with the
-Müller line shape (:mod:`evidence1d.physics.chain`), amplitude from the exact first
-moments, S = χ''(n + 1)/π at T > 0 with the thermal edge of
-:mod:`evidence1d.physics.chain_thermal`; χ(T), C(T) and S(T) come from the
-same J and Δ through the chain's thermodynamic tables (:mod:`evidence1d.physics.chain_thermo`).
+J > 0 antiferromagnetic, J in meV.  The spectrum is the two-spinon continuum between the
+exact edges (:mod:`evidence1d.physics.chain`) with, by default, the exact two-spinon line
+shape of the Heisenberg chain (:mod:`evidence1d.physics.chain_exact`; exact at Δ = 1, an
+approximation otherwise) or, with the option ``line_shape: muller``, the Müller ansatz;
+amplitude from the exact first moments, S = χ''(n + 1)/π at T > 0 with the thermal edge
+of :mod:`evidence1d.physics.chain_thermal`; χ(T), C(T) and S(T) come from the same J and
+Δ through the chain's thermodynamic tables (:mod:`evidence1d.physics.chain_thermo`).
 
 References
 ----------
+M. Karbach, G. Müller, A. H. Bougourzi, A. Fledderjohann & K.-H. Mütter, Phys. Rev. B 55,
+12510 (1997);
 G. Müller, H. Thomas, H. Beck & J. C. Bonner, Phys. Rev. B 24, 1429 (1981);
 J. des Cloizeaux & J. J. Pearson, Phys. Rev. 128, 2131 (1962);
 J. D. Johnson, S. Krinsky & B. M. McCoy, Phys. Rev. A 8, 2526 (1973).
@@ -20,6 +24,7 @@ import numpy as np
 from .. import units as U
 from ..errors import InputError
 from ..physics.chain import spinon_spectrum
+from ..physics.chain_spectrum import LINE_SHAPES
 from .base import Family, SpectralPoints
 
 __all__ = ["SpinonFamily"]
@@ -32,6 +37,15 @@ class SpinonFamily(Family):
     ----------
     spin : float, optional
         Spin of the magnetic ion; the kernels describe S = 1/2 only.
+    line_shape : {'exact', 'muller'}, optional
+        Line shape of the two-spinon sheets: the exact two-spinon profile of the
+        Heisenberg chain placed between the XXZ edges (default) or the Müller ansatz; both
+        carry the exact first moment (model-card or case-file option ``line_shape``).
+
+    Raises
+    ------
+    InputError
+        Unknown ``line_shape``.
 
     Notes
     -----
@@ -41,13 +55,24 @@ class SpinonFamily(Family):
 
     References
     ----------
-    Müller et al., Phys. Rev. B 24, 1429 (1981).
+    Karbach et al., Phys. Rev. B 55, 12510 (1997); Müller et al., Phys. Rev. B 24, 1429
+    (1981).
     """
 
     parameters = ("J", "delta", "g")
 
     #: the two-spinon continuum and the chain thermodynamics hold for S = 1/2 only
     spins = (0.5,)
+
+    #: the spectrum depends on Q only through the chain phase q = Q_∥ d
+    chain_only = True
+
+    def __init__(self, spin: float = 0.5, line_shape: str = "exact"):
+        super().__init__(spin)
+        if line_shape not in LINE_SHAPES:
+            raise InputError(f"the 'line_shape' option of spinon_continuum must be 'exact' or "
+                             f"'muller'; got {line_shape!r} instead", key="options.line_shape")
+        self.line_shape = line_shape
 
     def spectrum(self, p: dict, pts: SpectralPoints) -> np.ndarray:
         """Resolution-convolved S(q, E) = χ''(n + 1)/π per spin in 1/meV.
@@ -66,12 +91,14 @@ class SpinonFamily(Family):
 
         References
         ----------
-        Müller et al., Phys. Rev. B 24, 1429 (1981); Lovesey (1984) for detailed balance;
-        Schulz, Phys. Rev. B 34, 6372 (1986) for the thermal edge (from memory).
+        Karbach et al., Phys. Rev. B 55, 12510 (1997); Müller et al., Phys. Rev. B 24, 1429
+        (1981); Lovesey (1984) for detailed balance; Schulz, Phys. Rev. B 34, 6372 (1986)
+        for the thermal edge (from memory).
         """
         J = np.asarray(p["J"], dtype=float).reshape(-1, 1)
         delta = np.asarray(p["delta"], dtype=float).reshape(-1, 1)
-        return spinon_spectrum(pts.q_par, pts.energy, pts.sigma, pts.temperature, J, delta)
+        return spinon_spectrum(pts.q_par, pts.energy, pts.sigma, pts.temperature, J, delta,
+                               line_shape=self.line_shape)
 
     # ------------------------------------------------------------- thermodynamics
     @staticmethod

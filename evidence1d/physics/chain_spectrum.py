@@ -45,15 +45,21 @@ from scipy import special
 
 from ..errors import InputError
 from ..units import K_B_MEV
+from . import chain_exact
 from .chain import _all_sheets, _reduced_phase
-from .chain_thermal import convolve_thermal
+from .chain_thermal import _HERMITE_TIERS, convolve_thermal, thermal_density
 from .neutron import convolve_cumulative, gauss_hermite
 
-__all__ = ["spinon_spectrum"]
+__all__ = ["spinon_spectrum", "spinon_density", "LINE_SHAPES"]
+
+#: line shapes of the two-spinon sheets: the exact Δ = 1 profile between the XXZ edges
+#: (default) and the Müller ansatz
+LINE_SHAPES = ("exact", "muller")
 
 _CHUNK = 1024                       # pairs per block (temporaries stay in cache)
 _N_SIGMA = 6.0                      # resolution window ±6σ (tail weight 2e-9)
 _N_HERMITE = (4, 8)                 # nodes of the smooth rule: full Gaussian, cut at ω_T
+_HERMITE_MAX = _HERMITE_TIERS[-1][1]  # σ/k_BT up to which the thermal path is Gauss–Hermite
 
 
 @functools.lru_cache(maxsize=None)
@@ -165,14 +171,57 @@ def _side(Es, sig, wl, top, A, kT, boltz, method, n_nodes, n_panels):
     return A * val / (math.sqrt(2.0 * math.pi) * sig)
 
 
-def _convolve_sheet(Ef, sf, wl, top, A, kT, method, n_nodes, n_panels, smooth):
-    """One Müller sheet A/√(ω² − ω_L²) on [ω_L, top], convolved, flat (pair) arrays.
+def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth):
+    """One sheet with the exact profile A R_T(ω) D(ω) on [ω_L, top], convolved, flat arrays.
+
+    T = 0: :func:`evidence1d.physics.chain_exact.convolve_zero`.  T > 0:
+    :func:`evidence1d.physics.chain_thermal.convolve_thermal` with the profile ratio R_T
+    at its nodes, :func:`~evidence1d.physics.chain_exact.t_side` as the T = 0 edge path
+    and, for windows clear of the thermal edge but not of ω_U, on the thermal density.
+    """
+    if not (A > 0).any():
+        return np.zeros(Ef.size)
+    if kT <= 0:
+        return chain_exact.convolve_zero(Ef, sf, wl, top, A, n_nodes, n_panels, smooth)
+
+    def old_side(Es, s, wl_, top_, A_, kTa, boltz):
+        return A_ * chain_exact.t_side(Es, s, wl_, top_, kTa, -1.0 if boltz else 1.0, False,
+                                       n_nodes, n_panels)
+
+    def top_side(c, s, wl_, top_, kTa):
+        return chain_exact.t_side(c, s, wl_, top_, kTa, 1.0, True, n_nodes, n_panels)
+
+    # σ ≲ k_BT: Gauss–Hermite on the signed axis unless the window nears ±ω_U (where the
+    # profile vanishes as a square root; all such pairs on the reference path)
+    kTa = np.full(Ef.size, float(kT))
+    six = _N_SIGMA * sf
+    narrow = ((A > 0) & (sf <= _HERMITE_MAX * kT) & (Ef - six < top) & (Ef + six > -top)
+              & ((Ef + six > wl - 40.0 * kT) | (Ef - six < 40.0 * kT - wl)))
+    if smooth:
+        narrow &= np.abs(Ef) + chain_exact._TOP_CLEAR * sf > top
+    out = np.zeros(Ef.size)
+    ix = np.flatnonzero(narrow)
+    if ix.size:
+        out[ix] = A[ix] * chain_exact.signed_side(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
+                                                  n_nodes, n_panels)
+    out += convolve_thermal(Ef, sf, wl, top, np.where(narrow, 0.0, A), kT, old_side,
+                            "quadrature", n_nodes, n_panels, smooth,
+                            ratio=chain_exact._ratio_fast, top_side=top_side)
+    return out
+
+
+def _convolve_sheet(Ef, sf, wl, top, A, kT, method, n_nodes, n_panels, smooth,
+                    line_shape="muller"):
+    """One sheet on [ω_L, top], convolved, flat (pair) arrays: the Müller shape
+    A/√(ω² − ω_L²) (below), or the exact profile (:func:`_convolve_exact`).
 
     T = 0: pairs whose window is clear of the singular edge (lo = E − 6σ ≥ ω_L) take
     :func:`_smooth_side`, the others :func:`_side`; with ``smooth=False`` every pair takes
     :func:`_side` (the reference path).  T > 0:
     :func:`evidence1d.physics.chain_thermal.convolve_thermal`.
     """
+    if line_shape == "exact":
+        return _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth)
     out = np.zeros(Ef.size)
     valid = A > 0
     if not valid.any():
@@ -198,7 +247,8 @@ def _convolve_sheet(Ef, sf, wl, top, A, kT, method, n_nodes, n_panels, smooth):
     return out
 
 
-def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth):
+def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth,
+              line_shape="muller"):
     """:func:`spinon_spectrum` on checked arrays; ``smooth`` enables the Gauss–Hermite paths.
 
     The principal sheet, the π-shifted sheet (Δ > 1, |q| < π/2) and the line at the
@@ -219,7 +269,7 @@ def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth):
     wl, top, A, wl_s, b, A_s, a, W, Ef, sf = (
         np.ascontiguousarray(np.broadcast_to(p, shape)).ravel() for p in parts + [E, sigma])
     kT = K_B_MEV * T
-    settings = (method, int(n_nodes), int(n_panels), smooth)
+    settings = (method, int(n_nodes), int(n_panels), smooth, line_shape)
     out = _convolve_sheet(Ef, sf, wl, top, A, kT, *settings)
     ix = np.flatnonzero(A_s > 0)
     if ix.size:
@@ -233,18 +283,22 @@ def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth):
     return out.reshape(shape)
 
 
-def spinon_spectrum(q, E, sigma, T, J, delta, *, method="quadrature", n_nodes=None,
-                    n_panels=3):
+def spinon_spectrum(q, E, sigma, T, J, delta, *, line_shape="exact", method="quadrature",
+                    n_nodes=None, n_panels=3):
     """Resolution-convolved two-spinon S(q, E) per spin, S = χ''(n + 1)/π.
 
     T = 0: the model of :func:`evidence1d.physics.chain.two_spinon_sheets` on the
-    energy-loss side (the principal Müller sheet; for Δ > 1 also the π-shifted sheet and,
-    below q_κ, the line at the continuum bottom).  T > 0: S_T = A Φ_T(ω)/(1 − e^{−ω/k_BT})
-    on both sides, with Φ_T the thermal Müller shape
-    (:func:`evidence1d.physics.chain_thermal.thermal_shape`; S(−ω) = e^{−ω/k_BT} S(ω)).  The
-    spectrum is convolved with the Gaussian resolution of width σ at each point (the edge
-    and the step at ω_T are handled with no ringing and no lost weight, whatever the point
-    spacing).
+    energy-loss side (the principal sheet; for Δ > 1 also the π-shifted sheet and, below
+    q_κ, the line at the continuum bottom), each sheet with the exact two-spinon profile
+    A R(ω)/√(ω² − ω_L²) = (A/K₁) e^{−I(t)}/√(ω_U² − ω²) between its edges
+    (:mod:`evidence1d.physics.chain_exact`; exact at Δ = 1, an approximation otherwise) or,
+    with ``line_shape='muller'``, the Müller shape A/√(ω² − ω_L²); both have the exact first
+    moment.  T > 0: S_T = A R_T(ω) Φ_T(ω)/(1 − e^{−ω/k_BT}) on both sides, with Φ_T the
+    thermal Müller shape (:func:`evidence1d.physics.chain_thermal.thermal_shape`) and R_T
+    the profile ratio with its lower-edge enhancement cut off at k_BT (R_T = 1 for the
+    Müller shape); S(−ω) = e^{−ω/k_BT} S(ω) exactly.  The spectrum is convolved with the
+    Gaussian resolution of width σ at each point (edges and the Müller step at ω_T
+    handled with no ringing and no lost weight, whatever the point spacing).
 
     Parameters
     ----------
@@ -263,13 +317,18 @@ def spinon_spectrum(q, E, sigma, T, J, delta, *, method="quadrature", n_nodes=No
         Exchange in meV, H = J Σ [SxSx + SySy + Δ SzSz], J > 0.
     delta : array_like, shape (n_sets, 1)
         Anisotropy Δ > −1.
+    line_shape : {'exact', 'muller'}, optional
+        Line shape of the two-spinon sheets (default 'exact').
     method : {'quadrature', 'cumulative'}, optional
-        'quadrature' (default, fastest): points whose ±6σ window reaches the singular
-        edge ω_L take Gauss–Legendre in W over ``n_panels`` panels of the window
-        (``n_nodes`` = 6 per panel; error ~2e-4 of the peak of S(q, ·), at most 5e-4
-        measured over the default priors); points clear of ω_L by 6σ take a
-        Gauss–Hermite rule (4 nodes, or 8 with the step at ω_T; error < 2.5e-5 of the
-        local value).  'cumulative': W tabulated on ``n_nodes`` = 24 nodes
+        'quadrature' (default, fastest).  Müller shape: points whose ±6σ window reaches
+        the singular edge ω_L take Gauss–Legendre in W over ``n_panels`` panels of the
+        window (``n_nodes`` = 6 per panel; error ~2e-4 of the peak of S(q, ·), at most 5e-4
+        measured over the default priors); points clear of ω_L by 6σ take a Gauss–Hermite
+        rule (4 nodes, or 8 with the step at ω_T; error < 2.5e-5 of the local value).
+        Exact profile: Gauss–Legendre in the Karbach variable t on ``n_panels`` panels of
+        ``n_nodes`` = 6 (:func:`evidence1d.physics.chain_exact.t_side`), or Gauss–Hermite
+        (6 nodes) for windows clear of both edges; measured error < 1e-4 of the peak at
+        T = 0.  'cumulative' (Müller shape only): W tabulated on ``n_nodes`` = 24 nodes
         over the window (error ~0.3 %) and convolved by
         :func:`evidence1d.physics.neutron.convolve_cumulative` (piecewise-linear W, exact
         erf integrals) at every point.
@@ -281,15 +340,26 @@ def spinon_spectrum(q, E, sigma, T, J, delta, *, method="quadrature", n_nodes=No
     ndarray, shape (n_sets, n)
         S(q, E) in 1/meV per spin, three spin components summed, no form factor.
 
+    Raises
+    ------
+    InputError
+        Unknown ``line_shape`` or ``method``, 'cumulative' with the exact profile,
+        σ ≤ 0, T < 0.
+
     References
     ----------
-    Müller et al., Phys. Rev. B 24, 1429 (1981); detailed balance, Lovesey (1984); thermal
-    form, Schulz, Phys. Rev. B 34, 6372 (1986) (from memory); Gauss–Legendre and
-    Gauss–Hermite quadrature, Abramowitz & Stegun 25.4.29, 25.4.46.
+    Karbach et al., Phys. Rev. B 55, 12510 (1997) (exact profile); Müller et al., Phys.
+    Rev. B 24, 1429 (1981); detailed balance, Lovesey (1984); thermal form, Schulz, Phys.
+    Rev. B 34, 6372 (1986) (from memory); Gauss–Legendre and Gauss–Hermite quadrature,
+    Abramowitz & Stegun 25.4.29, 25.4.46.
     """
+    _check_line_shape(line_shape, "spinon_spectrum")
     if method not in ("quadrature", "cumulative"):
         raise InputError(f"the 'method' parameter of spinon_spectrum must be 'quadrature' "
                          f"or 'cumulative'; got {method!r} instead")
+    if method == "cumulative" and line_shape != "muller":
+        raise InputError("the 'cumulative' method of spinon_spectrum is available for "
+                         "line_shape 'muller' only; use method 'quadrature'")
     if n_nodes is None:
         n_nodes = 6 if method == "quadrature" else 24
     q = np.asarray(q, dtype=float)
@@ -297,8 +367,72 @@ def spinon_spectrum(q, E, sigma, T, J, delta, *, method="quadrature", n_nodes=No
     sigma = np.asarray(sigma, dtype=float)
     if np.any(~(sigma > 0)):
         raise InputError("the resolution sigma must be positive (meV)")
+    T = _check_temperature(T)
+    return _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels,
+                     smooth=(method == "quadrature"), line_shape=line_shape)
+
+
+def _check_line_shape(line_shape, where):
+    if line_shape not in LINE_SHAPES:
+        raise InputError(f"the 'line_shape' of {where} must be 'exact' or 'muller'; got "
+                         f"{line_shape!r} instead")
+
+
+def _check_temperature(T):
     T = float(T)
     if not (T >= 0) or not math.isfinite(T):
         raise InputError(f"the temperature must be finite and >= 0 K; got {T!r}")
-    return _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels,
-                     smooth=(method == "quadrature"))
+    return T
+
+
+def spinon_density(q, omega, T, J, delta, *, line_shape="exact"):
+    """Unconvolved model S(q, ω) = χ''(n + 1)/π per spin, both sheets (no bottom line).
+
+    H = J Σ [S^x S^x + S^y S^y + Δ S^z S^z], J > 0.  Per sheet (edges ω_L, floored, and
+    ω_T or b; Müller amplitude A of the exact first moment): T = 0, A R(ω)/√(ω² − ω_L²)
+    (exact profile) or A/√(ω² − ω_L²) (Müller) on (ω_L, ω_T); T > 0, A R_T(ω) D_T(ω) or
+    A D_T(ω) for |ω| ≤ ω_T, D_T = :func:`~evidence1d.physics.chain_thermal.thermal_density`.
+    The line W δ(ω − a) of Δ > 1 below q_κ is not included.
+
+    Parameters
+    ----------
+    q, omega : array_like, shape (n,)
+        Chain phase (rad) and energy transfer (meV, any sign).
+    T : float
+        Temperature in K (≥ 0).
+    J, delta : array_like, shape (n_sets, 1)
+        Exchange in meV and anisotropy Δ.
+    line_shape : {'exact', 'muller'}, optional
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        In 1/meV, three spin components summed.
+
+    References
+    ----------
+    Karbach et al., Phys. Rev. B 55, 12510 (1997); Müller et al., Phys. Rev. B 24, 1429
+    (1981); Schulz, Phys. Rev. B 34, 6372 (1986) (from memory).
+    """
+    _check_line_shape(line_shape, "spinon_density")
+    T = _check_temperature(T)
+    kT = K_B_MEV * T
+    omega = np.asarray(omega, dtype=float)
+    (wl, top, A, _), (wl_s, b, A_s, _), _ = _all_sheets(q, J, delta)
+    out = 0.0
+    for lo, hi, amp in ((wl, top, A), (wl_s, b, A_s)):
+        ok = amp > 0
+        lo_, hi_ = np.where(ok, lo, 1.0), np.where(ok, hi, 2.0)
+        if kT > 0:
+            dens = thermal_density(omega, lo_, kT)
+            if line_shape == "exact":
+                dens = dens * chain_exact.profile_ratio(omega, lo_, hi_, kT)
+            dens = np.where(np.abs(omega) <= hi_, dens, 0.0)
+        elif line_shape == "exact":
+            dens = chain_exact.exact_profile(omega, lo_, hi_)
+        else:
+            inside = (omega > lo_) & (omega <= hi_)
+            dens = np.where(inside, 1.0 / np.sqrt(np.where(inside, omega * omega - lo_ ** 2,
+                                                            1.0)), 0.0)
+        out = out + np.where(ok, amp * dens, 0.0)
+    return out

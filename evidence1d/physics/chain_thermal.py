@@ -81,6 +81,8 @@ _N_SIGMA = 6.0
 #: Gauss–Hermite nodes on the signed axis by σ/k_BT: error < 6e-5 of the peak (measured
 #: against adaptive quadrature over the default priors, tests)
 _HERMITE_TIERS = ((5, 0.4), (6, 0.5), (8, 0.7), (12, 1.0), (16, 1.25))
+#: with a ratio vanishing at ±ω_T, Gauss–Hermite needs the window centre this many σ inside
+_TOP_CLEAR = 7.0
 
 
 # ----------------------------------------------------------------------------- shape
@@ -237,10 +239,14 @@ def _hermite_primitive(b, n):
     return out
 
 
-def _signed_hermite(E, s, wl, top, kT, n):
-    """∫ G_σ(E − ω) S_T(ω)/A dω over [−ω_T, ω_T] by an n-node Hermite rule (flat arrays)."""
+def _signed_hermite(E, s, wl, top, kT, n, ratio=None):
+    """∫ G_σ(E − ω) S_T(ω)/A dω over [−ω_T, ω_T] by an n-node Hermite rule (flat arrays);
+    with ``ratio`` the density is multiplied by ratio(ω, ω_L, ω_T, k_BT) at the nodes."""
     z, w, B = _hermite_rule(n)
-    f = _density(E[None, :] + s[None, :] * z[:, None], wl[None, :], kT[None, :])
+    om = E[None, :] + s[None, :] * z[:, None]
+    f = _density(om, wl[None, :], kT[None, :])
+    if ratio is not None:
+        f *= ratio(om, wl[None, :], top[None, :], kT[None, :])
     hi = (top - E) / s
     lo = (-top - E) / s
     val = w @ f
@@ -261,8 +267,9 @@ def _signed_hermite(E, s, wl, top, kT, n):
     return val
 
 
-def _side_hermite(c, s, wl, top, kT):
-    """∫_{−∞}^{b} φ(z) Φ_T(c + σz)(1 + n(c + σz)) dz, b = (ω_T − c)/σ; window clear of ω_L."""
+def _side_hermite(c, s, wl, top, kT, ratio=None):
+    """∫_{−∞}^{b} φ(z) Φ_T(c + σz)(1 + n(c + σz)) dz, b = (ω_T − c)/σ; window clear of ω_L
+    (times ``ratio`` at the nodes if given)."""
     out = np.empty(c.size)
     b = (top - c) / s
     full = b >= _N_SIGMA
@@ -271,8 +278,10 @@ def _side_hermite(c, s, wl, top, kT):
         if ix.size == 0:
             continue
         z, w, B = _hermite_rule(n)
-        f = thermal_density(c[ix][None, :] + s[ix][None, :] * z[:, None], wl[ix][None, :],
-                            kT[ix][None, :])
+        om = c[ix][None, :] + s[ix][None, :] * z[:, None]
+        f = thermal_density(om, wl[ix][None, :], kT[ix][None, :])
+        if ratio is not None:
+            f *= ratio(om, wl[ix][None, :], top[ix][None, :], kT[ix][None, :])
         if n == 4:
             out[ix] = w @ f
         else:
@@ -285,8 +294,9 @@ def _legendre(n):
     return x[:, None], w
 
 
-def _correction(Es, s, wl, top, kT, sign, n_nodes, n_panels, split):
-    """∫_0^{ω_T} G_σ(Es − ω) [S_T(sign ω) − S_old(sign ω)]/A dω for one side.
+def _correction(Es, s, wl, top, kT, sign, n_nodes, n_panels, split, ratio=None):
+    """∫_0^{ω_T} G_σ(Es − ω) [S_T(sign ω) − S_old(sign ω)]/A dω for one side (the
+    difference times ``ratio``(ω, ω_L, ω_T, k_BT) at the nodes if given).
 
     S_old is the T = 0 shape on the loss side and e^{−ω/k_BT} times it on the gain side
     (what :mod:`~evidence1d.physics.chain_spectrum` integrates on the edge path).  The
@@ -329,15 +339,18 @@ def _correction(Es, s, wl, top, kT, sign, n_nodes, n_panels, split):
                 half = 0.5 * (b - a)
                 om = 0.5 * (a + b) + half * x
                 f = _density(sign * om, wl, kT)
+            if ratio is not None:
+                f = f * ratio(om, wl, top, kT)
             g = np.exp(-0.5 * ((Es - om) / s) ** 2) * norm
             val += np.where(live, half * (w @ (f * g)), 0.0)
     return val
 
 
-def _side_cumulative(Es, s, wl, top, kT, sign, n_nodes):
+def _side_cumulative(Es, s, wl, top, kT, sign, n_nodes, ratio=None):
     """One side of S_T by its cumulative weight: trapezoid rule on a grid in ω below the
     edge (down to ω_L − 20 k_BT) and a uniform grid in t above it, then the exact Gaussian
-    convolution of the piecewise-linear cumulative (about 1 %; the check path)."""
+    convolution of the piecewise-linear cumulative (about 1 %; the check path); the
+    density times ``ratio`` at the nodes if given."""
     lo = np.maximum(Es - _N_SIGMA * s, 0.0)
     hi = np.minimum(Es + _N_SIGMA * s, top)
     a = np.clip(wl - 20.0 * kT, lo, hi)
@@ -352,6 +365,9 @@ def _side_cumulative(Es, s, wl, top, kT, sign, n_nodes):
     f_t = _ratio_t(t, wl[:, None], kT[:, None])
     if sign < 0:
         f_t = f_t * np.exp(-om_t / kT[:, None])
+    if ratio is not None:
+        f_tail = f_tail * ratio(om_tail, wl[:, None], top[:, None], kT[:, None])
+        f_t = f_t * ratio(om_t, wl[:, None], top[:, None], kT[:, None])
     d_tail = 0.5 * (f_tail[:, 1:] + f_tail[:, :-1]) * np.diff(om_tail, axis=-1)
     d_t = 0.5 * (f_t[:, 1:] + f_t[:, :-1]) * np.diff(t, axis=-1)
     om = np.concatenate([om_tail, om_t[:, 1:]], axis=-1)
@@ -361,7 +377,7 @@ def _side_cumulative(Es, s, wl, top, kT, sign, n_nodes):
 
 
 def convolve_thermal(E, s, wl, top, A, kT, old_side, method="quadrature", n_nodes=6,
-                     n_panels=3, smooth=True):
+                     n_panels=3, smooth=True, ratio=None, top_side=None):
     """Resolution-convolved S_T(q, E) on flat arrays of (parameter set, point) pairs, T > 0.
 
     Pairs with σ ≤ 1.25 k_BT: Gauss–Hermite on the signed axis (``_HERMITE_TIERS``).  Other
@@ -369,6 +385,12 @@ def convolve_thermal(E, s, wl, top, A, kT, old_side, method="quadrature", n_node
     S_T (shifted Gaussian on the gain side); the rest: ``old_side`` (the T = 0 edge path of
     :mod:`~evidence1d.physics.chain_spectrum`, Boltzmann factor on the gain side) plus
     :func:`_correction`, so that the result tends to the T = 0 one as k_BT/σ → 0.
+
+    With ``ratio`` (a line shape S_T R(ω) with R even in ω and zero at ±ω_T, such as the
+    exact two-spinon profile of :mod:`~evidence1d.physics.chain_exact`) every density is
+    multiplied by R at the nodes; the Gauss–Hermite paths then take only windows whose
+    centre is 7σ inside ±ω_T (R vanishes there as a square root); clear of the thermal
+    zone but not of ω_T, a window takes ``top_side``; ``old_side`` must integrate R Φ_0.
 
     Parameters
     ----------
@@ -386,6 +408,11 @@ def convolve_thermal(E, s, wl, top, A, kT, old_side, method="quadrature", n_node
     smooth : bool
         False: no Gauss–Hermite path; every pair on the edge path with ``n_panels`` panels
         per region (the reference path of the tests).
+    ratio : callable, optional
+        ``ratio(omega, wl, top, kT)``, broadcasting.
+    top_side : callable, optional
+        ``top_side(c, s, wl, top, kT_array)``: ∫ G_σ(c − ω) R(ω) S_T(ω)/A dω over ω > 0
+        (needed with ``ratio``).
 
     Returns
     -------
@@ -405,14 +432,15 @@ def convolve_thermal(E, s, wl, top, A, kT, old_side, method="quadrature", n_node
     hermite = method == "quadrature" and smooth
     if hermite:
         r = s / kTa
+        ok = live if ratio is None else live & (np.abs(E) + _TOP_CLEAR * s <= top)
         prev = 0.0
         for n, r_max in _HERMITE_TIERS:
-            ix = np.flatnonzero(live & (r > prev) & (r <= r_max))
+            ix = np.flatnonzero(ok & (r > prev) & (r <= r_max))
             prev = r_max
             for start in range(0, ix.size, _CHUNK):
                 j = ix[start:start + _CHUNK]
-                out[j] = A[j] * _signed_hermite(E[j], s[j], wl[j], top[j], kTa[j], n)
-        live &= r > prev
+                out[j] = A[j] * _signed_hermite(E[j], s[j], wl[j], top[j], kTa[j], n, ratio)
+        live &= ~(ok & (r <= prev))
     for sign in (1.0, -1.0):
         Es = sign * E
         if sign < 0:   # skip pairs whose Boltzmann factor underflows
@@ -421,10 +449,18 @@ def convolve_thermal(E, s, wl, top, A, kT, old_side, method="quadrature", n_node
         if hermite:
             c = Es if sign > 0 else Es - s * s / kT
             easy = rest & (c - _N_SIGMA * s >= wl + 8.0 * math.pi * kT)
+            near_top = easy & (c + _TOP_CLEAR * s > top) if ratio is not None else None
             ix = np.flatnonzero(easy)
             for start in range(0, ix.size, _CHUNK):
                 j = ix[start:start + _CHUNK]
-                v = _side_hermite(c[j], s[j], wl[j], top[j], kTa[j])
+                if ratio is None:
+                    v = _side_hermite(c[j], s[j], wl[j], top[j], kTa[j])
+                else:
+                    v = np.empty(j.size)
+                    k = near_top[j]
+                    v[k] = top_side(c[j][k], s[j][k], wl[j][k], top[j][k], kTa[j][k])
+                    v[~k] = _side_hermite(c[j][~k], s[j][~k], wl[j][~k], top[j][~k],
+                                          kTa[j][~k], ratio)
                 if sign < 0:
                     with np.errstate(over="ignore", under="ignore"):
                         v *= np.exp(-Es[j] / kT + 0.5 * (s[j] / kT) ** 2)
@@ -435,7 +471,7 @@ def convolve_thermal(E, s, wl, top, A, kT, old_side, method="quadrature", n_node
             for start in range(0, ix.size, _CHUNK):
                 j = ix[start:start + _CHUNK]
                 out[j] += A[j] * _side_cumulative(Es[j], s[j], wl[j], top[j], kTa[j], sign,
-                                                  n_nodes)
+                                                  n_nodes, ratio)
             continue
         ix = np.flatnonzero(rest & (Es + _N_SIGMA * s > wl))
         if ix.size:
@@ -444,5 +480,5 @@ def convolve_thermal(E, s, wl, top, A, kT, old_side, method="quadrature", n_node
         for start in range(0, ix.size, _CHUNK):
             j = ix[start:start + _CHUNK]
             out[j] += A[j] * _correction(Es[j], s[j], wl[j], top[j], kTa[j], sign, n_nodes,
-                                         n_panels, split=not smooth)
+                                         n_panels, split=not smooth, ratio=ratio)
     return out

@@ -1,4 +1,7 @@
-"""Tests of the Müller line shape and the convolved spinon spectrum (physics/chain.py)."""
+"""Tests of the Müller line shape and the convolved spinon spectrum (physics/chain.py).
+
+The convolution tests here are of the Müller option (line_shape='muller'); the exact
+two-spinon profile, the default, is tested in test_chain_exact_shape.py."""
 import pickle
 
 import numpy as np
@@ -111,7 +114,8 @@ def test_spectrum_matches_brute_force_convolution():
         # cumulative: ~0.3 % at T = 0, ~2 % at T > 0 (trapezoid on the thermal edge)
         for method, tol in [("quadrature", 1e-3), ("cumulative", 1e-2 if T == 0 else 3e-2)]:
             got = chain.spinon_spectrum(np.full(9, q), E, np.full(9, s), T, np.array([[J]]),
-                                        np.array([[D]]), method=method)[0]
+                                        np.array([[D]]), method=method,
+                                        line_shape="muller")[0]
             np.testing.assert_allclose(got, ref, atol=tol * max(ref.max(), 1e-12))
 
 
@@ -122,36 +126,41 @@ def test_spectrum_conserves_weight():
     W = chain.muller_cumulative(np.array([q]), np.array([100.0]), J, d)[0, 0]
     for s in [0.002, 0.05, 0.4]:
         E = np.linspace(-3, 9, int(12 / s * 8) + 1)
-        S = chain.spinon_spectrum(np.full(E.size, q), E, np.full(E.size, s), 0.0, J, d)[0]
+        S = chain.spinon_spectrum(np.full(E.size, q), E, np.full(E.size, s), 0.0, J, d,
+                                  line_shape="muller")[0]
         assert integrate.trapezoid(S, E) == pytest.approx(W, rel=1e-4)
 
 
-def test_detailed_balance():
+@pytest.mark.parametrize("shape", ["muller", "exact"])
+def test_detailed_balance(shape):
     # S(q,-E) = exp(-E/k_BT) S(q,E) (Lovesey 1984), exact when the resolution is negligible
     J, d, T = np.array([[2.0]]), np.array([[1.0]]), 20.0
     E = np.array([3.2, 3.4, 3.6])      # inside [wL, wU] = [3.03, 3.81] meV
     q = np.full(3, 1.3)
     s = np.full(3, 1e-3)
-    loss = chain.spinon_spectrum(q, E, s, T, J, d)[0]
-    gain = chain.spinon_spectrum(q, -E, s, T, J, d)[0]
+    loss = chain.spinon_spectrum(q, E, s, T, J, d, line_shape=shape)[0]
+    gain = chain.spinon_spectrum(q, -E, s, T, J, d, line_shape=shape)[0]
     np.testing.assert_allclose(gain / loss, np.exp(-E / (K_B_MEV * T)), rtol=1e-3)
-    assert np.all(chain.spinon_spectrum(q, -E, s, 0.0, J, d) == 0.0)
+    assert np.all(chain.spinon_spectrum(q, -E, s, 0.0, J, d, line_shape=shape) == 0.0)
 
 
-def test_batch_equals_loop_and_periodicity():
+@pytest.mark.parametrize("shape", ["muller", "exact"])
+@pytest.mark.parametrize("T", [0.0, 10.0])
+def test_batch_equals_loop_and_periodicity(shape, T):
     rng = np.random.default_rng(0)
     J = rng.uniform(0.5, 5, (5, 1))
     d = rng.uniform(0, 3, (5, 1))
     q = rng.uniform(-10, 10, 40)
     E = rng.uniform(-5, 15, 40)
     s = rng.uniform(0.05, 0.5, 40)
-    batch = chain.spinon_spectrum(q, E, s, 10.0, J, d)
-    loop = np.vstack([chain.spinon_spectrum(q, E, s, 10.0, J[i:i + 1], d[i:i + 1])
+    kw = {"line_shape": shape}
+    batch = chain.spinon_spectrum(q, E, s, T, J, d, **kw)
+    loop = np.vstack([chain.spinon_spectrum(q, E, s, T, J[i:i + 1], d[i:i + 1], **kw)
                       for i in range(5)])
     np.testing.assert_allclose(batch, loop, rtol=1e-12, atol=0)
     # 2 pi periodicity and q -> -q symmetry of the chain (translation and inversion)
-    np.testing.assert_allclose(chain.spinon_spectrum(-q + 4 * np.pi, E, s, 10.0, J, d), batch,
-                               rtol=1e-9, atol=1e-12)
+    np.testing.assert_allclose(chain.spinon_spectrum(-q + 4 * np.pi, E, s, T, J, d, **kw),
+                               batch, rtol=1e-9, atol=1e-12)
 
 
 def test_family_adapter():
@@ -182,6 +191,10 @@ def test_input_errors():
         chain.spinon_spectrum(q, q, np.array([0.0]), 1.0, 1.0, 1.0)
     with pytest.raises(InputError):
         chain.spinon_spectrum(q, q, q, 1.0, 1.0, 1.0, method="other")
+    with pytest.raises(InputError, match="line_shape"):
+        chain.spinon_spectrum(q, q, q, 1.0, 1.0, 1.0, line_shape="lorentzian")
+    with pytest.raises(InputError, match="muller"):
+        chain.spinon_spectrum(q, q, q, 1.0, 1.0, 1.0, method="cumulative")
 
 
 @settings(max_examples=40, deadline=None)
@@ -195,9 +208,12 @@ def test_kernels_finite_over_prior(J, D, T, q, E, s):
     assert np.all(np.isfinite(chain.muller_amplitude(qa, Ja, Da)))
     assert np.all(np.isfinite(chain.spinon_gap(Ja, Da)))
     Eq = np.array([E, E, E])
-    for method in ("quadrature", "cumulative"):
-        out = chain.spinon_spectrum(qa, Eq, np.full(3, s), T, Ja, Da, method=method)
-        assert np.all(np.isfinite(out)) and np.all(out >= 0)
+    for method, shape in (("quadrature", "exact"), ("quadrature", "muller"),
+                          ("cumulative", "muller")):
+        for temp in (T, 0.0):
+            out = chain.spinon_spectrum(qa, Eq, np.full(3, s), temp, Ja, Da, method=method,
+                                        line_shape=shape)
+            assert np.all(np.isfinite(out)) and np.all(out >= 0)
 
 
 def _peaks(qu, s0, T, J, D):
@@ -227,7 +243,7 @@ def test_fast_path_matches_reference_and_fine_quadrature(seed):
         s0 = 10 ** rng.uniform(-2.5, -0.7) * Jc
         E = np.tile(np.linspace(-1.1, 1.1, nE) * 3.5 * Jc * max(1.0, D.max()), qu.size)
         q, s = np.repeat(qu, nE), np.full(E.size, s0)
-        fast = chain.spinon_spectrum(q, E, s, T, J, D)
+        fast = chain.spinon_spectrum(q, E, s, T, J, D, line_shape="muller")
         fine = chain._spectrum(q, E, s, T, J, D, "quadrature", 16, 8, False)
         pk = np.repeat(_peaks(qu, s0, T, J, D), nE, axis=1)
         if T == 0:   # the Hermite path against the Legendre path at the same settings
@@ -263,10 +279,10 @@ def test_gain_side_shifted_gaussian_path():
     for T, s in [(5.0, 0.3), (60.0, 0.15)]:
         ref = np.array([_brute(q, e, s, T, J, D) for e in E])
         got = chain.spinon_spectrum(np.full(7, q), E, np.full(7, s), T, np.array([[J]]),
-                                    np.array([[D]]))[0]
+                                    np.array([[D]]), line_shape="muller")[0]
         np.testing.assert_allclose(got, ref, rtol=2e-4, atol=1e-4 * ref.max())
     Ein = np.array([16.0, 17.0, 18.0])
     args = (np.full(3, q), np.full(3, 1e-3), 60.0, np.array([[J]]), np.array([[D]]))
-    gain = chain.spinon_spectrum(args[0], -Ein, *args[1:])[0]
-    loss = chain.spinon_spectrum(args[0], Ein, *args[1:])[0]
+    gain = chain.spinon_spectrum(args[0], -Ein, *args[1:], line_shape="muller")[0]
+    loss = chain.spinon_spectrum(args[0], Ein, *args[1:], line_shape="muller")[0]
     np.testing.assert_allclose(gain / loss, np.exp(-Ein / (K_B_MEV * 60.0)), rtol=1e-6)

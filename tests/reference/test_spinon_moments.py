@@ -180,15 +180,18 @@ def test_line_shape_weight_against_ring(delta, lo, hi):
         assert full / (2 * sxx + szz)[1] > 1.5
 
 
-@pytest.mark.parametrize("delta", [0.5, 2.0, 3.0])
-def test_convolved_spectrum_first_moment(delta):
+@pytest.mark.parametrize("shape", ["exact", "muller"])
+@pytest.mark.parametrize("delta", [0.5, 1.0, 2.0, 3.0])
+def test_convolved_spectrum_first_moment(delta, shape):
     # the resolution-convolved T = 0 spectrum (both sheets and the bottom line for Delta > 1)
     # keeps the first moment it is given (a symmetric Gaussian does not move it): the exact
-    # moment for Delta > 1 at every q, below and above q_kappa (0.60 at Delta = 2, 0.91 at 3)
+    # moment for Delta > 1 at every q, below and above q_kappa (0.60 at Delta = 2, 0.91 at 3),
+    # with either line shape (Hohenberg & Brinkman, PRB 10, 128 (1974))
     J, D = np.array([[1.7]]), np.array([[delta]])
     for qv in (0.2, 0.75, 1.2, 2.5):
         E = np.linspace(-1.0, 11.0, 24001)
-        S = chain.spinon_spectrum(np.full(E.size, qv), E, np.full(E.size, 0.05), 0.0, J, D)[0]
+        S = chain.spinon_spectrum(np.full(E.size, qv), E, np.full(E.size, 0.05), 0.0, J, D,
+                                  line_shape=shape)[0]
         m1 = np.trapezoid(E * S, E)
         qa = np.array([qv])
         want = chain.continuum_first_moment(qa, J, D)[0, 0]
