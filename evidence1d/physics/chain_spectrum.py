@@ -247,8 +247,47 @@ def _convolve_sheet(Ef, sf, wl, top, A, kT, method, n_nodes, n_panels, smooth,
     return out
 
 
+#: the thermal (conformal) edge applies where the lower edge lies within the thermal window:
+#: weight w = 1/(1 + (ω_L / (2π k_BT))²), the T = 0 edge with detailed balance elsewhere
+_EDGE_WINDOW = 2.0 * math.pi
+_W_MIN = 1e-3
+
+
+def _edge_blend(Ef, sf, wl, top, A, kT, settings):
+    """One sheet with the finite-temperature edge confined to the Luttinger regime.
+
+    The conformal finite-temperature form of the edge (:mod:`chain_thermal`) describes the
+    chain where both ω and the edge ω_L are small against J, i.e. near q = π (Schulz 1986);
+    applied at an edge far above k_BT it would smear the edge over ~5 k_BT regardless.  The
+    spectrum is therefore w S_T + (1 − w) S_cold with w = 1/(1 + (ω_L/2πk_BT)²), a function
+    of q only, and S_cold the T = 0 edge with detailed balance, S_cold(E) = S_0(E) plus, for
+    E < 0, e^{−|E|/k_BT} S_0(|E|) (resolution applied to S_0); where 1 − w matters,
+    ω ≥ ω_L ≳ 2πk_BT and S_0 differs from S_0 [n(ω) + 1] by less than e^{−2π}.  Both parts
+    obey detailed balance point by point, so the blend does; w → 1 at q = π, w → 0 as T → 0.
+    """
+    if kT <= 0:
+        return _convolve_sheet(Ef, sf, wl, top, A, kT, *settings)
+    w = 1.0 / (1.0 + (wl / (_EDGE_WINDOW * kT)) ** 2)
+    out = np.zeros_like(Ef)
+    hot = np.flatnonzero(w > _W_MIN)
+    if hot.size:
+        out[hot] = w[hot] * _convolve_sheet(Ef[hot], sf[hot], wl[hot], top[hot], A[hot], kT,
+                                            *settings)
+    cold = np.flatnonzero(w < 1.0 - _W_MIN)
+    if cold.size:
+        args = (sf[cold], wl[cold], top[cold], A[cold], 0.0)
+        s0 = _convolve_sheet(Ef[cold], *args, *settings)          # the loss side, any E
+        neg = Ef[cold] < 0
+        if neg.any():                                             # the gain side
+            e = -Ef[cold][neg]
+            gain = _convolve_sheet(e, *(a[neg] for a in args[:4]), 0.0, *settings)
+            s0[neg] += np.exp(-e / kT) * gain
+        out[cold] += (1.0 - w[cold]) * s0
+    return out
+
+
 def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth,
-              line_shape="muller"):
+              line_shape="muller", thermal_edge="near_pi"):
     """:func:`spinon_spectrum` on checked arrays; ``smooth`` enables the Gauss–Hermite paths.
 
     The principal sheet, the π-shifted sheet (Δ > 1, |q| < π/2) and the line at the
@@ -270,10 +309,12 @@ def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth,
         np.ascontiguousarray(np.broadcast_to(p, shape)).ravel() for p in parts + [E, sigma])
     kT = K_B_MEV * T
     settings = (method, int(n_nodes), int(n_panels), smooth, line_shape)
-    out = _convolve_sheet(Ef, sf, wl, top, A, kT, *settings)
+    sheet = _edge_blend if thermal_edge == "near_pi" else (
+        lambda e, s_, lo, hi, amp, kT_, st: _convolve_sheet(e, s_, lo, hi, amp, kT_, *st))
+    out = sheet(Ef, sf, wl, top, A, kT, settings)
     ix = np.flatnonzero(A_s > 0)
     if ix.size:
-        out[ix] += _convolve_sheet(Ef[ix], sf[ix], wl_s[ix], b[ix], A_s[ix], kT, *settings)
+        out[ix] += sheet(Ef[ix], sf[ix], wl_s[ix], b[ix], A_s[ix], kT, settings)
     ix = np.flatnonzero(W > 0)
     if ix.size:
         e, s, en = Ef[ix], sf[ix], a[ix]
@@ -284,7 +325,7 @@ def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth,
 
 
 def spinon_spectrum(q, E, sigma, T, J, delta, *, line_shape="exact", method="quadrature",
-                    n_nodes=None, n_panels=3):
+                    n_nodes=None, n_panels=3, thermal_edge="near_pi"):
     """Resolution-convolved two-spinon S(q, E) per spin, S = χ''(n + 1)/π.
 
     T = 0: the model of :func:`evidence1d.physics.chain.two_spinon_sheets` on the
@@ -334,6 +375,12 @@ def spinon_spectrum(q, E, sigma, T, J, delta, *, line_shape="exact", method="qua
         erf integrals) at every point.
     n_nodes, n_panels : int, optional
         Accuracy settings (see ``method``).
+    thermal_edge : {'near_pi', 'everywhere'}, optional
+        Where the finite-temperature (conformal) edge applies: 'near_pi' (default) blends
+        it with the T = 0 edge with detailed balance by the weight w = 1/(1 + (ω_L/2πk_BT)²)
+        of :func:`_edge_blend` (the conformal form is the chain's low-energy theory, valid
+        where ω_L ≲ 2πk_BT, i.e. near q = π); 'everywhere' uses it at every q (kept for the
+        tests of its quadrature).
 
     Returns
     -------
@@ -368,8 +415,12 @@ def spinon_spectrum(q, E, sigma, T, J, delta, *, line_shape="exact", method="qua
     if np.any(~(sigma > 0)):
         raise InputError("the resolution sigma must be positive (meV)")
     T = _check_temperature(T)
+    if thermal_edge not in ("near_pi", "everywhere"):
+        raise InputError(f"the 'thermal_edge' parameter of spinon_spectrum must be 'near_pi' "
+                         f"or 'everywhere'; got {thermal_edge!r} instead")
     return _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels,
-                     smooth=(method == "quadrature"), line_shape=line_shape)
+                     smooth=(method == "quadrature"), line_shape=line_shape,
+                     thermal_edge=thermal_edge)
 
 
 def _check_line_shape(line_shape, where):
@@ -385,13 +436,23 @@ def _check_temperature(T):
     return T
 
 
+def _cold_density(a, lo, hi, line_shape):
+    """T = 0 density per unit amplitude at ω = a ≥ 0 between the edges."""
+    if line_shape == "exact":
+        return chain_exact.exact_profile(a, lo, hi)
+    inside = (a > lo) & (a <= hi)
+    return np.where(inside, 1.0 / np.sqrt(np.where(inside, a * a - lo ** 2, 1.0)), 0.0)
+
+
 def spinon_density(q, omega, T, J, delta, *, line_shape="exact"):
     """Unconvolved model S(q, ω) = χ''(n + 1)/π per spin, both sheets (no bottom line).
 
     H = J Σ [S^x S^x + S^y S^y + Δ S^z S^z], J > 0.  Per sheet (edges ω_L, floored, and
     ω_T or b; Müller amplitude A of the exact first moment): T = 0, A R(ω)/√(ω² − ω_L²)
-    (exact profile) or A/√(ω² − ω_L²) (Müller) on (ω_L, ω_T); T > 0, A R_T(ω) D_T(ω) or
-    A D_T(ω) for |ω| ≤ ω_T, D_T = :func:`~evidence1d.physics.chain_thermal.thermal_density`.
+    (exact profile) or A/√(ω² − ω_L²) (Müller) on (ω_L, ω_T); T > 0, w times A R_T(ω) D_T(ω)
+    or A D_T(ω) for |ω| ≤ ω_T, D_T = :func:`~evidence1d.physics.chain_thermal.thermal_density`,
+    plus 1 − w times the T = 0 density with detailed balance, w = 1/(1 + (ω_L/2πk_BT)²) (the
+    thermal edge confined to the Luttinger regime near q = π; see :func:`_edge_blend`).
     The line W δ(ω − a) of Δ > 1 below q_κ is not included.
 
     Parameters
@@ -423,16 +484,16 @@ def spinon_density(q, omega, T, J, delta, *, line_shape="exact"):
     for lo, hi, amp in ((wl, top, A), (wl_s, b, A_s)):
         ok = amp > 0
         lo_, hi_ = np.where(ok, lo, 1.0), np.where(ok, hi, 2.0)
+        cold = _cold_density(np.abs(omega), lo_, hi_, line_shape)
         if kT > 0:
             dens = thermal_density(omega, lo_, kT)
             if line_shape == "exact":
                 dens = dens * chain_exact.profile_ratio(omega, lo_, hi_, kT)
             dens = np.where(np.abs(omega) <= hi_, dens, 0.0)
-        elif line_shape == "exact":
-            dens = chain_exact.exact_profile(omega, lo_, hi_)
+            w = 1.0 / (1.0 + (lo_ / (_EDGE_WINDOW * kT)) ** 2)      # see _edge_blend
+            cold = cold * np.where(omega >= 0, 1.0, np.exp(-np.abs(omega) / kT))  # gain side
+            dens = w * dens + (1.0 - w) * cold
         else:
-            inside = (omega > lo_) & (omega <= hi_)
-            dens = np.where(inside, 1.0 / np.sqrt(np.where(inside, omega * omega - lo_ ** 2,
-                                                            1.0)), 0.0)
+            dens = np.where(omega > 0, cold, 0.0)
         out = out + np.where(ok, amp * dens, 0.0)
     return out

@@ -115,7 +115,7 @@ def test_spectrum_matches_brute_force_convolution():
         for method, tol in [("quadrature", 1e-3), ("cumulative", 1e-2 if T == 0 else 3e-2)]:
             got = chain.spinon_spectrum(np.full(9, q), E, np.full(9, s), T, np.array([[J]]),
                                         np.array([[D]]), method=method,
-                                        line_shape="muller")[0]
+                                        line_shape="muller", thermal_edge="everywhere")[0]
             np.testing.assert_allclose(got, ref, atol=tol * max(ref.max(), 1e-12))
 
 
@@ -279,10 +279,13 @@ def test_gain_side_shifted_gaussian_path():
     for T, s in [(5.0, 0.3), (60.0, 0.15)]:
         ref = np.array([_brute(q, e, s, T, J, D) for e in E])
         got = chain.spinon_spectrum(np.full(7, q), E, np.full(7, s), T, np.array([[J]]),
-                                    np.array([[D]]), line_shape="muller")[0]
+                                    np.array([[D]]), line_shape="muller",
+                                    thermal_edge="everywhere")[0]
         np.testing.assert_allclose(got, ref, rtol=2e-4, atol=1e-4 * ref.max())
     Ein = np.array([16.0, 17.0, 18.0])
     args = (np.full(3, q), np.full(3, 1e-3), 60.0, np.array([[J]]), np.array([[D]]))
-    gain = chain.spinon_spectrum(args[0], -Ein, *args[1:], line_shape="muller")[0]
-    loss = chain.spinon_spectrum(args[0], Ein, *args[1:], line_shape="muller")[0]
+    gain = chain.spinon_spectrum(args[0], -Ein, *args[1:], line_shape="muller",
+                                 thermal_edge="everywhere")[0]
+    loss = chain.spinon_spectrum(args[0], Ein, *args[1:], line_shape="muller",
+                                 thermal_edge="everywhere")[0]
     np.testing.assert_allclose(gain / loss, np.exp(-Ein / (K_B_MEV * 60.0)), rtol=1e-6)
