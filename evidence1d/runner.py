@@ -197,11 +197,9 @@ def _evidences(case, names, settings, seeds, out: Path | None, resume: bool, pro
     :func:`~evidence1d.inference.evidence.tempered_evidence`, so the numbers do not depend
     on ``workers``.  Finished evidences are saved for ``--resume``.
     """
-    from tqdm.auto import tqdm
-
     from .inference.evidence import (check_evidence_settings, combine_islands,
                                      evidence_settings, island_seeds)
-    from .inference.progress import bar_options
+    from .inference.progress import stage_bar
     evidences, jobs, owner = {}, [], []
     for n in names:
         problem = case.problem(n)
@@ -216,9 +214,7 @@ def _evidences(case, names, settings, seeds, out: Path | None, resume: bool, pro
             jobs.append((case, n, settings, seed))
             owner.append(n)
     if jobs:
-        label, _ = bar_options(progress, "evidence")
-        bar = tqdm(total=len(jobs), disable=not progress, desc=label, unit="island",
-                   leave=False)
+        bar = stage_bar(len(jobs), progress, "evidence", unit="island")
         try:
             done = run_in_pool(_island_job, jobs, workers, on_result=lambda _: bar.update(1))
         finally:

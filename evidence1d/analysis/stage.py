@@ -86,10 +86,8 @@ def run_budget(case, results, settings, options, seed, progress, workers):
     ----------
     .. [1] Del Moral, Doucet & Jasra, JRSS B 68, 411 (2006).
     """
-    from tqdm.auto import tqdm
-
     from ..inference.evidence import evidence_settings
-    from ..inference.progress import bar_options
+    from ..inference.progress import stage_bar
     from ..parallel import run_in_pool, worker_count
     from .budget import budget_subsets, combine_subset, evidence_budget
     order = sorted(results, key=lambda n: -results[n].evidence.log_z)
@@ -108,9 +106,7 @@ def run_budget(case, results, settings, options, seed, progress, workers):
             for isl in sub_seq.spawn(settings["islands"]):
                 jobs.append((case, fam, sub, isl, options))
                 keys.append((fam, sub))
-    label, _ = bar_options(progress, "budget")
-    bar = tqdm(total=len(jobs), disable=not progress, desc=label, unit="island",
-               leave=False)
+    bar = stage_bar(len(jobs), progress, "budget", unit="island")
     try:
         done = run_in_pool(_subset_job, jobs, worker_count(workers, len(jobs)),
                            on_result=lambda _: bar.update(1))

@@ -34,7 +34,7 @@ def _write_outputs(results, case, figures: bool, workers: int | None = None, *,
     if quick is None:
         quick = is_quick(out, results, case)
     if not figures_only:
-        context = report_context(results, case)
+        context = dict(report_context(results, case), quick=bool(quick))
         export_samples(results)
         atomic_write(out / "report.md", render_markdown(summary, context))
         atomic_write(out / "tables.tex", render_tables(summary, context))

@@ -419,7 +419,8 @@ def render_markdown(summary: dict, context: dict) -> str:
     Returns
     -------
     str
-        Markdown; it starts with an UNRELIABLE banner when ``summary["reliable"]`` is false.
+        Markdown; it starts with a quick-look banner when ``context["quick"]`` is true and an
+        UNRELIABLE banner when ``summary["reliable"]`` is false.
 
     References
     ----------
@@ -427,6 +428,9 @@ def render_markdown(summary: dict, context: dict) -> str:
     """
     s, c = summary, summary["comparison"]
     out = [f"# {s['title']}: which model family explains the data?", ""]
+    if context.get("quick"):
+        out += ["> **QUICK LOOK, NOT FOR PUBLICATION**: reduced sampler settings (`--quick`); "
+                "run without `--quick` before quoting any number.", ""]
     if not s["reliable"]:
         why = list(c["reliability"].get("reasons") or [])
         out += ["> **UNRELIABLE**: " + "; ".join(why or ["see the diagnostics"]) + ". Do not "

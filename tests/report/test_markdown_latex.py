@@ -108,3 +108,12 @@ def test_tables_compile_with_pdflatex(run_dir, tmp_path):
                           cwd=tmp_path, capture_output=True, text=True, timeout=120)
     assert proc.returncode == 0, proc.stdout[-2000:]
     assert (tmp_path / "doc.pdf").stat().st_size > 0
+
+
+def test_quick_run_is_stamped_not_for_publication(run_dir, summary, context):
+    out, _ = run_dir                      # the fixture's run used --quick
+    assert "QUICK LOOK, NOT FOR PUBLICATION" in (out / "report.md").read_text(encoding="utf-8")
+    plain = dict(context, quick=False)
+    assert "QUICK LOOK" not in render_markdown(summary, plain)
+    assert "QUICK LOOK" in "\n".join(render_markdown(summary, dict(context, quick=True))
+                                     .splitlines()[:4])
