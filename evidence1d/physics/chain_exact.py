@@ -76,7 +76,7 @@ _C_EDGE = 1.0
 _KAPPA = 1.5
 _N_SIGMA = 6.0
 #: Gauss–Hermite paths need the upper edge this many σ beyond the window centre
-_TOP_CLEAR = 7.0
+_TOP_CLEAR = 4.5
 #: windows this many σ clear of ω_L are integrated in ω (Gauss–Legendre, Jacobi at ω_U)
 _CLEAR = 2.0
 #: extent in t of the lower-edge sub-panels beyond max(t(panel top), t_L)
@@ -539,7 +539,7 @@ def convolve_zero(E, s, wl, top, A, n_nodes=6, n_panels=3, smooth=True):
         easy = active & (lo >= wl) & (E + _TOP_CLEAR * s <= top)
         ix = np.flatnonzero(easy)
         if ix.size:
-            z, w = gauss_hermite(6)
+            z, w = gauss_hermite(4)
             for start in range(0, ix.size, _CHUNK):
                 j = ix[start:start + _CHUNK]
                 om = E[j] + s[j] * z[:, None]
@@ -552,21 +552,25 @@ def convolve_zero(E, s, wl, top, A, n_nodes=6, n_panels=3, smooth=True):
     return out
 
 
-def signed_side(E, s, wl, top, kT, n_nodes=6, n_panels=3):
+def signed_side(E, s, wl, top, kT, n_nodes=7, n_panels=2, n_sigma=4.5):
     """∫ G_σ(E − ω) R_T(ω) D_T(ω) dω over [−ω_U, ω_U], for σ ≲ k_BT; flat arrays, T > 0.
 
     R_T D_T is analytic on the signed axis within about k_BT of it (the thermal edge and the
     floor of R_T; S(−ω) = e^{−ω/k_BT} S(ω)) except at ±ω_U, where R_T has a square-root zero
     (plus a step of height b D_T for continua narrower than k_BT): Gauss–Legendre in ω on
-    ``n_panels`` panels of the window, and a panel ending at ω_U (starting at −ω_U) in u,
-    ω_U ∓ ω ∝ u² (:func:`_top_rule`, ``n_nodes`` + 2 nodes).
+    ``n_panels`` panels of the window E ± ``n_sigma`` σ, and a panel ending at ω_U (starting
+    at −ω_U) in u, ω_U ∓ ω ∝ u² (:func:`_top_rule`, ``n_nodes`` + 2 nodes).  With the
+    defaults (Gaussian weight outside the window 7e-6) the error measured against adaptive
+    quadrature is < 3e-5 of the peak for σ ≤ 1.25 k_BT.
 
     Parameters
     ----------
     E, s, wl, top, kT : ndarray, shape (m,)
         Energy transfer, σ, ω_L, ω_U and k_BT (> 0), all in meV.
     n_nodes, n_panels : int
-        Quadrature settings.
+        Quadrature settings (``n_panels`` ≥ 2).
+    n_sigma : float
+        Half-width of the window in σ.
 
     Returns
     -------
@@ -579,8 +583,8 @@ def signed_side(E, s, wl, top, kT, n_nodes=6, n_panels=3):
     (from memory); Abramowitz & Stegun 25.4.29.
     """
     out = np.zeros(E.size)
-    lo = np.maximum(E - _N_SIGMA * s, -top)
-    hi = np.minimum(E + _N_SIGMA * s, top)
+    lo = np.maximum(E - n_sigma * s, -top)
+    hi = np.minimum(E + n_sigma * s, top)
     ix = np.flatnonzero(hi > lo)
     xg, wg = _legendre(n_nodes)
     xt, wt = _top_rule(n_nodes + 2)

@@ -202,8 +202,9 @@ def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth):
     out = np.zeros(Ef.size)
     ix = np.flatnonzero(narrow)
     if ix.size:
+        rule = () if smooth else (n_nodes, max(n_panels, 2), _N_SIGMA)
         out[ix] = A[ix] * chain_exact.signed_side(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
-                                                  n_nodes, n_panels)
+                                                  *rule)
     out += convolve_thermal(Ef, sf, wl, top, np.where(narrow, 0.0, A), kT, old_side,
                             "quadrature", n_nodes, n_panels, smooth,
                             ratio=chain_exact._ratio_fast, top_side=top_side)

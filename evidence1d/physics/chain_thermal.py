@@ -82,7 +82,7 @@ _N_SIGMA = 6.0
 #: against adaptive quadrature over the default priors, tests)
 _HERMITE_TIERS = ((5, 0.4), (6, 0.5), (8, 0.7), (12, 1.0), (16, 1.25))
 #: with a ratio vanishing at ±ω_T, Gauss–Hermite needs the window centre this many σ inside
-_TOP_CLEAR = 7.0
+_TOP_CLEAR = 4.5
 
 
 # ----------------------------------------------------------------------------- shape
