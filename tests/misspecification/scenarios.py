@@ -42,11 +42,12 @@ def _chain_thermo(J, D):
 
 
 def chain_zero_temperature(design=None):
-    """(a) Heisenberg chain at k_BT = 0.13 J: the exact two-spinon line shape (Karbach et
-    al., PRB 55, 12510 (1997)); χ, C from a 12-site ring.  Differs from the spinon family
-    by its line shape (exact, not Müller), the missing ~27 % of four-spinon weight and the
-    ring thermodynamics."""
-    J, T = J_CHAIN, 1.5
+    """(a) Heisenberg chain measured at 0.3 K (k_BT = 0.026 J, below the resolution): the
+    exact two-spinon line shape at T = 0 (Karbach et al., PRB 55, 12510 (1997)) times the
+    Bose factor; χ, C from a 12-site ring.  Differs from the spinon family by the missing
+    ~27 % of four-spinon weight (the family spreads the full first moment over the two-spinon
+    shape), its own quadrature and the ring thermodynamics."""
+    J, T = J_CHAIN, 0.3
     D = design or G.design()
     spectra = {}
     for key, bkg, slope in (("map", 0.6, 0.05), ("cut", 0.5, 0.0)):
