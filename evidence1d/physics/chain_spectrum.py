@@ -445,7 +445,7 @@ def _cold_density(a, lo, hi, line_shape):
     return np.where(inside, 1.0 / np.sqrt(np.where(inside, a * a - lo ** 2, 1.0)), 0.0)
 
 
-def spinon_density(q, omega, T, J, delta, *, line_shape="exact"):
+def spinon_density(q, omega, T, J, delta, *, line_shape="exact", thermal_edge="near_pi"):
     """Unconvolved model S(q, ω) = χ''(n + 1)/π per spin, both sheets (no bottom line).
 
     H = J Σ [S^x S^x + S^y S^y + Δ S^z S^z], J > 0.  Per sheet (edges ω_L, floored, and
@@ -465,6 +465,8 @@ def spinon_density(q, omega, T, J, delta, *, line_shape="exact"):
     J, delta : array_like, shape (n_sets, 1)
         Exchange in meV and anisotropy Δ.
     line_shape : {'exact', 'muller'}, optional
+    thermal_edge : {'near_pi', 'everywhere'}, optional
+        As :func:`spinon_spectrum` ('everywhere': w = 1).
 
     Returns
     -------
@@ -477,6 +479,9 @@ def spinon_density(q, omega, T, J, delta, *, line_shape="exact"):
     (1981); Schulz, Phys. Rev. B 34, 6372 (1986) (from memory).
     """
     _check_line_shape(line_shape, "spinon_density")
+    if thermal_edge not in ("near_pi", "everywhere"):
+        raise InputError(f"the 'thermal_edge' parameter of spinon_density must be 'near_pi' "
+                         f"or 'everywhere'; got {thermal_edge!r} instead")
     T = _check_temperature(T)
     kT = K_B_MEV * T
     omega = np.asarray(omega, dtype=float)
@@ -491,7 +496,8 @@ def spinon_density(q, omega, T, J, delta, *, line_shape="exact"):
             if line_shape == "exact":
                 dens = dens * chain_exact.profile_ratio(omega, lo_, hi_, kT)
             dens = np.where(np.abs(omega) <= hi_, dens, 0.0)
-            w = 1.0 / (1.0 + (lo_ / (_EDGE_WINDOW * kT)) ** 2)      # see _edge_blend
+            w = (1.0 / (1.0 + (lo_ / (_EDGE_WINDOW * kT)) ** 2)     # see _edge_blend
+                 if thermal_edge == "near_pi" else 1.0)
             cold = cold * np.where(omega >= 0, 1.0, np.exp(-np.abs(omega) / kT))  # gain side
             dens = w * dens + (1.0 - w) * cold
         else:
