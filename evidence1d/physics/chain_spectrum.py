@@ -45,7 +45,7 @@ from scipy import special
 
 from ..errors import InputError
 from ..units import K_B_MEV
-from . import chain_exact
+from . import chain_exact, chain_exact_quadrature as cxq
 from .chain import _all_sheets, _reduced_phase
 from .chain_thermal import _HERMITE_TIERS, convolve_thermal, thermal_density
 from .neutron import convolve_cumulative, gauss_hermite
@@ -174,22 +174,24 @@ def _side(Es, sig, wl, top, A, kT, boltz, method, n_nodes, n_panels):
 def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth):
     """One sheet with the exact profile A R_T(ω) D(ω) on [ω_L, top], convolved, flat arrays.
 
-    T = 0: :func:`evidence1d.physics.chain_exact.convolve_zero`.  T > 0:
-    :func:`evidence1d.physics.chain_thermal.convolve_thermal` with the profile ratio R_T
-    at its nodes, :func:`~evidence1d.physics.chain_exact.t_side` as the T = 0 edge path
-    and, for windows clear of the thermal edge but not of ω_U, on the thermal density.
+    T = 0: :func:`evidence1d.physics.chain_exact_quadrature.convolve_zero`.  T > 0:
+    σ ≤ 1.25 k_BT near ±ω_U, :func:`~evidence1d.physics.chain_exact_quadrature.signed_side`;
+    the rest, :func:`evidence1d.physics.chain_thermal.convolve_thermal` with the profile
+    ratio R_T at its nodes, :func:`~evidence1d.physics.chain_exact_quadrature.t_side` as the
+    T = 0 edge path and, for windows clear of the thermal edge but not of ω_U, on the
+    thermal density.
     """
     if not (A > 0).any():
         return np.zeros(Ef.size)
     if kT <= 0:
-        return chain_exact.convolve_zero(Ef, sf, wl, top, A, n_nodes, n_panels, smooth)
+        return cxq.convolve_zero(Ef, sf, wl, top, A, n_nodes, n_panels, smooth)
 
     def old_side(Es, s, wl_, top_, A_, kTa, boltz):
-        return A_ * chain_exact.t_side(Es, s, wl_, top_, kTa, -1.0 if boltz else 1.0, False,
+        return A_ * cxq.t_side(Es, s, wl_, top_, kTa, -1.0 if boltz else 1.0, False,
                                        n_nodes, n_panels)
 
     def top_side(c, s, wl_, top_, kTa):
-        return chain_exact.t_side(c, s, wl_, top_, kTa, 1.0, True, n_nodes, n_panels)
+        return cxq.t_side(c, s, wl_, top_, kTa, 1.0, True, n_nodes, n_panels)
 
     # σ ≲ k_BT: Gauss–Hermite on the signed axis unless the window nears ±ω_U (where the
     # profile vanishes as a square root; all such pairs on the reference path)
@@ -198,12 +200,12 @@ def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth):
     narrow = ((A > 0) & (sf <= _HERMITE_MAX * kT) & (Ef - six < top) & (Ef + six > -top)
               & ((Ef + six > wl - 40.0 * kT) | (Ef - six < 40.0 * kT - wl)))
     if smooth:
-        narrow &= np.abs(Ef) + chain_exact._TOP_CLEAR * sf > top
+        narrow &= np.abs(Ef) + cxq._TOP_CLEAR * sf > top
     out = np.zeros(Ef.size)
     ix = np.flatnonzero(narrow)
     if ix.size:
         rule = () if smooth else (n_nodes, max(n_panels, 2), _N_SIGMA)
-        out[ix] = A[ix] * chain_exact.signed_side(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
+        out[ix] = A[ix] * cxq.signed_side(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
                                                   *rule)
     out += convolve_thermal(Ef, sf, wl, top, np.where(narrow, 0.0, A), kT, old_side,
                             "quadrature", n_nodes, n_panels, smooth,
@@ -367,10 +369,11 @@ def spinon_spectrum(q, E, sigma, T, J, delta, *, line_shape="exact", method="qua
         window (``n_nodes`` = 6 per panel; error ~2e-4 of the peak of S(q, ·), at most 5e-4
         measured over the default priors); points clear of ω_L by 6σ take a Gauss–Hermite
         rule (4 nodes, or 8 with the step at ω_T; error < 2.5e-5 of the local value).
-        Exact profile: Gauss–Legendre in the Karbach variable t on ``n_panels`` panels of
-        ``n_nodes`` = 6 (:func:`evidence1d.physics.chain_exact.t_side`), or Gauss–Hermite
-        (6 nodes) for windows clear of both edges; measured error < 1e-4 of the peak at
-        T = 0.  'cumulative' (Müller shape only): W tabulated on ``n_nodes`` = 24 nodes
+        Exact profile (:mod:`evidence1d.physics.chain_exact_quadrature`): Gauss–Legendre
+        in the Karbach variable t or in ω with a u-rule at ω_U on ``n_panels`` panels of
+        ``n_nodes`` = 6, or Gauss–Hermite (4 nodes) for windows clear of both edges;
+        measured error < 1e-4 of the peak at T = 0, < 2e-4 at T > 0 (against adaptive
+        quadrature).  'cumulative' (Müller shape only): W tabulated on ``n_nodes`` = 24 nodes
         over the window (error ~0.3 %) and convolved by
         :func:`evidence1d.physics.neutron.convolve_cumulative` (piecewise-linear W, exact
         erf integrals) at every point.
