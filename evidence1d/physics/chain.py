@@ -12,7 +12,10 @@ S(q, ω) = A(q) Θ(ω − ω_L) Θ(ω_T − ω) / √(ω² − ω_L²)     (Mül
 summed over the three spin components (unpolarised, no polarisation factor), with
 ω_L the exact lower two-spinon edge and ω_T the upper edge of the principal continuum
 (ω_T = ω_U for Δ ≤ 1).  The Müller shape is exact in its edges but only an approximation
-of the line shape; it is a good one at Δ = 1 and an approximation away from it.  For Δ > 1
+of the line shape; it is a good one at Δ = 1 and an approximation away from it.  It is the
+``line_shape='muller'`` option of the spectrum; the default multiplies it by the ratio R of
+the exact two-spinon profile of the Heisenberg chain, which has the same first moment
+(:mod:`evidence1d.physics.chain_exact`; Karbach et al. 1997).  For Δ > 1
 the exact continuum of the π-periodic spinon bands also has a π-shifted sheet (the
 two-spinon states over the other Néel vacuum; upper edge b = 2I√(1 − k² sin²(q/2)) > ω_T
 for |q| < π/2): the model gives it the same Müller shape on [ω_L, b] and the moment
@@ -50,6 +53,8 @@ J. des Cloizeaux & J. J. Pearson, Phys. Rev. 128, 2131 (1962).
 J. des Cloizeaux & M. Gaudin, J. Math. Phys. 7, 1384 (1966).
 J. D. Johnson, S. Krinsky & B. M. McCoy, Phys. Rev. A 8, 2526 (1973).
 G. Müller, H. Thomas, H. Beck & J. C. Bonner, Phys. Rev. B 24, 1429 (1981).
+M. Karbach, G. Müller, A. H. Bougourzi, A. Fledderjohann & K.-H. Mütter, Phys. Rev. B 55,
+12510 (1997).
 P. C. Hohenberg & W. F. Brinkman, Phys. Rev. B 10, 128 (1974).
 A. H. Bougourzi, M. Karbach & G. Müller, Phys. Rev. B 57, 11429 (1998) (from memory).
 J.-S. Caux, J. Mossel & I. Pérez Castillo, J. Stat. Mech. P08006 (2008) (from memory).

@@ -1,13 +1,19 @@
 """Resolution-convolved two-spinon spectrum of the S = 1/2 XXZ chain at any temperature.
 
-Finite-temperature convention (every family): S(q, ω) = χ''(q, ω) [n(ω) + 1]/π.  At T = 0
-the spectrum is the Müller line shape of :mod:`evidence1d.physics.chain` on the energy-loss
-side, S_0(q, ω) = A(q) Θ(ω − ω_L) Θ(ω_T − ω) / √(ω² − ω_L²), and nothing on the gain side.
-At T > 0, χ'' is the same shape with its edge dressed by the finite-temperature conformal
-form and S = χ''(n + 1)/π on both sides (:mod:`evidence1d.physics.chain_thermal`: detailed
-balance S(q, −ω) = e^{−ω/k_BT} S(q, ω) holds exactly, S is finite at ω → 0 near q = π).
+Finite-temperature convention (every family): S(q, ω) = χ''(q, ω) [n(ω) + 1]/π.  Two line
+shapes of each two-spinon sheet, both with the exact first moment (``line_shape``): the exact
+two-spinon profile of the Heisenberg chain placed between the sheet's edges (the default;
+:mod:`evidence1d.physics.chain_exact`, its convolution in
+:mod:`evidence1d.physics.chain_exact_quadrature`) and the Müller shape.  At T = 0 the Müller
+shape of :mod:`evidence1d.physics.chain` is S_0(q, ω) = A(q) Θ(ω − ω_L) Θ(ω_T − ω) /
+√(ω² − ω_L²) on the energy-loss side and nothing on the gain side; the exact profile is
+S_0 times the ratio R(ω), which vanishes at ω_T.  At T > 0, χ'' is the same shape with its
+edge dressed by the finite-temperature conformal form and S = χ''(n + 1)/π on both sides
+(:mod:`evidence1d.physics.chain_thermal`: detailed balance S(q, −ω) = e^{−ω/k_BT} S(q, ω)
+holds exactly, S is finite at ω → 0 near q = π); the exact profile multiplies it by the
+thermal ratio R_T (even in ω).
 
-The T = 0 convolution with the Gaussian resolution of width σ is done in the
+The T = 0 convolution of the Müller shape with the Gaussian resolution of width σ is done in the
 cumulative-weight variable W = A arccosh(ω/ω_L), ω = ω_L cosh t, in which the
 inverse-square-root edge becomes a constant density, so neither the edge nor the step at
 ω_T rings or loses weight, whatever the point spacing:
@@ -28,6 +34,8 @@ energies in meV, batched (n_sets, 1) parameters against (n,) points) are those o
 
 References
 ----------
+M. Karbach, G. Müller, A. H. Bougourzi, A. Fledderjohann & K.-H. Mütter, Phys. Rev. B 55,
+12510 (1997) (the exact two-spinon profile).
 G. Müller, H. Thomas, H. Beck & J. C. Bonner, Phys. Rev. B 24, 1429 (1981).
 S. W. Lovesey, *Theory of Neutron Scattering from Condensed Matter* (Clarendon, 1984)
 (detailed balance).
