@@ -74,7 +74,14 @@ def verdict_lines(results) -> str:
     lines += ["", f"P(one-dimensional | data) = {cmp_.p_one_dimensional:.3g}",
               "verdict: " + cmp_.verdict]
     if not results.reliable:
-        lines.append("WARNING: diagnostics failed; the verdict is UNRELIABLE (see report.md)")
+        lines.append("WARNING: the verdict is UNRELIABLE (see report.md)")
+    best = results.models.get(getattr(cmp_, "best", None))
+    fits = (getattr(best, "analysis", None) or {}).get("goodness_of_fit") or {}
+    bad = [ds for ds, f in fits.items() if f.get("bad_fit")]
+    if bad:
+        lines.append(f"WARNING: BAD FIT: the winner {cmp_.best} fits {', '.join(bad)} badly; "
+                     "the data prefer it to the others, not that it describes them "
+                     "(see the goodness-of-fit table in report.md)")
     return "\n".join(lines)
 
 

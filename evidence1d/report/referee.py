@@ -38,6 +38,11 @@ def reliability_section(s) -> list:
     r = c["reliability"]
     t = r["thresholds"]
     state = "reliable" if r["verdict_reliable"] else "**UNRELIABLE**"
+    if r["verdict_reliable"] and c.get("winner_fit_warnings"):
+        # a ranking can be secure while the winner misfits: never call that simply reliable
+        state = ("the ranking is secure, but the winner FITS BADLY (see BAD FIT above): the "
+                 "data prefer it to the others, not that it describes them; do not quote its "
+                 "parameters without the residuals")
     agree = r["island_pairs_agreeing"]
     out = [f"Reliability of the verdict: {state}. It rests on the evidences (ln K of "
            f"`{r['winner']}` over `{r['runner_up']}` = {r['ln_k']:.2f} ± {fmt(r['ln_k_err'])} "

@@ -164,3 +164,18 @@ def test_a_fit_without_finite_predictions_still_renders(summary, context):
     validate_summary(doc)
     assert "| — | — |" in render_markdown(doc, context)
     assert "---" in render_tables(doc, context)
+
+
+def test_a_secure_ranking_with_a_badly_fitting_winner_is_not_called_reliable(summary, context):
+    doc = copy.deepcopy(summary)
+    c = doc["comparison"]
+    c["reliability"].update(verdict_reliable=True, reasons=[], winner_diagnostics_ok=True)
+    doc["reliable"] = True
+    c["winner_fit_warnings"] = ["the winning family fits map badly: χ²/N = 9"]
+    text = render_markdown(doc, context)
+    line = next(ln for ln in text.splitlines() if ln.startswith("Reliability of the verdict"))
+    assert "FITS BADLY" in line and "verdict: reliable" not in line
+    c["winner_fit_warnings"] = []
+    line = next(ln for ln in render_markdown(doc, context).splitlines()
+                if ln.startswith("Reliability of the verdict"))
+    assert line.startswith("Reliability of the verdict: reliable.")
