@@ -9,13 +9,14 @@ Python API
 >>> import evidence1d
 >>> case = evidence1d.load_case("case_studies/flagship/case.yaml")   # doctest: +SKIP
 >>> case.parameter_names("spinon_continuum")                          # doctest: +SKIP
->>> results = evidence1d.run(case, quick=True)                        # doctest: +SKIP
+>>> results = evidence1d.run(case, quick=True)          # computes only  # doctest: +SKIP
+>>> evidence1d.run_to_folder(case, out="results")     # folder + report  # doctest: +SKIP
 """
 from __future__ import annotations
 
 __version__ = "0.1.0"
 
-__all__ = ["load_case", "run", "InputError", "__version__"]
+__all__ = ["load_case", "run", "run_to_folder", "InputError", "__version__"]
 
 from .errors import InputError
 
@@ -27,6 +28,14 @@ def load_case(path):
 
 
 def run(case, **kwargs):
-    """Run the model comparison of a case; see :func:`evidence1d.runner.run`."""
+    """Compute the model comparison of a case (no files); see
+    :func:`evidence1d.runner.run`."""
     from .runner import run as _run
+    return _run(case, **kwargs)
+
+
+def run_to_folder(case, **kwargs):
+    """Run a case and write its output folder and report; see
+    :func:`evidence1d.outputs.run_to_folder`."""
+    from .outputs import run_to_folder as _run
     return _run(case, **kwargs)

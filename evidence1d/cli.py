@@ -153,17 +153,17 @@ def _data_notes(case):
 
 def _cmd_run(args):
     from .case import load_case
+    from .outputs import run_to_folder
     from .report.console import verdict_lines
-    from .runner import run
     case = load_case(args.case)
     models = args.models.split(",") if args.models else None
     target = Path(args.out) if args.out else case.output
     if args.overwrite and not args.resume and target.exists() and any(target.iterdir()):
         print(f"evidence1d: replacing the existing output folder {target} (--overwrite)",
               file=sys.stderr)
-    results = run(case, seed=args.seed, out=args.out, quick=args.quick, resume=args.resume,
-                  overwrite=args.overwrite, figures=not args.no_figures, models=models,
-                  workers=args.workers)
+    results = run_to_folder(case, seed=args.seed, out=args.out, quick=args.quick,
+                            resume=args.resume, overwrite=args.overwrite,
+                            figures=not args.no_figures, models=models, workers=args.workers)
     print(verdict_lines(results))
     print(f"\nreport: {results.out / 'report.md'}")
     return 0

@@ -6,9 +6,10 @@ shapes its independence proposals, see :mod:`evidence1d.inference.posterior`), d
 a Laplace quick look, the Savage–Dickey ratio where the family contains its 1D limit, and
 PSIS-LOO; then the comparison across families.  No global state: the work is spread over
 a process pool in two stages, the evidence islands of every family first (independent jobs,
-so the cores are shared evenly), then one job per family for the rest; the figures are
-drawn in parallel at the end.  Every family and island has its own random stream, so the
-numbers do not depend on the number of processes.
+so the cores are shared evenly), then one job per family for the rest (with the family's
+parameter table and figure data).  Every family and island has its own random stream, so
+the numbers do not depend on the number of processes.  Nothing is written here: the
+output folder, resume and the report belong to :mod:`evidence1d.outputs`.
 
 After the families: the analyses of :mod:`evidence1d.analysis` (goodness of fit, prior
 bounds, and the evidence budget of the two leading families, which runs its own
@@ -20,88 +21,17 @@ from __future__ import annotations
 
 import json
 import time
-from dataclasses import dataclass, field
-from pathlib import Path
 
 import numpy as np
 
 from .errors import InputError
 from .parallel import run_in_pool, worker_count
+from .results import ModelResult, RunResults
 
 __all__ = ["ModelResult", "RunResults", "run", "effective_settings", "QUICK"]
 
 #: reductions applied by ``--quick`` (a first look, not for publication)
 QUICK = {"steps": 300, "particles": 150, "islands": 2}
-
-
-@dataclass(frozen=True)
-class ModelResult:
-    """Everything computed for one model family."""
-
-    name: str
-    title: str
-    one_dimensional: bool
-    names: list
-    units: dict
-    evidence: object
-    posterior: object
-    diagnostics: object
-    laplace: object = None
-    savage_dickey: dict | None = None
-    loo: dict | None = None
-    run_time: float = 0.0
-    nuisance_names: list = field(default_factory=list)
-    nuisance_samples: object = None
-    analysis: dict = field(default_factory=dict)
-
-    @property
-    def full_names(self) -> list:
-        """Sampled parameters followed by the analytically marginalised nuisances."""
-        return list(self.names) + list(self.nuisance_names)
-
-    @property
-    def full_samples(self):
-        """Posterior samples of :attr:`full_names` (marginalised nuisances drawn from their
-        conditional posterior given each sample)."""
-        if not self.nuisance_names:
-            return np.asarray(self.posterior.samples)
-        return np.hstack([np.asarray(self.posterior.samples), np.asarray(self.nuisance_samples)])
-
-
-@dataclass(frozen=True)
-class RunResults:
-    """The results of :func:`run`.
-
-    Attributes
-    ----------
-    models : dict of str to ModelResult
-    comparison : Comparison
-    reliable : bool
-        Whether the verdict can be trusted (evidence errors and island agreement against
-        ln K, the winner's diagnostics; see
-        :func:`~evidence1d.inference.compare.verdict_reliability`); every output says so.
-        A losing family's failed chain is a note on that family, not on the verdict.
-    out : pathlib.Path
-    seed : int
-    settings : dict
-    provenance : dict
-    budget : dict or None
-        The evidence budget (:func:`evidence1d.analysis.evidence_budget`), or None when it
-        was not computed (``budget=False``, one dataset, or a note why under ``"skipped"``).
-    sensitivity : dict or None
-        Prior sensitivity of ln K and P(1D) (:func:`evidence1d.analysis.prior_sensitivity`).
-    """
-
-    models: dict
-    comparison: object
-    reliable: bool
-    out: Path
-    seed: int
-    settings: dict
-    provenance: dict = field(default_factory=dict)
-    case_path: Path | None = None
-    budget: dict | None = None
-    sensitivity: dict | None = None
 
 
 def effective_settings(case, quick: bool = False) -> dict:
@@ -113,62 +43,12 @@ def effective_settings(case, quick: bool = False) -> dict:
     return s
 
 
-class _RunLog:
-    """Plain-text log beside the outputs (``run.log``): stages, settings, results, times."""
-
-    def __init__(self, path: Path | None):
-        self.path = path
-
-    def __call__(self, message: str) -> None:
-        if self.path is None:
-            return
-        stamp = time.strftime("%Y-%m-%d %H:%M:%S")
-        with open(self.path, "a", encoding="utf-8") as fh:
-            fh.write(f"{stamp}  {message}\n")
-
-
 def _model_seeds(seed: int, names):
     """The random streams of each family: (evidence, posterior, Savage–Dickey and LOO,
     nuisance draws).  Drawn once per run: ``SeedSequence.spawn`` gives new children at
     every call."""
     children = np.random.SeedSequence(seed).spawn(len(names))
     return {n: tuple(c.spawn(4)) for n, c in zip(names, children)}
-
-
-def _evidence_file(out: Path | None, name: str) -> Path | None:
-    """Where a family's finished evidence is kept for ``--resume`` (None: not written)."""
-    return None if out is None else out / "chains" / f"{name}.evidence.pkl"
-
-
-def _save_evidence(path: Path | None, ev, settings) -> None:
-    """Keep a finished evidence run (atomically) so that ``--resume`` need not redo it."""
-    if path is None:
-        return
-    import pickle
-
-    from .report.store import atomic_write
-    atomic_write(path, pickle.dumps({"settings": dict(settings), "evidence": ev}))
-
-
-def _remove_stale_temporaries(out: Path) -> None:
-    """Delete the temporary files of atomic writes that a killed run left behind
-    (``.<name>.<random>.tmp``, see :func:`evidence1d.report.store.atomic_write`)."""
-    for p in out.rglob(".*.tmp"):
-        if p.is_file():
-            p.unlink(missing_ok=True)
-
-
-def _load_evidence(path: Path | None, settings):
-    """The saved evidence run if it exists and was made with the same settings."""
-    if path is None or not path.is_file():
-        return None
-    import pickle
-    try:
-        with open(path, "rb") as fh:
-            saved = pickle.load(fh)
-    except Exception:  # a damaged file is recomputed, never trusted
-        return None
-    return saved["evidence"] if saved.get("settings") == dict(settings) else None
 
 
 def _evidence_options(settings) -> dict:
@@ -188,14 +68,14 @@ def _island_job(case, name, settings, seed):
                       **_evidence_options(settings))
 
 
-def _evidences(case, names, settings, seeds, out: Path | None, resume: bool, progress,
-               workers: int) -> dict:
+def _evidences(case, names, settings, seeds, store, progress, workers: int) -> dict:
     """The evidence of every family, its islands spread over ``workers`` processes.
 
     Islands of all families are independent jobs (R per family), so the work is shared out
     evenly whatever the number of families; each island keeps the random stream it has in
     :func:`~evidence1d.inference.evidence.tempered_evidence`, so the numbers do not depend
-    on ``workers``.  Finished evidences are saved for ``--resume``.
+    on ``workers``.  Finished evidences are kept by the ``store`` (if any) for a resumed
+    run.
     """
     from .inference.evidence import (check_evidence_settings, combine_islands,
                                      evidence_settings, island_seeds)
@@ -205,7 +85,7 @@ def _evidences(case, names, settings, seeds, out: Path | None, resume: bool, pro
         problem = case.problem(n)
         check_evidence_settings(problem.prior, settings["particles"], settings["islands"],
                                 settings["ess_fraction"])
-        ev = _load_evidence(_evidence_file(out, n), settings) if resume else None
+        ev = store.load_evidence(n, settings) if store is not None else None
         if ev is not None:
             evidences[n] = ev
             continue
@@ -224,18 +104,21 @@ def _evidences(case, names, settings, seeds, out: Path | None, resume: bool, pro
             runs = [r for r, o in zip(done, owner) if o == n]
             ev = combine_islands([r for r, _ in runs], case.problem(n).names, record,
                                  [w for _, w in runs if w])
-            _save_evidence(_evidence_file(out, n), ev, settings)
+            if store is not None:
+                store.save_evidence(n, ev, settings)
             evidences[n] = ev
     return {n: evidences[n] for n in names}
 
 
-def _run_model(case, name, settings, streams, ev, out: Path | None, resume: bool, progress,
-               position=None):
+def _run_model(case, name, settings, streams, ev, store, progress, position=None,
+               figures=None):
     """Everything after the evidence for one family: a pool job."""
     from .inference.compare import savage_dickey
     from .inference.diagnostics import diagnose, psis_loo
     from .analysis import bound_flags, goodness_of_fit
+    from .analysis.figure_data import model_figure_data
     from .analysis.metal import metal_context
+    from .analysis.parameters import parameter_table
     from .inference.laplace import laplace_evidence
     from .inference.posterior import population_moves, sample_posterior
 
@@ -250,9 +133,8 @@ def _run_model(case, name, settings, streams, ev, out: Path | None, resume: bool
     rng_post = np.random.default_rng(post_seed)
     pool = ev.posterior_samples
     start = pool[rng_post.choice(len(pool), size=walkers, replace=len(pool) < walkers)]
-    ckpt = None if out is None else out / "chains" / f"{name}.h5"
-    if ckpt is not None:
-        ckpt.parent.mkdir(parents=True, exist_ok=True)
+    ckpt = None if store is None else store.checkpoint(name)
+    resume = bool(store is not None and store.resume)
     moves = population_moves(pool)
     post = sample_posterior(problem.log_likelihood, problem.prior, rng=rng_post,
                             n_walkers=walkers, n_steps=settings["steps"], initial=start,
@@ -295,6 +177,10 @@ def _run_model(case, name, settings, streams, ev, out: Path | None, resume: bool
                     "move_acceptance": dict(post.move_acceptance),
                     "marginalised": list(problem.marginalised)},
     }
+    analysis["parameter_table"] = parameter_table(problem, samples, nuis)
+    if figures is not None:
+        analysis["figures"] = model_figure_data(name, problem, case.sample, samples, full,
+                                                analysis["parameter_table"], figures)
     return ModelResult(name=name, title=problem.card.title,
                        one_dimensional=problem.one_dimensional, names=list(problem.names),
                        units=dict(problem.units), evidence=ev, posterior=post,
@@ -327,93 +213,94 @@ def _describe_moves(moves) -> list:
     return out
 
 
-def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume: bool = False,
-        overwrite: bool = False, figures: bool = True, models=None, progress: bool = True,
-        write: bool = True, workers: int | None = None,
-        budget: bool | None = None) -> RunResults:
-    """Compare the model families of a case.
+def run_context(case, names, quick: bool, figures) -> dict:
+    """What the report states besides the numbers, taken from the case (see
+    :attr:`evidence1d.results.RunResults.context`)."""
+    cards = {}
+    for n in names:
+        card = case.models[n].card
+        cards[n] = {"assumptions": list(card.assumptions),
+                    "limitations": list(card.limitations),
+                    "references": list(card.references),
+                    "latex": {p: v.get("latex") for p, v in card.parameters.items()}}
+    return {"title": case.title, "quick": bool(quick), "cards": cards,
+            "datasets": [{"name": ds.name, "kind": ds.kind, "n": int(ds.n),
+                          "units": dict(ds.units)} for ds in case.datasets],
+            "figure_settings": figures}
+
+
+def run(case, *, seed: int | None = None, quick: bool = False, models=None,
+        progress: bool = True, workers: int | None = None, budget: bool | None = None,
+        figures: bool = True, store=None) -> RunResults:
+    """Compare the model families of a case: computation only.
+
+    No file is written unless a ``store`` is given (the command line passes a
+    :class:`evidence1d.outputs.RunFolder`: checkpoints, saved evidences for a resumed run,
+    a log); :func:`evidence1d.outputs.run_to_folder` writes the output folder and the
+    report.
 
     Parameters
     ----------
     case : Case
     seed : int, optional
         Overrides the case's seed. The same seed and inputs give the same numbers.
-    out : str or pathlib.Path, optional
-        Output folder (default: the case's ``output``).
     quick : bool
         Reduced sampler settings (:data:`QUICK`) for a first look.
-    resume : bool
-        Continue from the checkpoints in ``out``.
-    overwrite : bool
-        Replace an existing output folder.
-    figures : bool
-        Draw the figures (slower).
     models : list of str, optional
         A subset of the case's models.
     progress : bool
         Progress bars on standard error.
-    write : bool
-        Write the output folder (False: compute only).
     workers : int, optional
-        Processes over which the model families, then the figures, are spread (default:
-        the environment variable ``EVIDENCE1D_WORKERS`` or the number of CPU cores, at
-        most one per job; 1 runs everything in this process). Each family has its own
-        seed, so the numbers do not depend on this.
+        Processes over which the evidence islands, then the model families are spread
+        (default: the environment variable ``EVIDENCE1D_WORKERS`` or the number of CPU
+        cores, at most one per job; 1 runs everything in this process). Each family has
+        its own seed, so the numbers do not depend on this.
     budget : bool, optional
         Compute the evidence budget of the two leading families (tempered evidences of
         subsets of the data: about 2 K − 2 extra evidence runs per family for K likelihood
-        terms, most of them on fewer data; see
-        :mod:`evidence1d.analysis.budget`).  Default: yes, except with ``quick``.
+        terms, most of them on fewer data; see :mod:`evidence1d.analysis.budget`).
+        Default: yes, except with ``quick``.
+    figures : bool
+        Compute the figure data (predictive bands, cuts, maps, corner samples) so that the
+        report can draw the figures.
+    store : object, optional
+        Where checkpoints and finished evidences are kept: ``checkpoint(name) -> Path``,
+        ``load_evidence(name, settings)``, ``save_evidence(name, ev, settings)``,
+        ``resume`` (bool) and ``log(message)``.
 
     Returns
     -------
     RunResults
+        ``out`` and ``case_path`` are filled by the folder layer when it writes them.
 
     Raises
     ------
     InputError
-        The output folder exists (without ``overwrite`` or ``resume``), or an unknown model.
+        An unknown model, or bad sampler settings.
     """
     from .analysis.stage import run_budget, run_sensitivity
     from .inference.compare import compare_models, verdict_reliability, with_reliability
     from .provenance import provenance
+    from .report.figures.settings import figure_settings
 
     seed = case.seed if seed is None else int(seed)
-    out = Path(out) if out is not None else case.output
     names = list(case.models) if not models else list(models)
     for n in names:
         case.problem(n)
     settings = effective_settings(case, quick)
-    replaced = False
-    if write:
-        if out.exists() and any(out.iterdir()) and not (overwrite or resume):
-            raise InputError(f"output folder {out} exists; use --overwrite to replace it or "
-                             "--resume to continue it")
-        replaced = overwrite and out.exists() and not resume
-        if replaced:
-            import shutil
-            shutil.rmtree(out)
-        out.mkdir(parents=True, exist_ok=True)
-        if resume:
-            _remove_stale_temporaries(out)
-        from .report.store import atomic_write
-        atomic_write(out / "settings.json", json.dumps({"seed": seed, "quick": quick,
-                                                        "settings": settings}, indent=2))
-    log = _RunLog(out / "run.log" if write else None)
-    log(f"evidence1d run of {case.path} (seed {seed}, quick={quick}, resume={resume})")
-    if replaced:
-        log(f"replaced the existing output folder {out} (--overwrite)")
+    fig_settings = figure_settings(case.figures, [ds.name for ds in case.datasets],
+                                   names) if figures else None
+    log = store.log if store is not None else (lambda message: None)
     log(f"settings: {json.dumps(settings)}; models: {', '.join(names)}")
     t0 = time.time()
     seeds = _model_seeds(seed, names)
-    target = out if write else None
     log(f"evidence: {settings['islands']} islands per family over "
         f"{worker_count(workers, len(names) * settings['islands'])} process(es)")
-    evidences = _evidences(case, names, settings, seeds, target, resume, progress,
+    evidences = _evidences(case, names, settings, seeds, store, progress,
                            worker_count(workers, len(names) * settings["islands"]))
     n_workers = worker_count(workers, len(names))
-    jobs = [(case, n, settings, seeds[n], evidences[n], target, resume, progress,
-             i if n_workers > 1 else None) for i, n in enumerate(names)]
+    jobs = [(case, n, settings, seeds[n], evidences[n], store, progress,
+             i if n_workers > 1 else None, fig_settings) for i, n in enumerate(names)]
     results = dict(zip(names, run_in_pool(_run_model, jobs, n_workers)))
     for n, r in results.items():
         log(f"{n}: ln Z = {r.evidence.log_z:.3f} ± {r.evidence.log_z_err:.3f} "
@@ -459,12 +346,10 @@ def run(case, *, seed: int | None = None, out=None, quick: bool = False, resume:
                 + f" against {budget_doc['ln_k']:.2f} ({time.time() - t_b:.1f} s)")
     sensitivity = run_sensitivity(case, results)
     prov = provenance(case, seed=seed, start=t0, run_time=time.time() - t0, settings=settings)
-    res = RunResults(models=results, comparison=comparison, reliable=reliable, out=out,
-                     seed=seed, settings=settings, provenance=prov, case_path=case.path,
-                     budget=budget_doc, sensitivity=sensitivity)
+    res = RunResults(models=results, comparison=comparison, reliable=reliable, seed=seed,
+                     settings=settings, provenance=prov, budget=budget_doc,
+                     sensitivity=sensitivity,
+                     context=run_context(case, names, quick, fig_settings),
+                     case_path=case.path)
     log(f"verdict: {comparison.verdict}")
-    if write:
-        from .report import write_report
-        write_report(res, case, figures=figures, workers=workers)
-        log(f"report written to {out} ({time.time() - t0:.1f} s in all)")
     return res

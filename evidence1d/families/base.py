@@ -166,3 +166,20 @@ class Family:
     def entropy(self, p: dict, T: np.ndarray) -> np.ndarray:
         """Magnetic entropy S(T) in J/(mol K) per mol of magnetic ion, shape (n_sets, n)."""
         raise NotImplementedError
+
+    def overlays(self, p: dict, pts: SpectralPoints) -> list:
+        """Characteristic energies E(Q) drawn over a map of the family's spectrum.
+
+        Parameters
+        ----------
+        p : dict of str to ndarray (n_sets, 1)
+            Physical parameters, energies in meV.
+        pts : SpectralPoints
+            Points along a wavevector line (their energies are not used).
+
+        Returns
+        -------
+        list of (str, ndarray (n_sets, n))
+            A label and the energy in meV of every curve; the base family has none.
+        """
+        return []

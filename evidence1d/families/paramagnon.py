@@ -132,6 +132,10 @@ class ParamagnonFamily(Family):
         chi_u = pm.reduced_susceptibility(chi_u, p.get("g", 2.0))
         return pm.static_susceptibility(kappa, kappa0, chi_u), kappa
 
+    def overlays(self, p: dict, pts: SpectralPoints) -> list:
+        """The relaxation rate Γ_Q (meV) of :meth:`relaxation_rate`."""
+        return [("relaxation rate Γ$_Q$", self.relaxation_rate(p, pts))]
+
     def relaxation_rate(self, p: dict, pts: SpectralPoints, kappa=None) -> np.ndarray:
         """Γ_Q in meV at the points: z = 2 (non-conserved) or z = 3 (zone centre).
 

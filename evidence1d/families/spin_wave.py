@@ -155,6 +155,13 @@ class SpinWaveFamily(Family):
                                               _col(p["delta"]), self.z_perp,
                                               self.thermo_method)
 
+    def overlays(self, p: dict, pts: SpectralPoints) -> list:
+        """The renormalised magnon dispersion ħω_Q (meV) of
+        :func:`evidence1d.physics.ordered_magnon.magnon_modes`."""
+        omega = ordered_magnon.magnon_modes(pts.q_par, pts.q_a, pts.q_b, p["J"], p["J_perp"],
+                                            p["delta"], self.z_perp)[0]
+        return [("magnon dispersion ħω$_Q$", omega)]
+
     def neel_temperature(self, p: dict) -> np.ndarray:
         """Néel temperature in K from Schulz's coupled-chain relation, shape (n_sets, 1).
 

@@ -151,6 +151,14 @@ class SpinonFamily(Family):
         th, _ = self._thermo(p, T, ("c_over_r",))
         return U.R_GAS * th["c_over_r"]
 
+    def overlays(self, p: dict, pts: SpectralPoints) -> list:
+        """The lower and upper bounds of the two-spinon continuum (meV), after des
+        Cloizeaux & Pearson, Phys. Rev. 128, 2131 (1962) and Müller et al., PRB 24, 1429
+        (1981); see :func:`evidence1d.physics.chain.spinon_bounds`."""
+        from ..physics.chain import spinon_bounds
+        lo, hi = spinon_bounds(pts.q_par, p["J"], p["delta"])
+        return [("two-spinon lower bound", lo), ("two-spinon upper bound", hi)]
+
     def entropy(self, p: dict, T: np.ndarray) -> np.ndarray:
         """Chain entropy S = R · (S/R)(t, Δ) in J/(mol K); → R ln 2 at high T."""
         th, _ = self._thermo(p, T, ("s_over_r",))

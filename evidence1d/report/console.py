@@ -101,7 +101,7 @@ def report_lines(out, figures: bool = True, figures_only: bool = False) -> str:
 
     References
     ----------
-    .. [1] The run folder layout of :mod:`evidence1d.report.store`.
+    .. [1] The run folder layout of :mod:`evidence1d.outputs`.
     """
     out = Path(out)
     folder = out / "figures"

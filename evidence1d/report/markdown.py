@@ -64,37 +64,31 @@ WIDTH_LEVELS = (0.5, 0.9)
 SHARE_MIN = 0.1
 
 
-def report_context(results, case) -> dict:
+def report_context(results) -> dict:
     """The facts report.md states besides the numbers: cards, datasets, settings.
 
     Parameters
     ----------
     results : RunResults
-    case : Case
+        Its ``context`` was taken from the case when the run was made.
 
     Returns
     -------
     dict
         ``cards`` (model -> assumptions, limitations, references, latex symbols),
-        ``datasets`` (name, kind, points, units), ``settings``, ``seed``,
+        ``datasets`` (name, kind, points, units), ``settings``, ``seed``, ``quick``,
         ``evidence_settings`` and ``burn_in_rule`` per model.
 
     References
     ----------
     .. [1] Foreman-Mackey et al., PASP 125, 306 (2013).
     """
-    cards = {}
-    for name in results.models:
-        card = case.models[name].card
-        cards[name] = {"assumptions": list(card.assumptions),
-                       "limitations": list(card.limitations),
-                       "references": list(card.references),
-                       "latex": {p: v.get("latex") for p, v in card.parameters.items()}}
+    ctx = results.context
     return {
-        "cards": cards,
-        "datasets": [{"name": ds.name, "kind": ds.kind, "n": ds.n, "units": dict(ds.units)}
-                     for ds in case.datasets],
+        "cards": {n: dict(ctx["cards"][n]) for n in results.models},
+        "datasets": [dict(d) for d in ctx["datasets"]],
         "settings": dict(results.settings), "seed": int(results.seed),
+        "quick": bool(ctx.get("quick", False)),
         "evidence_settings": {n: dict(m.evidence.settings) for n, m in results.models.items()},
         "burn_in_rule": {n: m.posterior.burn_in_rule for n, m in results.models.items()},
     }

@@ -1,184 +1,26 @@
-"""The numbers of the report: posterior summaries and dataset sensitivities.
+"""The ``summary.json`` document of a run, rendered from the results record alone.
 
-Everything the report layers print is computed here (or, for the analyses of
-:mod:`evidence1d.analysis`, during the run) from the run's results and the case,
-deterministically (no random numbers), so that rebuilding from saved results gives the same
-numbers.  :func:`build_summary` gives the ``summary.json`` document (schema in
-:mod:`evidence1d.report.schema`; the comparison block in :mod:`evidence1d.report.verdict`).
-The figures take their arrays from :mod:`evidence1d.report.figures`.
-
-Which datasets constrain which parameter
-----------------------------------------
-At the posterior median θ̂ the derivative of every dataset's prediction μ_i with respect to
-each parameter θ_j is taken by central finite differences (step 1 % of the posterior
-standard deviation, one-sided at a prior bound).  For Gaussian errors σ_i the diagonal
-Fisher information a dataset d carries about θ_j is F_dj = Σ_{i∈d} (∂μ_i/∂θ_j)² / σ_i²
-(Tegmark, Taylor & Heavens 1997).  The report gives its share F_dj / Σ_d F_dj and the shift
-√F_dj · sd_j: the root-sum-square change of dataset d, in units of its errors, when θ_j moves
-by one posterior standard deviation.  Error inflation and Student-t noise are ignored in
-this measure.
+The numbers were computed during the run (the parameter table and dataset constraints by
+:mod:`evidence1d.analysis.parameters`, goodness of fit, bounds and the budget by the rest of
+:mod:`evidence1d.analysis`); this module only lays them out (schema in
+:mod:`evidence1d.report.schema`; the comparison block in :mod:`evidence1d.report.verdict`)
+and rounds them for print.
 
 References
 ----------
-.. [1] M. Tegmark, A. N. Taylor and A. F. Heavens, "Karhunen–Loève eigenvalue problems in
-   cosmology: how should we tackle large data sets?", ApJ 480, 22 (1997), eq. 15 (Fisher
-   matrix of Gaussian data; from memory).
-.. [2] R. E. Kass and A. E. Raftery, J. Am. Stat. Assoc. 90, 773 (1995): wording of 2 ln K.
+.. [1] R. E. Kass and A. E. Raftery, J. Am. Stat. Assoc. 90, 773 (1995): wording of 2 ln K.
+.. [2] Particle Data Group, Review of Particle Physics, "Introduction" (errors quoted to two
+   significant digits; common practice).
 """
 from __future__ import annotations
 
 import math
 
-import numpy as np
-
+from ..results import json_ready
 from .schema import SCHEMA_VERSION
 from .verdict import comparison_block
 
-__all__ = ["QUANTILES", "BAND_QUANTILES", "parameter_role", "quantile_summary",
-           "prior_interval", "dataset_sensitivity", "build_summary", "json_ready",
-           "round_interval", "draw_indices", "MAX_DRAWS"]
-
-#: quantiles quoted for every parameter (median and the central 68 % interval)
-QUANTILES = (0.16, 0.5, 0.84)
-#: quantiles of the predictive bands: 95 % and 68 % central intervals and the median
-BAND_QUANTILES = (0.025, 0.16, 0.5, 0.84, 0.975)
-#: posterior draws used for predictive bands (bounds the drawing time)
-MAX_DRAWS = 200
-
-
-def json_ready(obj):
-    """A copy with numpy types as Python types and non-finite numbers as ``None``.
-
-    Parameters
-    ----------
-    obj : object
-        Nested dicts, lists, tuples, numpy scalars and arrays.
-
-    Returns
-    -------
-    object
-        Valid JSON content (RFC 8259 has no infinity or NaN).
-
-    References
-    ----------
-    .. [1] RFC 8259 (IETF, 2017), §6.
-    """
-    if isinstance(obj, dict):
-        return {str(k): json_ready(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [json_ready(v) for v in obj]
-    if isinstance(obj, np.ndarray):
-        return json_ready(obj.tolist())
-    if isinstance(obj, (bool, np.bool_)):
-        return bool(obj)
-    if isinstance(obj, (int, np.integer)):
-        return int(obj)
-    if isinstance(obj, (float, np.floating)):
-        return float(obj) if math.isfinite(obj) else None
-    return obj
-
-
-def parameter_role(name: str, card) -> str:
-    """``"physical"`` (a model-card parameter), ``"nuisance"`` (``dataset:what``) or ``"extra"``.
-
-    References
-    ----------
-    .. [1] The naming of :mod:`evidence1d.families.predict` (``<dataset>:<what>`` nuisances).
-    """
-    if name in card.parameters:
-        return "physical"
-    return "nuisance" if ":" in name else "extra"
-
-
-def quantile_summary(samples, names, units) -> dict:
-    """Median and 16/84 % quantiles of every parameter.
-
-    Parameters
-    ----------
-    samples : ndarray, shape (n_samples, m)
-        Posterior samples, parameter units.
-    names : sequence of str
-        The m parameter names.
-    units : dict of str to str
-
-    Returns
-    -------
-    dict
-        name -> {"median", "q16", "q84", "unit"} (parameter units).
-
-    References
-    ----------
-    .. [1] R. J. Hyndman and Y. Fan, Am. Stat. 50, 361 (1996): sample quantiles (numpy's
-       default, their definition 7).
-    """
-    q = np.quantile(np.asarray(samples, dtype=float), QUANTILES, axis=0)
-    return {n: {"median": float(q[1, j]), "q16": float(q[0, j]), "q84": float(q[2, j]),
-                "unit": units.get(n, "") or "1"} for j, n in enumerate(names)}
-
-
-def prior_interval(prior) -> tuple:
-    """16 % and 84 % quantiles of a one-parameter prior (inverse CDF), parameter units.
-
-    References
-    ----------
-    .. [1] Johnson, Kotz & Balakrishnan, *Continuous Univariate Distributions* (1994).
-    """
-    lo, hi = prior.transform(np.array([0.16, 0.84]))
-    return float(lo), float(hi)
-
-
-def _steps(theta, sd, support):
-    lo = np.array([s[0] for s in support])
-    hi = np.array([s[1] for s in support])
-    h = 0.01 * np.where(sd > 0, sd, 1e-6 * (np.abs(theta) + 1.0))
-    up = np.minimum(theta + h, hi)
-    dn = np.maximum(theta - h, lo)
-    return up, dn
-
-
-def dataset_sensitivity(problem, theta, sd) -> dict:
-    """Fisher-information share and shift of every dataset for every parameter.
-
-    Parameters
-    ----------
-    problem : JointProblem
-    theta : ndarray, shape (m,)
-        The point (posterior median), parameter units.
-    sd : ndarray, shape (m,)
-        Posterior standard deviations, parameter units.
-
-    Returns
-    -------
-    dict
-        parameter -> dataset -> {"information_share", "shift"}; the share is None when no
-        dataset's prediction depends on the parameter (e.g. an error inflation factor).
-
-    References
-    ----------
-    .. [1] Tegmark, Taylor & Heavens, ApJ 480, 22 (1997): F = Σ (∂μ/∂θ)² / σ² (from memory).
-    """
-    theta = np.asarray(theta, dtype=float)
-    sd = np.asarray(sd, dtype=float)
-    m = theta.size
-    support = [problem.prior.priors[problem.prior.names.index(n)].support
-               for n in problem.names]
-    up, dn = _steps(theta, sd, support)
-    batch = np.repeat(theta[None, :], 2 * m, axis=0)
-    batch[np.arange(m), np.arange(m)] = up
-    batch[m + np.arange(m), np.arange(m)] = dn
-    pred = problem.predict(batch)
-    errs = {pr.dataset.name: pr.dataset.err for pr in problem.predictors}
-    fisher = {}
-    for ds, f in pred.items():
-        deriv = (f[:m] - f[m:]) / np.where(up > dn, up - dn, np.inf)[:, None]
-        fisher[ds] = np.nansum((deriv / errs[ds][None, :]) ** 2, axis=1)
-    out = {}
-    for j, name in enumerate(problem.names):
-        total = sum(float(fisher[d][j]) for d in fisher)
-        out[name] = {d: {"information_share": float(fisher[d][j]) / total if total > 0
-                         else None,
-                         "shift": float(math.sqrt(fisher[d][j]) * sd[j])} for d in fisher}
-    return out
+__all__ = ["build_summary", "round_interval"]
 
 
 def _diagnostics_block(diag, post) -> dict:
@@ -191,35 +33,8 @@ def _diagnostics_block(diag, post) -> dict:
             "warnings": list(d["warnings"]) + list(post.warnings)}
 
 
-def _model_block(mr, problem) -> dict:
+def _model_block(mr) -> dict:
     post = mr.posterior
-    samples = np.asarray(post.samples)
-    params = quantile_summary(samples, mr.names, mr.units)
-    for n in mr.names:
-        pr = problem.prior.priors[problem.prior.names.index(n)]
-        lo, hi = prior_interval(pr)
-        p = params[n]
-        width = hi - lo
-        p.update(role=parameter_role(n, problem.card), prior=pr.describe(), prior_q16=lo,
-                 prior_q84=hi,
-                 width_ratio=(p["q84"] - p["q16"]) / width if width > 0 else math.nan)
-    if mr.nuisance_names:
-        nuis = quantile_summary(np.asarray(mr.nuisance_samples), mr.nuisance_names, mr.units)
-        for n in mr.nuisance_names:
-            pr = problem.declared_priors[n]
-            lo, hi = prior_interval(pr)
-            p = nuis[n]
-            width = hi - lo
-            p.update(role=parameter_role(n, problem.card), marginalised=True,
-                     prior=pr.describe() + " (integrated out analytically under the Gaussian "
-                     "of the same mean and standard deviation)", prior_q16=lo, prior_q84=hi,
-                     width_ratio=(p["q84"] - p["q16"]) / width if width > 0 else math.nan)
-        params.update(nuis)
-    fixed = {n: {"value": float(pr.value), "unit": mr.units.get(n, "") or "1"}
-             for n, pr in zip(problem.prior.names, problem.prior.priors)
-             if n not in mr.names and hasattr(pr, "value")}
-    theta = np.array([params[n]["median"] for n in mr.names])
-    sd = np.std(samples, axis=0, ddof=1) if samples.shape[0] > 1 else np.zeros(theta.size)
     lap = None
     if mr.laplace is not None:
         lap = {"log_evidence": float(mr.laplace.log_z), "approximate": True,
@@ -236,6 +51,7 @@ def _model_block(mr, problem) -> dict:
         loo = {k: mr.loo[k] for k in keys if k in mr.loo}
     ev = mr.evidence
     an = mr.analysis
+    table = an["parameter_table"]
     return {
         "title": mr.title, "one_dimensional": bool(mr.one_dimensional),
         "posterior_reliable": bool(mr.diagnostics.ok),
@@ -243,8 +59,8 @@ def _model_block(mr, problem) -> dict:
         "island_log_evidence": [float(v) for v in ev.island_log_z],
         "evidence_method": ev.method, "evidence_warnings": list(ev.warnings),
         "n_likelihood_evaluations": int(ev.n_evaluations + post.n_evaluations),
-        "parameters": params, "fixed_parameters": fixed,
-        "constraints": dataset_sensitivity(problem, theta, sd),
+        "parameters": table["parameters"], "fixed_parameters": table["fixed_parameters"],
+        "constraints": table["constraints"],
         "diagnostics": _diagnostics_block(mr.diagnostics, post),
         "laplace": lap, "savage_dickey": sdk, "loo": loo,
         "goodness_of_fit": dict(an["goodness_of_fit"]),
@@ -268,27 +84,26 @@ def _sampler_block(rec, ev) -> dict:
             "evidence_max_sweeps": int(st.get("max_sweeps", 0))}
 
 
-def build_summary(results, case) -> dict:
+def build_summary(results) -> dict:
     """The ``summary.json`` document of a run.
 
     Parameters
     ----------
     results : RunResults
-        Results of :func:`evidence1d.runner.run` (or rebuilt from a saved run).
-    case : Case
-        The case the run used (its problems give priors, units and predictions).
+        Results of :func:`evidence1d.runner.run` (or read from a saved run).
 
     Returns
     -------
     dict
-        JSON-ready (see :func:`json_ready`), laid out as :data:`~.schema.SUMMARY_FIELDS`.
+        JSON-ready (see :func:`evidence1d.results.json_ready`), laid out as
+        :data:`~.schema.SUMMARY_FIELDS`.
 
     References
     ----------
     .. [1] Kass & Raftery, JASA 90, 773 (1995), §3.2.
     """
-    models = {n: _model_block(mr, case.problem(n)) for n, mr in results.models.items()}
-    doc = {"schema_version": SCHEMA_VERSION, "title": case.title,
+    models = {n: _model_block(mr) for n, mr in results.models.items()}
+    doc = {"schema_version": SCHEMA_VERSION, "title": results.context.get("title", ""),
            "reliable": bool(results.reliable), "models": models,
            "comparison": comparison_block(results.comparison, results.models,
                                           results.budget, results.sensitivity),
@@ -329,11 +144,3 @@ def round_interval(median: float, lo: float, hi: float) -> tuple:
     return f"{m:.{digits}f}", f"{plus:.{digits}f}", f"{minus:.{digits}f}", exp
 
 
-def draw_indices(n_samples: int, n_max: int = MAX_DRAWS) -> np.ndarray:
-    """Evenly spaced indices of at most ``n_max`` samples (deterministic, no random numbers).
-
-    References
-    ----------
-    .. [1] Gelman, Meng & Stern, Statistica Sinica 6, 733 (1996): predictive draws.
-    """
-    return np.unique(np.linspace(0, n_samples - 1, min(n_max, n_samples)).astype(int))

@@ -31,7 +31,7 @@ def run_dir(tmp_path_factory):
     folder = tmp_path_factory.mktemp("report_run")
     case = evidence1d.load_case(write_valid_case(folder / "case", small_case_text()))
     out = folder / "out"
-    evidence1d.run(case, out=out, quick=True, progress=False, figures=True)
+    evidence1d.run_to_folder(case, out=out, quick=True, progress=False, figures=True)
     first = {name: (out / name).read_text(encoding="utf-8")
              for name in ("summary.json", "report.md", "tables.tex")}
     return out, first

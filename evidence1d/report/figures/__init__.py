@@ -1,7 +1,8 @@
 """Figures of a run, vector PDF and 300-dpi PNG: corner plots, spectra, thermodynamics, the
 comparison.
 
-:func:`render` computes the figure data (:mod:`.data`) and draws every figure;
+:func:`render` assembles the figure data the run computed (:mod:`.data`, from
+:mod:`evidence1d.analysis.figure_data`) and draws every figure;
 :func:`write_figures` draws precomputed data.  Figures fit one journal column (3.4 in) or
 two (7.0 in), use the colour-blind-safe palette and the style of :mod:`.style`, label axes
 in physics words with units (ħω (meV), Q in the data's wavevector unit, T (K), χ, C) and
@@ -25,14 +26,14 @@ from pathlib import Path
 from .comparison import comparison_figure
 from .corner import corner_figure
 from .data import figure_data
-from .settings import figure_settings, is_quick
+from .settings import figure_settings
 from .spectra import cut_pages, map_figure
 from .style import COLUMN_WIDTH, DOUBLE_WIDTH, PNG_DPI, QUICK_STAMP, STYLE, axis_label
 from .thermo import thermo_figure
 
 __all__ = ["STYLE", "COLUMN_WIDTH", "DOUBLE_WIDTH", "PNG_DPI", "QUICK_STAMP", "axis_label",
            "corner_figure", "cut_pages", "map_figure", "thermo_figure", "comparison_figure",
-           "dataset_figures", "figure_data", "figure_settings", "is_quick", "write_figures",
+           "dataset_figures", "figure_data", "figure_settings", "write_figures",
            "render"]
 
 
@@ -126,19 +127,16 @@ def write_figures(folder, data: dict, workers: int | None = 1) -> list:
             for f in files]
 
 
-def render(results, case, summary: dict, folder, settings=None, quick: bool = False,
+def render(results, summary: dict, folder, quick: bool = False,
            workers: int | None = None) -> list:
-    """Compute the figure data of a run and draw every figure into ``folder``.
+    """Draw every figure of a run into ``folder`` from its results record.
 
     Parameters
     ----------
     results : RunResults
-    case : Case
     summary : dict
         From :func:`~evidence1d.report.summary.build_summary`.
     folder : pathlib.Path
-    settings : dict, optional
-        The ``figures`` setting (see :func:`~.data.figure_settings`).
     quick : bool
         Mark every figure "quick look, not for publication".
     workers : int, optional
@@ -151,5 +149,4 @@ def render(results, case, summary: dict, folder, settings=None, quick: bool = Fa
     ----------
     .. [1] Hunter, Comput. Sci. Eng. 9, 90 (2007).
     """
-    return write_figures(folder, figure_data(results, case, summary, settings, quick),
-                         workers=workers)
+    return write_figures(folder, figure_data(results, summary, quick), workers=workers)

@@ -14,14 +14,14 @@ References
 """
 from __future__ import annotations
 
-import json
 import math
-from pathlib import Path
 
 from ...errors import InputError, closest_key
-from ..summary import MAX_DRAWS
 
-__all__ = ["DEFAULT_SETTINGS", "figure_settings", "is_quick"]
+__all__ = ["DEFAULT_SETTINGS", "MAX_DRAWS", "figure_settings"]
+
+#: posterior draws behind the predictive bands of the figures (bounds the drawing time)
+MAX_DRAWS = 200
 
 #: defaults of the ``figures`` setting
 DEFAULT_SETTINGS = {"cuts": "auto", "temperature_axis": "linear", "map_scale": "linear",
@@ -145,23 +145,3 @@ def _number(x, where):
     if not math.isfinite(v):
         raise InputError(f"{where} must be finite; got {x!r}")
     return v
-
-
-def is_quick(folder, results=None, case=None) -> bool:
-    """Whether a run folder holds a ``--quick`` run (``settings.json``), else whether the
-    sampler settings were reduced below the case's.
-
-    References
-    ----------
-    .. [1] The run folder layout of :mod:`evidence1d.report.store`.
-    """
-    p = Path(folder) / "settings.json"
-    if p.is_file():
-        try:
-            return bool(json.loads(p.read_text(encoding="utf-8")).get("quick", False))
-        except (OSError, ValueError):
-            pass
-    if results is not None and case is not None:
-        return any(results.settings.get(k) != v for k, v in case.sampler.items()
-                   if k in ("steps", "particles", "islands"))
-    return False

@@ -24,7 +24,7 @@ import math
 import textwrap
 from pathlib import Path
 
-from ..store import atomic_write
+from ...results import atomic_write
 
 __all__ = ["STYLE", "COLUMN_WIDTH", "DOUBLE_WIDTH", "PNG_DPI", "PALETTE", "QUICK_STAMP",
            "STAMP_HEIGHT", "axis_label", "wavevector_label", "intensity_label", "quote",

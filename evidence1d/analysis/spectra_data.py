@@ -1,4 +1,4 @@
-"""Figure data of spectra: cuts with predictive bands and residuals, (Q, ħω) maps, overlays.
+"""Figure data of spectra (computed during the run, drawn by :mod:`evidence1d.report`): cuts with predictive bands and residuals, (Q, ħω) maps, overlays.
 
 Cuts are groups of points at one wavevector (energy scans) or one energy (wavevector scans);
 ``auto`` takes up to :data:`AUTO_CUTS` evenly spaced ones, ``all`` every one, a list the
@@ -20,11 +20,14 @@ import math
 
 import numpy as np
 
-from ...errors import InputError
-from ..summary import BAND_QUANTILES, draw_indices
+from ..errors import InputError
+from .parameters import draw_indices
 from .overlays import family_overlays
 
-__all__ = ["AUTO_CUTS", "per_rlu", "spectrum_block", "bands", "predictor"]
+__all__ = ["AUTO_CUTS", "BAND_QUANTILES", "per_rlu", "spectrum_block", "bands", "predictor"]
+
+#: quantiles of the predictive bands: 95 % and 68 % central intervals and the median
+BAND_QUANTILES = (0.025, 0.16, 0.5, 0.84, 0.975)
 
 #: cuts drawn per spectrum when the setting is ``auto``
 AUTO_CUTS = 6
@@ -48,7 +51,7 @@ def per_rlu(sample, axis: str) -> float:
 
 
 def bands(pred) -> np.ndarray:
-    """Quantiles :data:`~evidence1d.report.summary.BAND_QUANTILES` over draws, shape (5, n).
+    """Quantiles :data:`BAND_QUANTILES` over draws, shape (5, n).
 
     References
     ----------
@@ -58,7 +61,7 @@ def bands(pred) -> np.ndarray:
         return np.nanquantile(pred, BAND_QUANTILES, axis=0)
 
 
-def predictor(problem, case, ds, x):
+def predictor(problem, sample, ds, x):
     """A dataset predictor of ``problem``'s family at other points ``x`` (same kind and
     options as ``ds``).
 
@@ -66,11 +69,11 @@ def predictor(problem, case, ds, x):
     ----------
     .. [1] :class:`evidence1d.families.predict.DatasetPredictor`.
     """
-    from ...families.predict import DatasetPredictor
+    from ..families.predict import DatasetPredictor
     n = len(next(iter(x.values())))
     other = dataclasses.replace(ds, x=x, y=np.zeros(n), err=np.ones(n),
                                 lines=np.zeros(n, dtype=int))
-    return DatasetPredictor(problem.family, other, case.sample)
+    return DatasetPredictor(problem.family, other, sample)
 
 
 def _groups(keys: np.ndarray) -> list:
@@ -145,13 +148,14 @@ def _components(ds):
         ds.kind == "crystal_spectrum" else ["Q"]
 
 
-def spectrum_block(problem, case, ds, params, point_bands, medians, spec, where):
+def spectrum_block(problem, sample, ds, params, point_bands, medians, spec, where):
     """Cuts and map of one spectrum under one family.
 
     Parameters
     ----------
     problem : JointProblem
-    case : Case
+    sample : Sample
+        The case's sample (lattice, chain geometry).
     ds : Dataset
     params : dict of str to ndarray (k, 1)
         Posterior draws of every parameter.
@@ -177,7 +181,7 @@ def spectrum_block(problem, case, ds, params, point_bands, medians, spec, where)
     x, E = ds.x, ds.x["energy"]
     unit = ds.units.get("wavevector", "1/A") if ds.kind == "crystal_spectrum" else "1/A"
     comps = _components(ds)
-    scale = {c: (per_rlu(case.sample, c) if unit == "rlu" else 1.0) for c in comps}
+    scale = {c: (per_rlu(sample, c) if unit == "rlu" else 1.0) for c in comps}
     wave = np.stack([x[c] for c in comps], axis=1)
     q_groups = [g for g in _groups(wave) if g.size >= 3]
     e_groups = [g for g in _groups(E[:, None]) if g.size >= 3]
@@ -205,7 +209,7 @@ def spectrum_block(problem, case, ds, params, point_bands, medians, spec, where)
                 dense[k].append(e if k == "energy" else np.full(_DENSE, x[k][g[0]]))
         dense = {k: np.concatenate(v) for k, v in dense.items()}
         with np.errstate(all="ignore"):
-            dense_bands = bands(predictor(problem, case, ds, dense).predict(params))
+            dense_bands = bands(predictor(problem, sample, ds, dense).predict(params))
         for c, i in enumerate(pick):
             g = q_groups[i]
             o = g[np.argsort(E[g])]
@@ -229,7 +233,7 @@ def spectrum_block(problem, case, ds, params, point_bands, medians, spec, where)
                 "axis": comp, "label": f"{_SYMBOL['energy']} = {_fmt(vals[i], dig)} meV",
                 "x": xs, "y": ds.y[o], "err": ds.err[o], "residual": resid[o],
                 "model_x": xs, "bands": point_bands[:, o]})
-    block["map"] = _map_block(problem, case, ds, point_bands, medians, comps, scale, unit)
+    block["map"] = _map_block(problem, sample, ds, point_bands, medians, comps, scale, unit)
     return block
 
 
@@ -244,7 +248,7 @@ def _grid(qx, E):
     return None if np.any(idx < 0) else (qx[idx[0]], E[idx[:, 0]], idx)
 
 
-def _map_block(problem, case, ds, point_bands, medians, comps, scale, unit):
+def _map_block(problem, sample, ds, point_bands, medians, comps, scale, unit):
     x, E = ds.x, ds.x["energy"]
     varying = [c for c in comps if np.unique(np.round(x[c], 6)).size > 1]
     if len(varying) != 1:
@@ -262,18 +266,18 @@ def _map_block(problem, case, ds, point_bands, medians, comps, scale, unit):
            "data": ds.y[idx], "model": med[idx], "residual": (ds.y[idx] - med[idx]) / ds.err[idx],
            "overlays": [], "common": common}
     if ds.kind == "crystal_spectrum":
-        out["overlays"] = _overlays(problem, case, ds, medians, axis, ux, scale[axis])
+        out["overlays"] = _overlays(problem, sample, ds, medians, axis, ux, scale[axis])
     return out
 
 
-def _overlays(problem, case, ds, medians, axis, ux, factor):
-    from ...families.base import SpectralPoints
+def _overlays(problem, sample, ds, medians, axis, ux, factor):
+    from ..families.base import SpectralPoints
     q = np.linspace(ux.min(), ux.max(), 240)
     const = {c: np.full(q.size, float(ds.x[c][0])) for c in ("Q_par", "Q_perp", "Q_perp2")
              if c in ds.x}
     const[axis] = q
     zero = np.zeros(q.size)
-    s = case.sample
+    s = sample
     pts = SpectralPoints(Q_par=const["Q_par"], Q_a=const["Q_perp"],
                          Q_b=const.get("Q_perp2", zero), d=s.spin_spacing,
                          a_perp=s.lattice["a"], b_perp=s.lattice["b"], energy=zero,

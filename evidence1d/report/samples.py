@@ -1,0 +1,60 @@
+"""The exported posterior samples of a run: ``samples/<model>.nc`` (NetCDF, the
+post-burn-in chain as arviz InferenceData) and ``samples/<model>.csv`` (thinned samples,
+one column per parameter, marginalised nuisances included).
+
+References
+----------
+.. [1] R. Kumar et al., J. Open Source Softw. 4, 1143 (2019): ArviZ InferenceData.
+.. [2] Y. Shafranovich, "Common Format and MIME Type for CSV Files", RFC 4180 (2005).
+"""
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+
+import numpy as np
+
+from ..results import atomic_write, new_file_mode
+
+__all__ = ["export_samples"]
+
+
+def export_samples(results) -> list:
+    """Write ``samples/<model>.nc`` (NetCDF, post-burn-in chain) and ``samples/<model>.csv``.
+
+    Parameters
+    ----------
+    results : RunResults
+
+    Returns
+    -------
+    list of pathlib.Path
+        The files written.
+
+    References
+    ----------
+    .. [1] R. Kumar et al., J. Open Source Softw. 4, 1143 (2019): ArviZ InferenceData.
+    .. [2] Y. Shafranovich, "Common Format and MIME Type for CSV Files", RFC 4180 (2005).
+    """
+    from ..inference.diagnostics import to_inference_data
+    folder = Path(results.out) / "samples"
+    folder.mkdir(parents=True, exist_ok=True)
+    written = []
+    for name, mr in results.models.items():
+        post = mr.posterior
+        idata = to_inference_data(post.chain[post.burn_in:], list(mr.names))
+        fd, tmp = tempfile.mkstemp(dir=folder, prefix=f".{name}.", suffix=".nc")
+        os.close(fd)
+        os.chmod(tmp, new_file_mode())
+        try:
+            idata.to_netcdf(tmp)
+            os.replace(tmp, folder / f"{name}.nc")
+        except BaseException:
+            Path(tmp).unlink(missing_ok=True)
+            raise
+        lines = [",".join(mr.full_names)]
+        lines += [",".join(repr(float(v)) for v in row) for row in np.asarray(mr.full_samples)]
+        atomic_write(folder / f"{name}.csv", "\n".join(lines) + "\n")
+        written += [folder / f"{name}.nc", folder / f"{name}.csv"]
+    return written
