@@ -331,8 +331,8 @@ _RUN_CHILD = textwrap.dedent("""\
     case = evidence1d.load_case({case!r})
     t0 = time.perf_counter()
     with tempfile.TemporaryDirectory() as tmp:
-        res = evidence1d.run(case, out=os.path.join(tmp, "results"), progress=False,
-                             quick={quick!r})
+        res = evidence1d.run_to_folder(case, out=os.path.join(tmp, "results"),
+                                       progress=False, quick={quick!r})
     wall = time.perf_counter() - t0
     peak = max(resource.getrusage(who).ru_maxrss          # KiB on Linux
                for who in (resource.RUSAGE_SELF, resource.RUSAGE_CHILDREN))

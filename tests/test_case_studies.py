@@ -33,8 +33,8 @@ def test_case_study_outcome(name, tmp_path):
     if expected.get("end_to_end_test") is False:
         pytest.skip(expected["why_not_end_to_end"])
     case = evidence1d.load_case(dst / "case.yaml")
-    res = evidence1d.run(case, quick=True, progress=False, figures=False,
-                         out=tmp_path / "out", workers=2)
+    res = evidence1d.run_to_folder(case, quick=True, progress=False, figures=False,
+                                   out=tmp_path / "out", workers=2)
     assert (tmp_path / "out" / "summary.json").is_file()
     lz = {n: m.evidence.log_z for n, m in res.models.items()}
     err = {n: m.evidence.log_z_err for n, m in res.models.items()}

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import json
 
-import numpy as np
 import pytest
 
 import evidence1d
@@ -27,21 +26,21 @@ def first_run(tmp_path_factory):
     folder = tmp_path_factory.mktemp("runner")
     case = evidence1d.load_case(write_valid_case(folder / "case", TEXT))
     out = folder / "out1"
-    evidence1d.run(case, out=out, progress=False, figures=False, workers=1, budget=False)
+    evidence1d.run_to_folder(case, out=out, progress=False, figures=False, workers=1, budget=False)
     return case, out
 
 
 def test_same_seed_same_numbers(first_run, tmp_path):
     case, out = first_run
     out2 = tmp_path / "out2"
-    evidence1d.run(case, out=out2, progress=False, figures=False, workers=2, budget=False)
+    evidence1d.run_to_folder(case, out=out2, progress=False, figures=False, workers=2, budget=False)
     assert _numbers(out) == _numbers(out2)       # workers do not change the numbers
 
 
 def test_refuses_to_overwrite(first_run):
     case, out = first_run
     with pytest.raises(evidence1d.InputError, match="exists; use --overwrite"):
-        evidence1d.run(case, out=out, progress=False, figures=False)
+        evidence1d.run_to_folder(case, out=out, progress=False, figures=False)
 
 
 def test_resume_reproduces_the_run(first_run, tmp_path):
@@ -50,7 +49,7 @@ def test_resume_reproduces_the_run(first_run, tmp_path):
     out3 = tmp_path / "out3"
     shutil.copytree(out, out3)
     (out3 / "summary.json").unlink()
-    res = evidence1d.run(case, out=out3, resume=True, progress=False, figures=False,
+    res = evidence1d.run_to_folder(case, out=out3, resume=True, progress=False, figures=False,
                          workers=1, budget=False)
     assert _numbers(out3) == _numbers(out)
     for m in res.models.values():
@@ -105,7 +104,7 @@ def test_evidence_budget_of_a_small_case(tmp_path):
             .replace("sampler: {steps: 200, particles: 100, islands: 2}",
                      "sampler: {steps: 40, particles: 24, islands: 2}"))
     case = evidence1d.load_case(write_valid_case(tmp_path / "case", text))
-    res = evidence1d.run(case, out=tmp_path / "out", progress=False, figures=False)
+    res = evidence1d.run_to_folder(case, out=tmp_path / "out", progress=False, figures=False)
     s = json.loads((tmp_path / "out" / "summary.json").read_text())
     validate_summary(s)
     b = s["comparison"]["evidence_budget"]

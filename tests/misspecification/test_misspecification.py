@@ -41,8 +41,7 @@ def _run(name, tmp_path, seed):
     rng = np.random.default_rng(seed)
     path = G.write_case(tmp_path / name, scen, spectra, chi, heat, rng, temperature=T)
     case = evidence1d.load_case(path)
-    res = evidence1d.run(case, quick=True, progress=False, figures=False,
-                         out=tmp_path / "out", workers=2)
+    res = evidence1d.run(case, quick=True, progress=False, figures=False, workers=2)
     return scen, case, res
 
 

@@ -29,8 +29,8 @@ def reference(tmp_path_factory):
     folder = tmp_path_factory.mktemp("interrupt")
     path = write_valid_case(folder / "case", TEXT)
     out = folder / "uninterrupted"
-    evidence1d.run(evidence1d.load_case(path), seed=SEED, out=out, progress=False,
-                   figures=False, workers=1)
+    evidence1d.run_to_folder(evidence1d.load_case(path), seed=SEED, out=out, progress=False,
+                             figures=False, workers=1)
     return path, json.loads((out / "summary.json").read_text())
 
 

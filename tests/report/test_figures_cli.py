@@ -11,7 +11,7 @@ import pytest
 from evidence1d.cli import main
 from evidence1d.inference.progress import PlainProgress, stage_bar
 from evidence1d.report.figures.style import new_figure, save_figure
-from evidence1d.report.store import atomic_write, new_file_mode
+from evidence1d.results import atomic_write, new_file_mode
 
 
 @pytest.fixture

@@ -21,11 +21,12 @@ from PIL import Image
 
 from evidence1d.case import load_case
 from evidence1d.report.figures import (QUICK_STAMP, comparison_figure, corner_figure,
-                                       cut_pages, figure_data, is_quick, map_figure,
+                                       cut_pages, map_figure,
                                        thermo_figure)
 from evidence1d.report.figures import style
 from evidence1d.report.figures.style import save_figure, save_pages
-from evidence1d.report.store import load_results
+from evidence1d.results import load_results
+from test_figures_store import figure_data_for
 
 _UNIT = re.compile(r"\(([^()|]+)\)\s*$")
 _DIMENSIONLESS_AXES = {"P(family | data)"}
@@ -116,7 +117,8 @@ def fdata(stored):
     first = next(iter(results.models))
     settings = {"cuts": {"map": "all"}, "temperature_axis": "log", "draws": 40,
                 "truths": {first: {results.models[first].names[0]: 0.5}}}
-    return figure_data(results, case, summary, settings, quick=is_quick(out, results, case))
+    return figure_data_for(results, case, summary, settings,
+                           quick=results.context["quick"])
 
 
 def test_the_stored_run_is_a_quick_run(stored, fdata):

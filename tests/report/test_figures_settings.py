@@ -13,12 +13,12 @@ import pytest
 import evidence1d
 from evidence1d.errors import InputError
 from evidence1d.families.base import SpectralPoints
-from evidence1d.report.figures import figure_data, figure_settings
-from evidence1d.report.figures.data import _entropy
-from evidence1d.report.figures.overlays import family_overlays
+from evidence1d.report.figures import figure_settings
+from evidence1d.analysis.figure_data import _entropy
+from evidence1d.analysis.overlays import family_overlays
 from evidence1d.report.figures.style import quote, wavevector_label
 from casefactory import write_valid_case
-from test_figures_store import _SPECTRA_ONLY, prior_results, summary_for
+from test_figures_store import _SPECTRA_ONLY, figure_data_for, prior_results, summary_for
 
 
 @pytest.fixture(scope="module")
@@ -28,7 +28,7 @@ def spec_case(tmp_path_factory):
 
 def _cuts(case, rng, setting):
     res = prior_results(case, rng, n=12)
-    data = figure_data(res, case, summary_for(case, {"J": 1.0, "delta": 1.0}),
+    data = figure_data_for(res, case, summary_for(case, {"J": 1.0, "delta": 1.0}),
                        {"cuts": setting, "draws": 6})
     return data["models"]["spinon_continuum"]["datasets"]["map"]["cuts"]
 
@@ -126,9 +126,9 @@ def test_data_entropy_is_the_trapezoid_integral_of_c_over_t():
     # C_mag = a T: ∫ C/T dT = a (T - T0) exactly for trapezoids (any spacing)
     a, T = 0.2, np.array([1.0, 1.5, 2.5, 4.0, 7.0])
     fam = SimpleNamespace(entropy=lambda p, t: np.full((3, np.size(t)), 0.4))
-    case = SimpleNamespace(sample=SimpleNamespace(spin=0.5))
+    sample = SimpleNamespace(spin=0.5)
     err = np.full(T.size, 0.05)
-    ent = _entropy(SimpleNamespace(family=fam), case, T, a * T, err, np.linspace(1, 7, 9), {})
+    ent = _entropy(SimpleNamespace(family=fam), sample, T, a * T, err, np.linspace(1, 7, 9), {})
     assert np.allclose(ent["y"], 0.4 + a * (T - T[0]))
     # error of S(T_2) = 0.5 ΔT (e_1/T_1 + e_2/T_2), independent errors in quadrature
     assert ent["err"][1] == pytest.approx(0.25 * math.hypot(0.05 / 1.0, 0.05 / 1.5))

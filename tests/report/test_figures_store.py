@@ -2,16 +2,17 @@
 from __future__ import annotations
 
 import math
-from pathlib import Path
 from types import SimpleNamespace
 
 import numpy as np
 import pytest
 
 import evidence1d
-from evidence1d.report.figures import figure_data, map_figure, write_figures
-from evidence1d.report.store import atomic_write, save_inputs
-from evidence1d.report.summary import BAND_QUANTILES
+from evidence1d.analysis.figure_data import model_figure_data
+from evidence1d.analysis.spectra_data import BAND_QUANTILES
+from evidence1d.outputs import save_inputs
+from evidence1d.report.figures import figure_data, figure_settings, map_figure, write_figures
+from evidence1d.results import atomic_write
 from casefactory import CASE_YAML, write_valid_case
 
 _SPECTRA_ONLY = CASE_YAML.split("  - name: chi")[0] + "models:\n  - spinon_continuum\n" \
@@ -52,10 +53,28 @@ def summary_for(case, medians):
                            "p_one_dimensional": 0.5, "p_one_dimensional_err": 0.01}}
 
 
+def figure_data_for(res, case, summary, raw=None, quick=False):
+    """Figure data of results under other ``figures`` settings: what the run computes
+    (:func:`model_figure_data`, here from the given summary's parameter table), assembled
+    by the report (:func:`figure_data`)."""
+    settings = figure_settings(raw, [ds.name for ds in case.datasets], list(res.models))
+    models = {}
+    for name, mr in res.models.items():
+        table = {"parameters": summary["models"][name]["parameters"],
+                 "fixed_parameters": summary["models"][name].get("fixed_parameters", {})}
+        fig = model_figure_data(name, case.problem(name), case.sample,
+                                np.asarray(mr.posterior.samples), np.asarray(mr.full_samples),
+                                table, settings)
+        models[name] = SimpleNamespace(one_dimensional=mr.one_dimensional,
+                                       analysis={"figures": fig})
+    light = SimpleNamespace(models=models, context={"figure_settings": settings})
+    return figure_data(light, summary, quick)
+
+
 def test_spinon_bounds_over_the_map_at_the_median(spectra_case, rng):
     J = 1.3
     res = prior_results(spectra_case, rng)
-    data = figure_data(res, spectra_case, summary_for(spectra_case, {"J": J, "delta": 1.0}),
+    data = figure_data_for(res, spectra_case, summary_for(spectra_case, {"J": J, "delta": 1.0}),
                        {"draws": 20})
     block = data["models"]["spinon_continuum"]["datasets"]["map"]
     mp = block["map"]
@@ -83,7 +102,7 @@ def test_spinon_bounds_over_the_map_at_the_median(spectra_case, rng):
 
 def test_figures_are_written_as_png_and_pdf(spectra_case, tmp_path, rng):
     res = prior_results(spectra_case, rng)
-    data = figure_data(res, spectra_case, summary_for(spectra_case, {"J": 1.0, "delta": 1.0}),
+    data = figure_data_for(res, spectra_case, summary_for(spectra_case, {"J": 1.0, "delta": 1.0}),
                        {"draws": 10})
     del data["models"]["gapped_spin_wave"]
     files = write_figures(tmp_path, data)
@@ -117,15 +136,3 @@ def test_atomic_write_replaces_and_leaves_no_temporary(tmp_path):
     atomic_write(p, b"two")
     assert p.read_text() == "two"
     assert sorted(q.name for q in p.parent.iterdir()) == ["x.txt"]
-
-
-def test_saved_chain_reuses_the_checkpoint(run_dir):
-    import json
-    out, _ = run_dir
-    doc = json.loads((out / "saved" / "run.json").read_text())
-    for name, m in doc["models"].items():
-        with np.load(out / "saved" / f"{name}.npz") as z:
-            has_chain = "chain" in z.files
-        assert (m["chain_file"] is None) == has_chain
-        if m["chain_file"]:
-            assert Path(out / m["chain_file"]).is_file()

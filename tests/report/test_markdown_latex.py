@@ -13,11 +13,9 @@ from evidence1d.report.markdown import render_markdown, report_context
 
 @pytest.fixture(scope="module")
 def context(run_dir):
-    import evidence1d
-    from evidence1d.report.store import load_results
+    from evidence1d.results import load_results
     out, _ = run_dir
-    res = load_results(out)
-    return report_context(res, evidence1d.load_case(res.case_path))
+    return report_context(load_results(out))
 
 
 def test_report_has_verdict_tables_and_sections(run_dir, summary):

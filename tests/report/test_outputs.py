@@ -12,7 +12,7 @@ from evidence1d.errors import InputError
 from evidence1d.provenance import file_hash
 from evidence1d.report import rebuild_report
 from evidence1d.report.schema import validate_summary
-from evidence1d.report.store import load_results
+from evidence1d.results import load_results
 
 
 def test_summary_validates_and_holds_every_sampled_parameter(run_dir, summary):
@@ -48,10 +48,10 @@ def test_every_output_file_is_written_and_not_empty(run_dir, summary):
     out, _ = run_dir
     names = list(summary["models"])
     expected = ["summary.json", "report.md", "tables.tex", "figures/comparison.png",
-                "figures/comparison.pdf"]
+                "figures/comparison.pdf", "saved/results.npz"]
     for m in names:
         expected += [f"figures/corner_{m}.png", f"figures/corner_{m}.pdf",
-                     f"samples/{m}.nc", f"samples/{m}.csv", f"saved/{m}.npz"]
+                     f"samples/{m}.nc", f"samples/{m}.csv"]
         for ds in ("map", "chi", "heat"):
             expected += [f"figures/predictive_{m}_{ds}.png", f"figures/predictive_{m}_{ds}.pdf"]
         expected += [f"figures/map_{m}_map.png", f"figures/map_{m}_map.pdf"]
@@ -118,14 +118,47 @@ def test_rebuild_refuses_a_folder_without_saved_results(tmp_path):
         rebuild_report(tmp_path / "missing")
 
 
-def test_rebuild_refuses_changed_inputs(run_dir, tmp_path):
+def test_rebuild_needs_neither_the_inputs_nor_model_code(run_dir, tmp_path):
+    """The report renders from the saved record alone: without inputs/ and chains/, in a
+    fresh interpreter where importing any model module is an error."""
+    import subprocess
+    import sys
+    out, first = run_dir
+    moved = tmp_path / "bare"
+    shutil.copytree(out, moved, ignore=shutil.ignore_patterns("inputs", "chains"))
+    for p in ("summary.json", "report.md", "tables.tex"):
+        (moved / p).unlink()
+    code = ("import sys, importlib.abc\n"
+            "class Block(importlib.abc.MetaPathFinder):\n"
+            "    def find_spec(self, name, path, target=None):\n"
+            "        if name.split('.')[:2] in (['evidence1d', m] for m in\n"
+            "                ('physics', 'families', 'problem', 'case', 'runner', 'cards')):\n"
+            "            raise ImportError('model code imported: ' + name)\n"
+            "sys.meta_path.insert(0, Block())\n"
+            "from evidence1d.report import rebuild_report\n"
+            f"rebuild_report({str(moved)!r}, figures=True, workers=1)\n")
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert proc.returncode == 0, proc.stderr
+    for name, text in first.items():
+        assert (moved / name).read_text(encoding="utf-8") == text, name
+    assert (moved / "figures" / "comparison.png").is_file()
+
+
+def test_saved_record_round_trips(run_dir, tmp_path):
+    """save_results(load_results(DIR)) writes the same record: every array and number."""
+    import dataclasses
+
+    from evidence1d.results import save_results, to_tree
     out, _ = run_dir
-    moved = tmp_path / "changed"
-    shutil.copytree(out, moved, ignore=shutil.ignore_patterns("figures", "samples"))
-    with open(moved / "inputs" / "chi.csv", "a") as fh:
-        fh.write("# edited after the run\n")
-    with pytest.raises(InputError, match="SHA-256"):
-        rebuild_report(moved, figures=False)
+    res = load_results(out)
+    save_results(dataclasses.replace(res, out=tmp_path), tmp_path)
+    again = load_results(tmp_path)
+    a1, a2 = {}, {}
+    t1, t2 = to_tree(dataclasses.replace(res, out=None, case_path=None), a1), \
+        to_tree(dataclasses.replace(again, out=None, case_path=None), a2)
+    assert t1 == t2 and a1.keys() == a2.keys()
+    assert all(np.array_equal(a1[k], a2[k], equal_nan=True) for k in a1)
+    assert not res.models[next(iter(res.models))].posterior.samples.flags.writeable
 
 
 def test_report_command_rebuilds(run_dir, tmp_path, capsys):

@@ -14,11 +14,9 @@ from evidence1d.report.markdown import render_markdown, report_context
 
 @pytest.fixture(scope="module")
 def context(run_dir):
-    import evidence1d
-    from evidence1d.report.store import load_results
+    from evidence1d.results import load_results
     out, _ = run_dir
-    res = load_results(out)
-    return report_context(res, evidence1d.load_case(res.case_path))
+    return report_context(load_results(out))
 
 
 def _methods(text):
@@ -139,7 +137,7 @@ def test_prior_sensitivity_table(run_dir, summary):
 
 def test_metal_context_when_chi0_and_gamma_are_fitted(run_dir, summary):
     from evidence1d.analysis.metal import wilson_ratio
-    from evidence1d.report.store import load_results
+    from evidence1d.results import load_results
     out, _ = run_dir
     res = load_results(out)
     text = (out / "report.md").read_text(encoding="utf-8")

@@ -1,4 +1,5 @@
-"""The report's numbers, checked against analytic results and reference libraries."""
+"""The parameter table and the report's rounding, checked against analytic results and
+reference libraries."""
 from __future__ import annotations
 
 import math
@@ -10,8 +11,10 @@ from scipy import special, stats
 
 from evidence1d.inference.priors import (JointPrior, LogUniform, Normal, TruncatedNormal,
                                          Uniform)
-from evidence1d.report.summary import (dataset_sensitivity, draw_indices, json_ready,
-                                       prior_interval, quantile_summary, round_interval)
+from evidence1d.analysis.parameters import (dataset_sensitivity, draw_indices,
+                                            prior_interval, quantile_summary)
+from evidence1d.report.summary import round_interval
+from evidence1d.results import json_ready
 
 
 def test_quantiles_of_a_normal_sample(rng):
