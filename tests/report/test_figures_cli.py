@@ -57,7 +57,7 @@ def test_figures_only_draws_only_figures_in_the_new_folder(run_dir, tmp_path, mo
     out, _ = run_dir
     calls = []
 
-    def fake_render(results, case, summary, folder, settings=None, quick=False, workers=None):
+    def fake_render(results, summary, folder, quick=False, workers=None):
         calls.append((folder, quick, sorted(results.models)))
         return [atomic_write(folder / "comparison.pdf", b"%PDF-")]
 
