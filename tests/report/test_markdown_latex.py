@@ -50,7 +50,7 @@ def test_unreliable_banner_follows_the_diagnostics(summary, context):
         verdict_reliable=False, winner_diagnostics_ok=False,
         reasons=[f"the posterior of the winner {name} failed the convergence diagnostics"])
     text = render_markdown(bad, context)
-    head = "\n".join(text.splitlines()[:4])
+    head = "\n".join(text.splitlines()[:6])      # after the quick-look stamp, if any
     assert "**UNRELIABLE**" in head and name in head
     good = copy.deepcopy(summary)
     good["reliable"] = True
