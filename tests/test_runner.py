@@ -37,6 +37,23 @@ def test_same_seed_same_numbers(first_run, tmp_path):
     assert _numbers(out) == _numbers(out2)       # workers do not change the numbers
 
 
+def test_run_computes_without_writing(first_run, tmp_path, monkeypatch):
+    """run() is a computation: no folder, no log, no checkpoint; the same numbers as the
+    run that wrote its folder."""
+    case, out = first_run
+    monkeypatch.chdir(tmp_path)
+    case_dir = case.path.parent
+    before = sorted(p for p in case_dir.rglob("*"))
+    res = evidence1d.run(case, progress=False, figures=False, workers=1, budget=False)
+    assert sorted(p for p in case_dir.rglob("*")) == before
+    assert not any(tmp_path.iterdir()) and not case.output.exists()
+    assert res.out is None
+    s = json.loads((out / "summary.json").read_text())
+    for name, mr in res.models.items():
+        assert mr.evidence.log_z == s["models"][name]["log_evidence"]
+        assert "figures" not in mr.analysis
+
+
 def test_refuses_to_overwrite(first_run):
     case, out = first_run
     with pytest.raises(evidence1d.InputError, match="exists; use --overwrite"):
