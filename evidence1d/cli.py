@@ -153,12 +153,12 @@ def _data_notes(case):
 
 def _cmd_run(args):
     from .case import load_case
-    from .outputs import run_to_folder
+    from .outputs import replaces, run_to_folder
     from .report.console import verdict_lines
     case = load_case(args.case)
     models = args.models.split(",") if args.models else None
     target = Path(args.out) if args.out else case.output
-    if args.overwrite and not args.resume and target.exists() and any(target.iterdir()):
+    if replaces(target, overwrite=args.overwrite, resume=args.resume):
         print(f"evidence1d: replacing the existing output folder {target} (--overwrite)",
               file=sys.stderr)
     results = run_to_folder(case, seed=args.seed, out=args.out, quick=args.quick,

@@ -30,17 +30,14 @@ from __future__ import annotations
 
 import dataclasses
 import json
-import os
 import shutil
-import tempfile
 import time
 from pathlib import Path
 
 from .errors import InputError
-from .results import (atomic_write, load_record, new_file_mode, save_record,
-                      save_results)
+from .results import atomic_path, atomic_write, load_record, save_record, save_results
 
-__all__ = ["RunFolder", "run_to_folder", "save_inputs", "prepare_folder"]
+__all__ = ["RunFolder", "run_to_folder", "save_inputs", "prepare_folder", "replaces"]
 
 
 class RunFolder:
@@ -91,12 +88,8 @@ class RunFolder:
 
 
 def _copy(src: Path, dst: Path):
-    dst.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(dir=dst.parent, prefix=f".{dst.name}.", suffix=".tmp")
-    os.close(fd)
-    os.chmod(tmp, new_file_mode())
-    shutil.copyfile(src, tmp)
-    os.replace(tmp, dst)
+    with atomic_path(dst) as tmp:
+        shutil.copyfile(src, tmp)
 
 
 def _inside(raw: str) -> bool:
@@ -156,6 +149,12 @@ def save_inputs(case, out) -> Path:
     return target
 
 
+def replaces(out: Path, *, overwrite: bool, resume: bool) -> bool:
+    """Whether preparing ``out`` would delete an existing, non-empty folder."""
+    out = Path(out)
+    return bool(overwrite and not resume and out.is_dir() and any(out.iterdir()))
+
+
 def prepare_folder(out: Path, *, overwrite: bool, resume: bool) -> bool:
     """Create the run folder; returns whether an existing folder was replaced.
 
@@ -169,7 +168,7 @@ def prepare_folder(out: Path, *, overwrite: bool, resume: bool) -> bool:
     if out.exists() and any(out.iterdir()) and not (overwrite or resume):
         raise InputError(f"output folder {out} exists; use --overwrite to replace it or "
                          "--resume to continue it")
-    replaced = overwrite and out.exists() and not resume
+    replaced = replaces(out, overwrite=overwrite, resume=resume)
     if replaced:
         shutil.rmtree(out)
     out.mkdir(parents=True, exist_ok=True)

@@ -25,6 +25,7 @@ import json
 import math
 import os
 import tempfile
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -33,7 +34,8 @@ import numpy as np
 from .errors import InputError
 
 __all__ = ["ModelResult", "RunResults", "to_tree", "from_tree", "save_record",
-           "load_record", "save_results", "load_results", "atomic_write", "new_file_mode",
+           "load_record", "save_results", "load_results", "atomic_path", "atomic_write",
+           "new_file_mode",
            "json_ready", "frozen_array", "RESULTS_FILE", "SAVED_FORMAT"]
 
 #: version of the saved layout (3: one record file written from the dataclass fields)
@@ -271,10 +273,34 @@ def new_file_mode() -> int:
     return 0o666 & ~mask
 
 
-def atomic_write(path, data) -> Path:
-    """Write text or bytes to ``path`` through a temporary file and ``os.replace``.
+@contextmanager
+def atomic_path(path, suffix: str = ".tmp"):
+    """A temporary file beside ``path`` that replaces it when the block ends without error.
 
-    A reader never sees half a file; a killed writer leaves ``.<name>.<random>.tmp``.
+    Yields the temporary path (mode of an ordinary new file, see :func:`new_file_mode`);
+    on an error it is deleted and ``path`` is left as it was.  A killed writer leaves
+    ``.<name>.<random><suffix>``.
+
+    References
+    ----------
+    .. [1] POSIX ``rename()`` (IEEE Std 1003.1): the replacement is atomic on one file
+       system.
+    """
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=suffix)
+    os.close(fd)
+    try:
+        os.chmod(tmp, new_file_mode())
+        yield Path(tmp)
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+
+
+def atomic_write(path, data) -> Path:
+    """Write text or bytes to ``path`` atomically (:func:`atomic_path`).
 
     Parameters
     ----------
@@ -287,21 +313,11 @@ def atomic_write(path, data) -> Path:
 
     References
     ----------
-    .. [1] POSIX ``rename()`` (IEEE Std 1003.1): the replacement is atomic on one file
-       system.
+    .. [1] POSIX ``rename()`` (IEEE Std 1003.1).
     """
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
-    try:
-        os.chmod(tmp, new_file_mode())
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data.encode("utf-8") if isinstance(data, str) else data)
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
-    return path
+    with atomic_path(path) as tmp:
+        tmp.write_bytes(data.encode("utf-8") if isinstance(data, str) else data)
+    return Path(path)
 
 
 def save_record(path, obj, meta: dict | None = None) -> Path:

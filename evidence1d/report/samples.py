@@ -9,13 +9,11 @@ References
 """
 from __future__ import annotations
 
-import os
-import tempfile
 from pathlib import Path
 
 import numpy as np
 
-from ..results import atomic_write, new_file_mode
+from ..results import atomic_path, atomic_write
 
 __all__ = ["export_samples"]
 
@@ -44,15 +42,8 @@ def export_samples(results) -> list:
     for name, mr in results.models.items():
         post = mr.posterior
         idata = to_inference_data(post.chain[post.burn_in:], list(mr.names))
-        fd, tmp = tempfile.mkstemp(dir=folder, prefix=f".{name}.", suffix=".nc")
-        os.close(fd)
-        os.chmod(tmp, new_file_mode())
-        try:
-            idata.to_netcdf(tmp)
-            os.replace(tmp, folder / f"{name}.nc")
-        except BaseException:
-            Path(tmp).unlink(missing_ok=True)
-            raise
+        with atomic_path(folder / f"{name}.nc", suffix=".nc") as tmp:
+            idata.to_netcdf(str(tmp))
         lines = [",".join(mr.full_names)]
         lines += [",".join(repr(float(v)) for v in row) for row in np.asarray(mr.full_samples)]
         atomic_write(folder / f"{name}.csv", "\n".join(lines) + "\n")
