@@ -13,7 +13,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from .errors import InputError, closest_key
-from .schema import Field, Spec, as_bool, as_float, as_str, check_mapping, load_yaml
+from .schema import (Field, Spec, as_any, as_bool, as_float, as_mapping, as_str,
+                     check_mapping, load_yaml)
 
 __all__ = ["ModelCard", "load_card", "bundled_cards", "card_path", "CARD_DIRS"]
 
@@ -46,7 +47,7 @@ def _as_str_list(v, where):
 _PARAM_SPEC = Spec({
     "unit": Field(as_str, required=True, help="unit of the parameter, e.g. meV or 1"),
     "description": Field(as_str, required=True, help="what the parameter is"),
-    "prior": Field(lambda v, w: v, required=True, help="default prior {kind: ..., ...}"),
+    "prior": Field(as_any, required=True, help="default prior {kind: ..., ...}"),
     "latex": Field(as_str, default=None, help="LaTeX symbol for tables and figures"),
 }, what="a model-card parameter")
 
@@ -60,12 +61,12 @@ _CARD_SPEC = Spec({
     "title": Field(as_str, required=True, help="one-line title"),
     "family": Field(as_str, required=True, help="registered family class"),
     "one_dimensional": Field(as_bool, required=True, help="whether the family is 1D physics"),
-    "parameters": Field(lambda v, w: v, required=True, help="mapping of parameters"),
-    "nested_1d_limit": Field(lambda v, w: v, default=None),
+    "parameters": Field(as_any, required=True, help="mapping of parameters"),
+    "nested_1d_limit": Field(as_any, default=None),
     "assumptions": Field(_as_str_list, default=[]),
     "limitations": Field(_as_str_list, default=[]),
     "references": Field(_as_str_list, default=[]),
-    "options": Field(lambda v, w: v, default={}, help="family options"),
+    "options": Field(as_mapping, default={}, help="family options"),
 }, what="a model card")
 
 
@@ -157,10 +158,7 @@ def load_card(path) -> ModelCard:
     for pname, pblock in params.items():
         where = f"parameters.{pname}"
         p = check_mapping(pblock, _PARAM_SPEC, where, doc)
-        try:
-            p["prior"] = prior_from_spec(p["prior"], f"{where}.prior")
-        except InputError as exc:
-            raise doc.error(exc.message, exc.key or f"{where}.prior") from None
+        p["prior"] = prior_from_spec(p["prior"], f"{where}.prior", doc)
         checked[str(pname)] = p
     cls = FAMILY_CLASSES[card["family"]]
     missing = [p for p in cls.parameters if p not in checked]
@@ -175,8 +173,6 @@ def load_card(path) -> ModelCard:
         if nested["parameter"] not in checked:
             raise doc.error(f"nested_1d_limit names '{nested['parameter']}', which is not a "
                             "parameter of this card", "nested_1d_limit.parameter")
-    if not isinstance(card["options"], dict):
-        raise doc.error("expected a mapping of family options", "options")
     return ModelCard(name=card["name"], title=card["title"], family=card["family"],
                      one_dimensional=card["one_dimensional"], parameters=checked,
                      nested_1d_limit=nested, assumptions=card["assumptions"],

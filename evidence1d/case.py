@@ -13,20 +13,13 @@ from .cards import ModelCard, card_path, load_card
 from .data import KINDS, SPECTRUM_KINDS, Dataset, load_dataset
 from .data.geometry import make_geometry
 from .errors import InputError, closest_key
-from .schema import (Field, Spec, as_bool, as_float_list, as_int, as_positive_float,
-                     as_positive_int, as_str, check_mapping, load_yaml, one_of)
+from .figure_settings import figure_settings
+from .physics.powder_settings import SETTINGS_FIELDS as _POWDER_FIELDS
+from .schema import (Field, Spec, as_any, as_bool, as_float_list, as_int, as_mapping,
+                     as_positive_float, as_positive_int, as_str, check_mapping, integer,
+                     load_yaml, one_of, real)
 
-__all__ = ["Sample", "ModelChoice", "Case", "load_case", "SAMPLER_DEFAULTS"]
-
-
-def _any(v, where):
-    return v
-
-
-def _mapping(v, where):
-    if not isinstance(v, dict):
-        raise InputError(f"expected a mapping; got {type(v).__name__}", key=where)
-    return v
+__all__ = ["Sample", "ModelChoice", "Case", "load_case"]
 
 
 _LATTICE = Spec({"a": Field(as_positive_float, required=True, help="Å"),
@@ -42,11 +35,11 @@ _SAMPLE = Spec({
     "ion": Field(as_str, required=True, help="magnetic ion element, e.g. Cu"),
     "charge": Field(as_int, required=True, help="ionic charge, e.g. 2 for Cu2+"),
     "spin": Field(as_positive_float, default=0.5, help="spin quantum number S"),
-    "g": Field(_mapping, default=None, help="prior of the g factor {kind: normal, ...}"),
+    "g": Field(as_mapping, default=None, help="prior of the g factor {kind: normal, ...}"),
     "spin_spacing": Field(as_positive_float, required=True,
                           help="spin spacing d along the chain in Å"),
-    "lattice": Field(_any, required=True, help="{a, b, c} in Å, {alpha, beta, gamma} in °"),
-    "chain": Field(_any, default="c", help="chain direction: a crystal axis (a, b, c) or a "
+    "lattice": Field(as_any, required=True, help="{a, b, c} in Å, {alpha, beta, gamma} in °"),
+    "chain": Field(as_any, default="c", help="chain direction: a crystal axis (a, b, c) or a "
                                            "real-space vector [u, v, w]"),
     "ions_per_formula_unit": Field(as_positive_float, default=None,
                                    help="magnetic ions per formula unit (per-formula-unit data)"),
@@ -61,29 +54,21 @@ _RESOLUTION = Spec({"fwhm": Field(as_float_list, required=True,
                                     help="momentum-resolution FWHM [along the chain, across "
                                          "it] in the dataset's wavevector unit")},
                    what="resolution")
-_POWDER = Spec({"tolerance": Field(as_positive_float, default=None,
-                                   help="relative accuracy of the average (default 0.01)"),
-                "phase_step": Field(as_positive_float, default=None,
-                                    help="largest phase step of the first direction grid in "
-                                         "rad (default 1.5)"),
-                "max_grid": Field(as_positive_int, default=None,
-                                  help="largest number of θ and of φ intervals (default 64)")},
-               what="powder_average")
 
 _DATASET = Spec({
     "name": Field(as_str, default=None, help="dataset name (default: file name)"),
     "kind": Field(one_of(*KINDS), required=True, help=f"one of {', '.join(KINDS)}"),
     "file": Field(as_str, required=True, help="data file path"),
-    "units": Field(_mapping, default={}, help="units of the columns (or in the headers)"),
-    "columns": Field(_mapping, default={}, help="column of the kind -> header in the file"),
+    "units": Field(as_mapping, default={}, help="units of the columns (or in the headers)"),
+    "columns": Field(as_mapping, default={}, help="column of the kind -> header in the file"),
     "masked": Field(one_of("error", "drop"), default="error",
                     help="points with non-finite values or errors <= 0: error or drop"),
     "entry": Field(as_str, default=None, help="HDF5/NeXus files: the NXentry or NXdata group"),
     "temperature": Field(as_positive_float, default=None, help="sample temperature in K"),
-    "resolution": Field(_any, default=None, help="{fwhm: [c0, c1, ...]} in meV"),
+    "resolution": Field(as_any, default=None, help="{fwhm: [c0, c1, ...]} in meV"),
     "background": Field(one_of("none", "flat", "linear"), default="linear"),
     "elastic": Field(as_bool, default=False, help="fit an elastic line"),
-    "powder_average": Field(_any, default=None),
+    "powder_average": Field(as_any, default=None),
     "per": Field(one_of("magnetic_ion", "formula_unit"), default="magnetic_ion"),
     "field": Field(one_of("powder", "z", "xy"), default="powder"),
     "chi0": Field(as_bool, default=True), "impurity": Field(as_bool, default=True),
@@ -91,27 +76,31 @@ _DATASET = Spec({
     "noise": Field(one_of("gaussian", "student_t"), default="gaussian"),
     "nu": Field(as_positive_float, default=4.0, help="Student-t degrees of freedom"),
     "inflate_errors": Field(as_bool, default=False),
-    "priors": Field(_mapping, default={}, help="nuisance prior overrides"),
+    "priors": Field(as_mapping, default={}, help="nuisance prior overrides"),
 }, what="a dataset block")
 
 _MODEL = Spec({"name": Field(as_str, default=None, help="bundled model name"),
                "card": Field(as_str, default=None, help="path of a model card of your own"),
-               "priors": Field(_mapping, default={}, help="prior overrides"),
-               "options": Field(_mapping, default={},
+               "priors": Field(as_mapping, default={}, help="prior overrides"),
+               "options": Field(as_mapping, default={},
                                 help="family options overriding the card's (e.g. interchain)")},
               what="a model entry")
 
-#: sampler settings and their defaults (``--quick`` scales them down)
-SAMPLER_DEFAULTS = {"walkers": 0, "steps": 1000, "particles": 200, "islands": 8,
-                    "mcmc_steps": 0, "ess_fraction": 0.5, "checkpoint_every": 200,
-                    "marginalise": True}
+#: the powder-average settings a case file may give (None: the default of
+#: :class:`evidence1d.physics.powder_settings.PowderSettings`)
+_POWDER = Spec({k: Field(_POWDER_FIELDS[k].convert, help=_POWDER_FIELDS[k].help)
+                for k in ("tolerance", "phase_step", "max_grid")}, what="powder_average")
+
+#: the sampler settings and their defaults (``--quick`` scales them down)
 _SAMPLER = Spec({
-    "walkers": Field(as_int, default=0, help="emcee walkers (0: automatic)"),
+    "walkers": Field(integer(0), default=0, help="emcee walkers (0: automatic)"),
     "steps": Field(as_positive_int, default=1000, help="emcee steps per walker"),
     "particles": Field(as_positive_int, default=200, help="particles per evidence island"),
     "islands": Field(as_positive_int, default=8, help="independent evidence runs"),
-    "mcmc_steps": Field(as_int, default=0, help="rejuvenation steps per temperature (0: auto)"),
-    "ess_fraction": Field(as_positive_float, default=0.5, help="target conditional ESS"),
+    "mcmc_steps": Field(integer(0), default=0,
+                        help="rejuvenation steps per temperature (0: auto)"),
+    "ess_fraction": Field(real(0.0, 1.0, lower_open=True, upper_open=True), default=0.5,
+                          help="target conditional ESS fraction"),
     "checkpoint_every": Field(as_positive_int, default=200, help="steps between checkpoints"),
     "marginalise": Field(as_bool, default=True,
                          help="integrate linear nuisances out analytically"),
@@ -119,16 +108,16 @@ _SAMPLER = Spec({
 
 _CASE = Spec({
     "title": Field(as_str, default=None),
-    "sample": Field(_any, required=True, help="the sample block"),
-    "datasets": Field(_any, required=True, help="list of datasets"),
-    "models": Field(_any, required=True, help="list of model families to compare"),
-    "extras": Field(_mapping, default={}, help="prior overrides of chi0, c_imp, gamma_e, "
+    "sample": Field(as_any, required=True, help="the sample block"),
+    "datasets": Field(as_any, required=True, help="list of datasets"),
+    "models": Field(as_any, required=True, help="list of model families to compare"),
+    "extras": Field(as_mapping, default={}, help="prior overrides of chi0, c_imp, gamma_e, "
                                                "beta_lattice"),
-    "sampler": Field(_any, default={}),
-    "prior_odds": Field(_mapping, default=None, help="prior model odds {model: weight}"),
+    "sampler": Field(as_any, default={}),
+    "prior_odds": Field(as_mapping, default=None, help="prior model odds {model: weight}"),
     "seed": Field(as_int, default=20261201),
     "output": Field(as_str, default=None, help="output folder"),
-    "figures": Field(_mapping, default=None, help="figure choices: cuts, temperature_axis, "
+    "figures": Field(as_mapping, default=None, help="figure choices: cuts, temperature_axis, "
                                                   "map_scale, map_percentiles, titles, truths"),
 }, what="the case file")
 
@@ -343,10 +332,7 @@ def load_case(path) -> Case:
     top = check_mapping(doc.data, _CASE, "", doc)
 
     def prior(spec, where):
-        try:
-            return prior_from_spec(spec, where)
-        except InputError as exc:
-            raise doc.error(exc.message, exc.key or where) from None
+        return prior_from_spec(spec, where, doc)
 
     s = check_mapping(top["sample"], _SAMPLE, "sample", doc)
     lattice = check_mapping(s["lattice"], _LATTICE, "sample.lattice", doc)
@@ -390,12 +376,6 @@ def load_case(path) -> Case:
             if b["powder_average"] is not None:
                 b["powder_average"] = check_mapping(b["powder_average"], _POWDER,
                                                     f"{where}.powder_average", doc)
-                from .physics.powder import PowderSettings
-                try:
-                    PowderSettings(**{k: v for k, v in b["powder_average"].items()
-                                      if v is not None})
-                except InputError as exc:
-                    raise doc.error(exc.message, f"{where}.powder_average") from None
         fpath = _resolve(base, b["file"])
         name = b["name"] or Path(b["file"]).stem
         if not name.replace("_", "").replace("-", "").isalnum():
@@ -464,13 +444,10 @@ def load_case(path) -> Case:
             if k not in models:
                 raise doc.error(f"prior_odds names '{k}', which is not a model of this case; "
                                 f"{closest_key(str(k), models)}", f"prior_odds.{k}")
-            try:
-                as_positive_float(v, f"prior_odds.{k}")
-            except InputError as exc:
-                raise doc.error(exc.message, f"prior_odds.{k}") from None
+            check_mapping({k: v}, Spec({k: Field(as_positive_float)}, what="prior_odds"),
+                          "prior_odds", doc)
     output = _resolve(base, top["output"]) if top["output"] else base / "results"
     if top["figures"] is not None:
-        from .report.figures.settings import figure_settings
         try:
             figure_settings(top["figures"], datasets=[d.name for d in datasets],
                             models=list(models))

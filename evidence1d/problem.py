@@ -163,7 +163,6 @@ class JointProblem:
         return ok
 
     def _draw(self, p, rng):
-        rng = np.random.default_rng(0) if rng is None else rng
         drawn = {}
         for b in self.blocks:
             drawn.update(b.draw(p, rng))
@@ -202,11 +201,6 @@ class JointProblem:
                                                              for nm in self.marginalised])
         return out
 
-    def full_theta(self, theta, rng) -> np.ndarray:
-        """Sampled parameters plus drawn marginalised nuisances, columns :attr:`full_names`."""
-        theta, _ = self._as_batch(theta)
-        return np.hstack([theta, self.draw_marginalised(theta, rng)])
-
     @property
     def full_names(self) -> list:
         """Sampled parameter names followed by the marginalised ones."""
@@ -227,14 +221,20 @@ class JointProblem:
         """Per-dataset log-likelihoods {dataset name: (k,)} (evidence budgets)."""
         return self._per_dataset(theta)
 
-    def log_likelihood_pointwise(self, theta, rng=None) -> dict:
+    def log_likelihood_pointwise(self, theta, rng) -> dict:
         """Per-point log-likelihoods {dataset name: (k, n_points)} (for PSIS-LOO), with any
-        marginalised nuisances drawn from their conditional posterior (``rng``)."""
+        marginalised nuisances drawn from their conditional posterior.
+
+        Parameters
+        ----------
+        theta : ndarray, shape (k, len(names))
+        rng : numpy.random.Generator
+            Source of the nuisance draws.
+        """
         theta, _ = self._as_batch(theta)
         out = {pr.dataset.name: np.full((theta.shape[0], pr.dataset.n), -np.inf)
                for pr in self.predictors}
         idx = np.flatnonzero(self._valid(theta))
-        rng = np.random.default_rng(0) if rng is None else rng
         for start in range(0, idx.size, self.chunk):
             sel = idx[start:start + self.chunk]
             p = self.prior.expand(theta[sel])
@@ -271,12 +271,6 @@ class JointProblem:
         p = self.params(theta)
         with np.errstate(all="ignore"):
             return {pr.dataset.name: pr.predict(p) for pr in self.predictors}
-
-    def magnetic_part(self, theta) -> dict:
-        """The families' model parts {dataset name: (k, n_points)} (no nuisances)."""
-        p = self.params(theta)
-        with np.errstate(all="ignore"):
-            return {pr.dataset.name: pr.magnetic(p) for pr in self.predictors}
 
 
 class LinearBlock:

@@ -103,3 +103,53 @@ def test_simulate_recovers_truth_at_high_signal(case, rng):
 def test_unknown_truth_parameter(case, rng):
     with pytest.raises(evidence1d.InputError, match="unknown parameter 'Jx'"):
         simulate_case(case, "paramagnon", {"Jx": 1.0}, NoiseModel(), rng)
+
+
+def test_numbers_written_without_a_dot_mean_the_same_everywhere(tmp_path):
+    # YAML 1.1 (PyYAML) reads 1e-1 (no dot) as the string '1e-1'; every numeric setting goes
+    # through one number parser, so a prior, the resolution, a powder setting and the sampler
+    # read it as the number it spells.
+    import yaml
+    assert yaml.safe_load("x: 1e-1")["x"] == "1e-1"            # the YAML 1.1 behaviour
+    plain = evidence1d.load_case(write_valid_case(tmp_path / "a"))
+    text = (CASE_YAML.replace("resolution: {fwhm: [0.1, 0.02]}",
+                              "resolution: {fwhm: [1e-1, 2e-2]}\n"
+                              "    powder_average: {tolerance: 5e-3, max_grid: 6.4e1}")
+            .replace("sd: 0.05}", "sd: 5e-2}")
+            .replace("sampler: {", "sampler: {ess_fraction: 5e-1, steps: 2e2, "))
+    text = text.replace("steps: 200, ", "")
+    spelled = evidence1d.load_case(write_valid_case(tmp_path / "b", text))
+    assert spelled.datasets[0].options["resolution"]["fwhm"] == [0.1, 0.02]
+    assert spelled.datasets[0].options["powder_average"]["tolerance"] == 5e-3
+    assert spelled.datasets[0].options["powder_average"]["max_grid"] == 64
+    assert spelled.sample.g_prior == plain.sample.g_prior
+    assert spelled.sampler == {**plain.sampler, "ess_fraction": 0.5}
+    assert isinstance(spelled.sampler["steps"], int) and spelled.sampler["steps"] == 200
+    theta = np.array(plain.prior_transform("spinon_continuum",
+                                           np.full(len(plain.parameter_names(
+                                               "spinon_continuum")), 0.4)))
+    assert spelled.log_likelihood("spinon_continuum", theta) == \
+        plain.log_likelihood("spinon_continuum", theta)
+
+
+def test_sampler_and_evidence_settings_share_the_engine_of_the_case_file():
+    from evidence1d.errors import InputError
+    from evidence1d.inference.evidence import check_evidence_settings
+    from evidence1d.inference.posterior import sample_posterior
+    from evidence1d.inference.priors import JointPrior, Uniform
+    prior = JointPrior(["a", "b"], [Uniform(0, 1), Uniform(0, 1)])
+    assert check_evidence_settings(prior, "2e1", 4.0, "5e-1") == {
+        "n_particles": 20, "n_islands": 4, "target_cess": 0.5, "moved": 0.9}
+    for args, key, words in [((prior, 7, 4), "n_particles", "integer >= 8 (2 m + 4"),
+                             ((prior, 20, 1), "n_islands", "integer >= 2"),
+                             ((prior, 20, 4, 1.0), "target_cess", "number in (0, 1)"),
+                             ((prior, 20, 4, 0.5, "most"), "moved", "finite number")]:
+        with pytest.raises(InputError) as info:
+            check_evidence_settings(*args)
+        assert info.value.key == key and words in str(info.value), str(info.value)
+    rng = np.random.default_rng(0)
+    for kw, key in [({"n_steps": 1}, "n_steps"), ({"n_steps": 10, "n_walkers": 5}, "n_walkers"),
+                    ({"n_steps": 10, "checkpoint_every": 0}, "checkpoint_every")]:
+        with pytest.raises(InputError) as info:
+            sample_posterior(lambda t: np.zeros(len(t)), prior, rng=rng, progress=False, **kw)
+        assert info.value.key == key and "\n" not in str(info.value)

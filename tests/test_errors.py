@@ -113,3 +113,28 @@ def test_debug_shows_traceback(tmp_path):
     _edit(path, "kind: susceptibility", "kind: nonsense")
     with pytest.raises(Exception):
         main(["--debug", "check", str(path)])
+
+
+@pytest.mark.parametrize("old, new, words", [
+    ("steps: 200", "steps: 2.5e2x", ["sampler.steps", "expected an integer", "'2.5e2x'"]),
+    ("steps: 200", "steps: 200, ess_fraction: 1.5",
+     ["sampler.ess_fraction", "expected a number in (0, 1)"]),
+    ("steps: 200", "steps: 200, walkers: -2", ["sampler.walkers", "integer >= 0"]),
+    ("{fwhm: [0.1, 0.02]}", "{fwhm: [0.1, 2e-2x]}",
+     ["datasets[0].resolution.fwhm[1]", "finite number"]),
+    ("{fwhm: [0.1, 0.02]}", "{fwhm: [0.1, 0.02]}\n    powder_average: {max_grid: 1}",
+     ["datasets[0].powder_average.max_grid", "integer from 2 to 4096"]),
+    ("{fwhm: [0.1, 0.02]}", "{fwhm: [0.1, 0.02]}\n    powder_average: {tolerance: 2}",
+     ["datasets[0].powder_average.tolerance", "number in (0, 1)"]),
+    ("sd: 0.05}", "sd: -5e-2}", ["sample.g.sd", "expected a number > 0"]),
+    ("seed: 7", "seed: 7\nfigures: {draws: 2}", ["figures.draws", "integer >= 5"]),
+    ("seed: 7", "seed: 7\nfigures: {map_scale: cubic}", ["figures.map_scale", "'cubic'"]),
+])
+def test_bad_setting_names_its_key_in_one_line(tmp_path, capsys, old, new, words):
+    path = write_valid_case(tmp_path / "case")
+    _edit(path, old, new)
+    code, err = _run_check(capsys, path)
+    assert code == 2 and "\n" not in err and "Traceback" not in err
+    assert "case.yaml:" in err                     # the file and the line of the key
+    for w in words:
+        assert w in err, f"{w!r} not in {err!r}"

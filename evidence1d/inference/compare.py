@@ -83,17 +83,6 @@ class Comparison:
     unreliable: tuple = field(default_factory=tuple)
     reliability: dict = field(default_factory=dict)
 
-    def to_dict(self):
-        return {"names": list(self.names), "log_z": dict(self.log_z),
-                "log_z_err": dict(self.log_z_err), "one_dimensional": dict(self.one_dimensional),
-                "prior_probability": dict(self.prior_probability),
-                "posterior_probability": dict(self.posterior_probability),
-                "pairs": [p.to_dict() for p in self.pairs],
-                "p_one_dimensional": self.p_one_dimensional,
-                "p_one_dimensional_err": self.p_one_dimensional_err, "best": self.best,
-                "verdict": self.verdict, "prior_odds": self.prior_odds_stated,
-                "unreliable": list(self.unreliable), "reliability": dict(self.reliability)}
-
 
 def compare_models(models: dict, prior_odds: dict | None = None, unreliable=()) -> Comparison:
     """Compare models by their evidences.
@@ -425,7 +414,7 @@ def _density(x, value, bound):
     return float(np.sum(stats.norm.pdf(u1) + stats.norm.pdf(u2)) / (x.size * h))
 
 
-def savage_dickey(posterior_samples, prior, value, *, rng=None, n_bootstrap=200) -> SavageDickeyResult:
+def savage_dickey(posterior_samples, prior, value, *, rng, n_bootstrap=200) -> SavageDickeyResult:
     """Savage–Dickey density ratio for a nested hypothesis θ = value.
 
     ln BF_nested/full = ln p(θ = value | data, full) − ln π(θ = value) (Dickey 1971), valid
@@ -446,8 +435,8 @@ def savage_dickey(posterior_samples, prior, value, *, rng=None, n_bootstrap=200)
         Its prior under the full model.
     value : float
         The nested value.
-    rng : numpy.random.Generator, optional
-        For the bootstrap; default seeded with 0.
+    rng : numpy.random.Generator
+        Source of the bootstrap resamples.
     n_bootstrap : int
         Bootstrap resamples.
 
@@ -480,7 +469,6 @@ def savage_dickey(posterior_samples, prior, value, *, rng=None, n_bootstrap=200)
     elif math.isfinite(hi) and abs(value - hi) <= 1e-9 * max(sd, 1e-300):
         bound = hi
     post_d = _density(x, value, bound)
-    rng = np.random.default_rng(0) if rng is None else rng
     boot = np.array([_density(x[rng.integers(0, x.size, x.size)], value, bound)
                      for _ in range(int(n_bootstrap))])
     with np.errstate(divide="ignore"):

@@ -19,7 +19,7 @@ import numpy as np
 from scipy import optimize
 
 from evidence1d.errors import InputError
-from evidence1d.inference.posterior import LogTarget
+from evidence1d.inference.target import LogTarget
 
 __all__ = ["LaplaceResult", "BICResult", "laplace_evidence", "bic"]
 
@@ -47,11 +47,6 @@ class LaplaceResult:
     approximate: bool = True
     label: str = "approximate (Laplace)"
 
-    def to_dict(self):
-        return {"log_z": self.log_z, "map_point": self.map_point.tolist(),
-                "covariance": self.covariance.tolist(), "method": self.method,
-                "approximate": True, "label": self.label}
-
 
 @dataclass(frozen=True)
 class BICResult:
@@ -63,10 +58,6 @@ class BICResult:
     n_data: int
     approximate: bool = True
     label: str = "approximate (BIC)"
-
-    def to_dict(self):
-        return {"bic": self.bic, "log_z": self.log_z, "n_params": self.n_params,
-                "n_data": self.n_data, "approximate": True, "label": self.label}
 
 
 def _hessian(f, x, h):

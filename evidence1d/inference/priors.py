@@ -32,9 +32,11 @@ import numpy as np
 from scipy import special
 
 from evidence1d.errors import InputError, closest_key
+from evidence1d.schema import (Field, Spec, as_any, as_float, as_positive_float, check_tagged,
+                               unique_names)
 
 __all__ = ["Prior", "Uniform", "LogUniform", "Normal", "TruncatedNormal", "Fixed",
-           "JointPrior", "prior_from_spec", "PRIOR_FIELDS"]
+           "JointPrior", "prior_from_spec", "PRIOR_FIELDS", "PRIOR_SPECS"]
 
 _LN_SQRT_2PI = 0.5 * math.log(2.0 * math.pi)
 # Unit-interval values are clipped to [_U_MIN, _U_MAX] so that the inverse CDF of an
@@ -320,38 +322,55 @@ class Fixed(Prior):
         return {"kind": self.kind, "value": self.value}
 
 
-def _number(spec: dict, field: str, where: str) -> float:
-    value = spec[field]
-    if isinstance(value, bool):
-        raise InputError(f"'{field}' must be a number; got {value!r}", key=f"{where}.{field}")
-    if isinstance(value, str):
-        try:                               # YAML 1.1 reads '1e-3' as a string
-            value = float(value)
-        except ValueError:
-            raise InputError(f"'{field}' must be a number; got {value!r}",
-                             key=f"{where}.{field}") from None
-    try:
-        value = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"'{field}' must be a number; got {value!r}",
-                         key=f"{where}.{field}") from None
-    if not math.isfinite(value):
-        raise InputError(f"'{field}' must be a finite number; got {value!r}",
-                         key=f"{where}.{field}")
-    return value
+def _bounds_ordered(v: dict, where: str) -> None:
+    if v["lower"] >= v["upper"]:
+        raise InputError(f"lower ({v['lower']:g}) must be smaller than upper "
+                         f"({v['upper']:g})", key=where)
 
 
-def prior_from_spec(spec: dict, where: str) -> Prior:
+def _log_range_positive(v: dict, where: str) -> None:
+    if v["lower"] <= 0.0:
+        raise InputError(f"a log_uniform prior needs 0 < lower < upper; got lower = "
+                         f"{v['lower']:g} (use uniform for ranges that reach zero)", key=where)
+
+
+def _truncation_holds_mass(v: dict, where: str) -> None:
+    alpha = (v["lower"] - v["mean"]) / v["sd"]
+    beta = (v["upper"] - v["mean"]) / v["sd"]
+    if not math.isfinite(_log_normal_mass(alpha, beta)):
+        raise InputError("the truncation interval holds no probability of the normal "
+                         "(it lies too many sd from the mean)", key=where)
+
+
+_HELP = {"lower": "lower bound", "upper": "upper bound", "mean": "mean", "sd": "standard "
+         "deviation > 0", "value": "the fixed value"}
+_CHECKS = {"uniform": (_bounds_ordered,), "log_uniform": (_bounds_ordered, _log_range_positive),
+           "truncated_normal": (_bounds_ordered, _truncation_holds_mass)}
+#: the declaration of every prior kind, checked by the schema engine
+PRIOR_SPECS = {
+    kind: Spec({"kind": Field(as_any, required=True),
+                **{f: Field(as_positive_float if f == "sd" else as_float, required=True,
+                            help=f"{_HELP[f]}, in the parameter's unit") for f in fields}},
+               what=f"a {kind} prior", checks=_CHECKS.get(kind, ()))
+    for kind, fields in PRIOR_FIELDS.items()}
+_CLASSES = {"uniform": Uniform, "log_uniform": LogUniform, "normal": Normal,
+            "truncated_normal": TruncatedNormal, "fixed": Fixed}
+
+
+def prior_from_spec(spec: dict, where: str, doc=None) -> Prior:
     """Build a prior from its declaration mapping.
 
     Parameters
     ----------
     spec : dict
         ``{kind: ..., <fields>}`` with the fields of :data:`PRIOR_FIELDS`; values in the units
-        of the parameter.
+        of the parameter (numbers, or strings that read as numbers: YAML 1.1 reads ``1e-3``
+        as a string).
     where : str
         Dotted key of the declaration in its file (e.g. ``"parameters.J.prior"``); errors name
         it.
+    doc : evidence1d.schema.YamlDoc, optional
+        The file the declaration is in (errors then name its file and line).
 
     Returns
     -------
@@ -368,42 +387,9 @@ def prior_from_spec(spec: dict, where: str) -> Prior:
     ----------
     .. [1] Johnson, Kotz & Balakrishnan, *Continuous Univariate Distributions* (1994).
     """
-    if not isinstance(spec, dict):
-        raise InputError(f"a prior must be a mapping with a 'kind'; got {spec!r}", key=where)
-    if "kind" not in spec:
-        raise InputError("the prior has no 'kind'; expected one of "
-                         + ", ".join(PRIOR_FIELDS), key=where)
-    kind = spec["kind"]
-    if kind not in PRIOR_FIELDS:
-        raise InputError(f"unknown prior kind {kind!r}; "
-                         + closest_key(str(kind), PRIOR_FIELDS), key=f"{where}.kind")
-    fields = PRIOR_FIELDS[kind]
-    for field in spec:
-        if field != "kind" and field not in fields:
-            raise InputError(f"unknown field {field!r} for a {kind} prior; "
-                             + closest_key(str(field), fields), key=f"{where}.{field}")
-    for field in fields:
-        if field not in spec:
-            raise InputError(f"a {kind} prior needs '{field}' (fields: {', '.join(fields)})",
-                             key=where)
-    v = {field: _number(spec, field, where) for field in fields}
-    if "lower" in v and v["lower"] >= v["upper"]:
-        raise InputError(f"lower ({v['lower']:g}) must be smaller than upper "
-                         f"({v['upper']:g})", key=where)
-    if kind == "log_uniform" and v["lower"] <= 0.0:
-        raise InputError(f"a log_uniform prior needs 0 < lower < upper; got lower = "
-                         f"{v['lower']:g} (use uniform for ranges that reach zero)", key=where)
-    if "sd" in v and v["sd"] <= 0.0:
-        raise InputError(f"sd must be positive; got {v['sd']:g}", key=f"{where}.sd")
-    if kind == "truncated_normal":
-        alpha = (v["lower"] - v["mean"]) / v["sd"]
-        beta = (v["upper"] - v["mean"]) / v["sd"]
-        if not math.isfinite(_log_normal_mass(alpha, beta)):
-            raise InputError("the truncation interval holds no probability of the normal "
-                             "(it lies too many sd from the mean)", key=where)
-    cls = {"uniform": Uniform, "log_uniform": LogUniform, "normal": Normal,
-           "truncated_normal": TruncatedNormal, "fixed": Fixed}[kind]
-    return cls(**v)
+    v = check_tagged(spec, "kind", PRIOR_SPECS, where, doc, what="prior")
+    kind = v.pop("kind")
+    return _CLASSES[kind](**v)
 
 
 class JointPrior:
@@ -426,14 +412,13 @@ class JointPrior:
 
     def __init__(self, names, priors):
         names, priors = tuple(names), tuple(priors)
+        unique_names(names, "names")
         if len(names) != len(priors):
-            raise InputError(f"{len(names)} parameter names but {len(priors)} priors")
-        if len(set(names)) != len(names):
-            dup = sorted({n for n in names if names.count(n) > 1})
-            raise InputError(f"parameter names must be unique; repeated: {', '.join(dup)}")
+            raise InputError(f"expected one prior per name; got {len(names)} names and "
+                             f"{len(priors)} priors", key="priors")
         for name, prior in zip(names, priors):
             if not isinstance(prior, Prior):
-                raise InputError(f"the prior of '{name}' is not a Prior; got {prior!r}")
+                raise InputError(f"expected a Prior; got {prior!r}", key=f"priors.{name}")
         self.names = names
         self.priors = priors
         self._free = tuple(i for i, p in enumerate(priors) if not isinstance(p, Fixed))
@@ -498,6 +483,20 @@ class JointPrior:
             else:
                 out[name] = np.full((k, 1), prior.value)
         return out
+
+    def prior_of(self, name: str) -> Prior:
+        """The prior of the parameter ``name`` (free or fixed).
+
+        Raises
+        ------
+        InputError
+            No parameter of that name (the closest name is suggested).
+        """
+        if name not in self.names:
+            raise InputError(f"unknown parameter '{name}'; "
+                             + closest_key(name, self.names).replace("valid keys",
+                                                                     "parameters"))
+        return self.priors[self.names.index(name)]
 
     def bounds(self):
         """Support of each free parameter, a list of (lower, upper)."""

@@ -51,69 +51,15 @@ Ch. 7 (powder average of the magnetic cross-section).
 from __future__ import annotations
 
 import functools
-from dataclasses import dataclass
 
 import numpy as np
 from scipy import fft
 
 from ..errors import InputError
+from .powder_settings import PowderSettings
 
-__all__ = ["PowderSettings", "clenshaw_curtis", "cosine_coefficients",
+__all__ = ["clenshaw_curtis", "cosine_coefficients",
            "chain_average", "adaptive_chain_average", "adaptive_sphere_average"]
-
-
-@dataclass(frozen=True)
-class PowderSettings:
-    """Accuracy settings of the powder average (the case file's ``powder_average`` block).
-
-    Attributes
-    ----------
-    tolerance : float
-        A point is converged when its change between two nested levels is at most
-        ``tolerance`` × (|value| + ``floor`` × the largest |value| of the dataset).
-    floor : float
-        Fraction of the dataset's largest value below which points are judged on that
-        absolute scale (dimensionless).
-    phase_step : float
-        Largest phase step in rad between neighbouring directions of the first grid of the
-        sphere average, along every lattice direction (|Q| × spacing × angle step): a
-        feature of the spectrum narrower than about this many radians of phase can be
-        missed by the first two grids.
-    max_grid : int
-        Largest number of intervals in θ and in φ over the symmetric part of the sphere.
-    chain_nodes : tuple of int
-        Smallest and largest n of the chain-phase grid q_j = π j / n (powers of two).
-    """
-
-    tolerance: float = 1e-2
-    floor: float = 1e-2
-    phase_step: float = 1.5
-    max_grid: int = 64
-    chain_nodes: tuple = (32, 8192)
-
-    def __post_init__(self):
-        for name in ("tolerance", "floor"):
-            v = getattr(self, name)
-            if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 < v < 1:
-                raise InputError(f"powder_average: '{name}' must be a number in (0, 1); "
-                                 f"got {v!r}")
-        v = self.phase_step
-        if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 < v <= 2 * np.pi:
-            raise InputError(f"powder_average: 'phase_step' must be a number in (0, 2π] "
-                             f"(radians); got {v!r}")
-        v = self.max_grid
-        if isinstance(v, bool) or not isinstance(v, (int, np.integer)) or not 2 <= v <= 4096:
-            raise InputError(f"powder_average: 'max_grid' must be an integer from 2 to "
-                             f"4096; got {v!r}")
-        lo, hi = self.chain_nodes
-        for v in (lo, hi):
-            if isinstance(v, bool) or not isinstance(v, (int, np.integer)) or v < 4 \
-                    or v & (v - 1):
-                raise InputError(f"powder_average: the chain grid limits must be powers of "
-                                 f"two >= 4; got {v!r}")
-        if lo > hi:
-            raise InputError(f"powder_average: the chain grid lower limit {lo} exceeds the "
-                             f"upper limit {hi}")
 
 
 # --------------------------------------------------------------------------- fixed rules

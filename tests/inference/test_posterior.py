@@ -100,7 +100,7 @@ def test_population_proposal_is_the_density_it_samples(rng):
     # covariance).
     from scipy import stats
 
-    from evidence1d.inference.posterior import PopulationProposal
+    from evidence1d.inference.moves import PopulationProposal
     loglike, prior, draw, _ = _twisted_gaussian()
     pop = draw(rng, 200)
     prop = PopulationProposal(pop)
@@ -129,7 +129,7 @@ def test_population_moves_sample_a_twisted_gaussian_exactly_and_faster(rng):
     # The independence proposal must leave the posterior invariant (Tierney 1994): moments
     # of the twisted Gaussian agree with the analytic ones, and its autocorrelation time is
     # far below that of the local moves alone on the same banana.
-    from evidence1d.inference.posterior import population_moves
+    from evidence1d.inference.moves import population_moves
     loglike, prior, draw, var1 = _twisted_gaussian()
     pop = draw(rng, 1600)
     start = pop[:32]
@@ -155,7 +155,7 @@ def test_population_moves_sample_a_twisted_gaussian_exactly_and_faster(rng):
 
 
 def test_population_moves_fall_back_without_a_density():
-    from evidence1d.inference.posterior import default_moves, population_moves
+    from evidence1d.inference.moves import default_moves, population_moves
     flat = np.column_stack([np.linspace(0, 1, 50), np.full(50, 2.0)])   # x1 does not vary
     assert len(population_moves(flat)) == len(default_moves())
     assert len(population_moves(np.zeros((2, 3)))) == len(default_moves())

@@ -62,20 +62,21 @@ def test_joint_prior_fixed_parameters_and_shapes(rng):
 
 BAD = [
     ({"kind": "unifrom", "lower": 0, "upper": 1}, "did you mean 'uniform'"),
-    ({"lower": 0, "upper": 1}, "no 'kind'"),
-    ({"kind": "uniform", "lower": 0}, "needs 'upper'"),
+    ({"lower": 0, "upper": 1}, "missing required key 'kind'"),
+    ({"kind": "uniform", "lower": 0}, "missing required key 'upper'"),
     ({"kind": "uniform", "lower": 2, "upper": 1}, "must be smaller"),
     ({"kind": "uniform", "lower": 1, "upper": 1}, "must be smaller"),
     ({"kind": "log_uniform", "lower": 0, "upper": 1}, "0 < lower"),
     ({"kind": "log_uniform", "lower": -1, "upper": 1}, "0 < lower"),
-    ({"kind": "normal", "mean": 0, "sd": 0}, "sd must be positive"),
-    ({"kind": "truncated_normal", "mean": 0, "sd": -1, "lower": 0, "upper": 1}, "sd must be"),
-    ({"kind": "normal", "mean": "abc", "sd": 1}, "must be a number"),
-    ({"kind": "normal", "mean": True, "sd": 1}, "must be a number"),
+    ({"kind": "normal", "mean": 0, "sd": 0}, "'parameters.J.prior.sd': expected a number > 0"),
+    ({"kind": "truncated_normal", "mean": 0, "sd": -1, "lower": 0, "upper": 1},
+     "'parameters.J.prior.sd': expected a number > 0"),
+    ({"kind": "normal", "mean": "abc", "sd": 1}, "expected a finite number; got 'abc'"),
+    ({"kind": "normal", "mean": True, "sd": 1}, "expected a finite number; got True"),
     ({"kind": "normal", "mean": float("nan"), "sd": 1}, "finite"),
-    ({"kind": "normal", "mean": 0, "sd": 1, "lowr": 0}, "unknown field"),
-    ({"kind": "fixed"}, "needs 'value'"),
-    ("uniform", "must be a mapping"),
+    ({"kind": "normal", "mean": 0, "sd": 1, "lowr": 0}, "unknown key 'lowr'"),
+    ({"kind": "fixed"}, "missing required key 'value'"),
+    ("uniform", "expected a mapping"),
 ]
 
 
@@ -90,3 +91,21 @@ def test_bad_declarations_give_one_line_input_errors(spec, text):
 def test_numeric_strings_are_accepted():
     # PyYAML reads 1e-3 (no dot) as a string; common practice is to accept it.
     assert prior_from_spec({"kind": "log_uniform", "lower": "1e-3", "upper": 1}, "x").lower == 1e-3
+
+
+def test_joint_prior_finds_a_prior_by_name():
+    jp = JointPrior(["J", "g"], [Uniform(0.0, 1.0), Fixed(2.0)])
+    assert jp.prior_of("g") == Fixed(2.0) and jp.prior_of("J") == Uniform(0.0, 1.0)
+    with pytest.raises(InputError, match="unknown parameter 'j'"):
+        jp.prior_of("j")
+
+
+@pytest.mark.parametrize("names, priors, key", [
+    (["J", "J"], [Uniform(0, 1), Uniform(0, 1)], "names"),
+    (["J"], [Uniform(0, 1), Uniform(0, 1)], "priors"),
+    (["J"], ["uniform"], "priors.J"),
+])
+def test_joint_prior_rejects_bad_declarations_naming_the_key(names, priors, key):
+    with pytest.raises(InputError) as info:
+        JointPrior(names, priors)
+    assert info.value.key == key and "\n" not in str(info.value)

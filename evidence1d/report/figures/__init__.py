@@ -26,7 +26,7 @@ from pathlib import Path
 from .comparison import comparison_figure
 from .corner import corner_figure
 from .data import figure_data
-from .settings import figure_settings
+from ...figure_settings import figure_settings
 from .spectra import cut_pages, map_figure
 from .style import COLUMN_WIDTH, DOUBLE_WIDTH, PNG_DPI, QUICK_STAMP, STYLE, axis_label
 from .thermo import thermo_figure
