@@ -161,6 +161,8 @@ def load_card(path) -> ModelCard:
         p["prior"] = prior_from_spec(p["prior"], f"{where}.prior", doc)
         checked[str(pname)] = p
     cls = FAMILY_CLASSES[card["family"]]
+    if cls.declaration_problem() is not None:
+        raise doc.error(cls.declaration_problem(), "family")
     missing = [p for p in cls.parameters if p not in checked]
     extra = [p for p in checked if p not in cls.parameters]
     if missing or extra:

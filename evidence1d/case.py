@@ -292,6 +292,15 @@ def _check_spin(card, sample, doc, where) -> None:
                         "sample.spin", where)
 
 
+def _check_kinds(card, datasets, doc, where) -> None:
+    """A family predicts the dataset kinds it declares only; a case with others is rejected."""
+    from .families import FAMILY_CLASSES
+    family = FAMILY_CLASSES[card.family]
+    for ds in datasets:
+        if not family.supports(ds.kind):
+            raise doc.error(family.unsupported_message(ds.kind, ds.name), where)
+
+
 def _with_options(card, options, sample, doc, where):
     """The card with the case file's family options laid over its own, checked by building
     the family once (unknown options and bad values are one-line errors at ``where``)."""
@@ -420,6 +429,7 @@ def load_case(path) -> Case:
         if card.name in models:
             raise doc.error(f"model '{card.name}' is listed twice", where)
         _check_spin(card, sample, doc, where)
+        _check_kinds(card, datasets, doc, where)
         if m["options"]:
             card = _with_options(card, m["options"], sample, doc, f"{where}.options")
         overrides = {}

@@ -69,13 +69,12 @@ class DataFile:
 
 
 def _read(path: Path):
-    from .data.columns import known_names
-    from .data.kinds import CRYSTAL_HKL, KINDS, NEXUS_SUFFIXES
+    from .data.kinds import KINDS, NEXUS_SUFFIXES
     if path.suffix.lower() in NEXUS_SUFFIXES:
         from .data.nexus import read_nexus
         return read_nexus(path)
     from .data.table import read_table
-    known = set().union(*(known_names(s) for s in KINDS.values()), known_names(CRYSTAL_HKL))
+    known = set().union(*(k.known_names() for k in KINDS.values()))
     return read_table(path, known=known, allow_nonfinite=True)
 
 
@@ -97,19 +96,19 @@ def _by_header_units(table):
     """Thermodynamic kind from the unit of the one value column (names unknown)."""
     from .data.columns import normalise_unit
     from .data.kinds import KINDS
-    t_cols = [c for c in table.columns if table.names.get(c, c).lower()
-              in KINDS["susceptibility"].columns["T"]]
+    thermo = [k for k in KINDS.values() if not k.is_spectrum]
+    t_names = {a for k in thermo for a in k.columns["T"]}
+    t_cols = [c for c in table.columns if table.names.get(c, c).lower() in t_names]
     hits = {}
     for col, raw in table.units.items():
         if raw is None or col in t_cols:
             continue
-        for kind, ukey in (("susceptibility", "chi"), ("heat_capacity", "heat_capacity"),
-                           ("entropy", "entropy")):
+        for kind in thermo:
             try:
-                normalise_unit(raw, _UNIT_CHOICES[ukey], ukey)
+                normalise_unit(raw, _UNIT_CHOICES[kind.value_unit], kind.value_unit)
             except InputError:
                 continue
-            hits.setdefault(col, []).append(kind)
+            hits.setdefault(col, []).append(kind.name)
     if len(t_cols) != 1 or not hits:
         return None
     # the value column is the first with a unit; one later column in that unit is its error
@@ -135,15 +134,14 @@ def detect(path) -> DataFile:
     InputError
         The file cannot be read as a table (no header, bad cells, not HDF5/NeXus...).
     """
-    from .data.kinds import CRYSTAL_HKL, KINDS, crystal_layout
+    from .data.kinds import CRYSTAL_HKL, KINDS
     path = Path(path)
     table = _read(path)
     df = DataFile(path=path)
     roles = dict(table.roles)
     fits = {}
-    for kind, spec in KINDS.items():
-        if kind == "crystal_spectrum":
-            spec, _ = crystal_layout(table, {})
+    for kind, obj in KINDS.items():
+        spec, _ = obj.layout_for(table, {})
         mapping = {spec.value if r == "value" else r: c for r, c in roles.items()}
         got = _fit(table, kind, spec, mapping)
         if got is not None:
@@ -171,7 +169,7 @@ def detect(path) -> DataFile:
     df.kind = kind
     df.layout = "hkl" if spec is CRYSTAL_HKL else ""
     for ukey in spec.units:
-        if ukey == "intensity":
+        if spec.units[ukey] is None:          # a free label (the intensity): asked below
             continue
         cols = [c for c, uk in spec.column_units.items() if uk == ukey and c in found
                 and c != "error"]
@@ -183,7 +181,7 @@ def detect(path) -> DataFile:
         df.units[ukey] = units.get(ukey)
     if df.layout == "hkl":
         df.units["wavevector"] = "rlu"
-    if kind.endswith("spectrum"):
+    if KINDS[kind].is_spectrum:
         df.units["intensity"] = units.get("intensity", "arb")
     return df
 
@@ -281,6 +279,7 @@ def write_case(paths, out, *, force: bool = False):
         ``out`` exists and ``force`` is false; a path that does not exist; no readable
         data file.
     """
+    from .data.kinds import KINDS
     out = Path(out)
     if out.exists() and not force:
         raise InputError("the case file already exists; use --force to replace it or --out "
@@ -296,7 +295,7 @@ def write_case(paths, out, *, force: bool = False):
                          + (f" ({skipped[0]})" if skipped else "")
                          + "; give delimited text or HDF5/NeXus data files")
     base = out.resolve().parent
-    spectra = [f for f in files if f.kind and f.kind.endswith("spectrum")]
+    spectra = [f for f in files if f.kind and KINDS[f.kind].is_spectrum]
     lines = ["# Case file written by `evidence1d init`. Fill in every TODO (search for TODO),",
              "# check the lines marked 'check:', then run: evidence1d check "
              + _q(out.name), f"title: {_q(base.name or 'case')}", "sample:",
@@ -317,8 +316,7 @@ def write_case(paths, out, *, force: bool = False):
         lines.append(f"  - name: {_name(df.path.stem, taken)}")
         if df.kind is None:
             lines.append(_line(f"    kind: {PLACEHOLDER}",
-                               f"TODO: {df.note}; one of crystal_spectrum, powder_spectrum, "
-                               "susceptibility, heat_capacity, entropy"))
+                               f"TODO: {df.note}; one of {', '.join(KINDS)}"))
             lines.append(f"    file: {_q(rel)}")
             continue
         lines.append(_line(f"    kind: {df.kind}", "check: detected from the column names"
@@ -328,12 +326,12 @@ def write_case(paths, out, *, force: bool = False):
             lines.append("    columns: {" + ", ".join(f"{k}: {_q(v)}"
                                                      for k, v in df.columns.items()) + "}")
         lines += _units_lines(df)
-        if df.kind.endswith("spectrum"):
+        if KINDS[df.kind].is_spectrum:
             lines.append(_line(f"    temperature: {PLACEHOLDER}",
                                "TODO: sample temperature in K"))
             lines.append(_line(f"    resolution: {{fwhm: {PLACEHOLDER}}}",
                                "TODO: energy-resolution FWHM c0 + c1 E + ... in meV: [c0, c1]"))
-        elif df.kind in ("susceptibility", "heat_capacity", "entropy"):
+        else:
             lines.append(_line("    # per: formula_unit", "if the values are per mole of "
                                "formula unit (then set sample.ions_per_formula_unit)"))
     lines += _models_lines()

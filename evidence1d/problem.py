@@ -380,14 +380,13 @@ def _linear_blocks(predictors, priors) -> list:
 
 
 def _make_family(cls, card, sample):
-    """Instantiate a family with the sample's spin (and spacings, if it takes them)."""
+    """Instantiate a family with the sample's spin and the options it takes from the sample
+    (:meth:`Family.sample_options`), the card's options over them."""
     import inspect
 
     from .errors import InputError
-    kwargs = dict(card.options)
+    kwargs = {**cls.sample_options(sample), **card.options}
     sig = inspect.signature(cls)
-    if "lattice" in sig.parameters and "lattice" not in kwargs:
-        kwargs["lattice"] = (sample.spin_spacing, sample.lattice["a"], sample.lattice["b"])
     unknown = [k for k in kwargs if k not in sig.parameters]
     if unknown:
         raise InputError(f"model card option '{unknown[0]}' is not an option of family "

@@ -178,7 +178,7 @@ def spacing_warnings(sample) -> list:
 def geometry_warnings(case) -> list:
     """Wavevector information that the prediction layer does not pass on to the families."""
     out = []
-    crystal = [ds for ds in case.datasets if ds.kind == "crystal_spectrum"]
+    crystal = [ds for ds in case.datasets if ds.spec.single_crystal]
     if not crystal or not case.models:
         return out
     problem = case.problem(next(iter(case.models)))
@@ -217,7 +217,7 @@ def case_warnings(case) -> list:
     with np.errstate(all="ignore"):          # absurd but accepted inputs must not crash
         out = spacing_warnings(case.sample) + geometry_warnings(case)
         for ds in case.datasets:
-            if ds.kind.endswith("spectrum"):
+            if ds.spec.is_spectrum:
                 out += resolution_warnings(ds)
                 out += energy_warnings(case, ds)
     return out

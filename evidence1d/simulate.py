@@ -17,7 +17,6 @@ from pathlib import Path
 
 import numpy as np
 
-from . import units as U
 from .errors import InputError, closest_key
 
 __all__ = ["NoiseModel", "simulate_case", "write_dataset", "NUISANCE_TRUTH_DEFAULTS"]
@@ -39,18 +38,20 @@ class NoiseModel:
     relative : float
         Thermodynamic data: relative error.
     floor : dict, optional
-        Thermodynamic data: absolute error floor per kind, in internal units
-        (emu/mol, J/(mol K)); default 1e-5 emu/mol, 1e-3 J/(mol K).
+        Thermodynamic data: absolute error floor per kind name, in internal units
+        (emu/mol, J/(mol K)); default the kind's ``noise_floor`` (1e-5 emu/mol,
+        1e-3 J/(mol K)).
     """
 
     exposure: float = 50.0
     relative: float = 0.01
     floor: dict | None = None
 
-    def thermo_floor(self, kind: str) -> float:
-        f = {"susceptibility": 1e-5, "heat_capacity": 1e-3, "entropy": 1e-3}
-        f.update(self.floor or {})
-        return f[kind]
+    def thermo_floor(self, kind) -> float:
+        """Absolute error floor (internal units) of a thermodynamic kind (object or name)."""
+        from .data import kind_named
+        kind = kind_named(getattr(kind, "name", kind))
+        return (self.floor or {}).get(kind.name, kind.noise_floor)
 
 
 def _truth_vector(problem, truth: dict) -> np.ndarray:
@@ -100,13 +101,13 @@ def simulate_case(case, model: str, truth: dict, noise: NoiseModel, rng) -> dict
         if not np.all(np.isfinite(mu)):
             raise InputError(f"the model gives non-finite values for dataset '{ds.name}' at "
                              "these parameters; check the truth")
-        if ds.kind.endswith("spectrum"):
+        if ds.spec.is_spectrum:
             lam = np.clip(mu, 0.0, None) * noise.exposure
             counts = rng.poisson(lam)
             y = counts / noise.exposure
             err = np.sqrt(np.maximum(counts, 1.0)) / noise.exposure
         else:
-            err = noise.relative * np.abs(mu) + noise.thermo_floor(ds.kind)
+            err = noise.relative * np.abs(mu) + noise.thermo_floor(ds.spec)
             y = mu + err * rng.standard_normal(mu.shape)
         out[ds.name] = (y, err)
     return out
@@ -127,18 +128,10 @@ def write_dataset(ds, y, err, path, *, note: str, fu_per_ion: float = 1.0) -> No
     fu_per_ion : float
         The sample's formula units per magnetic ion (for per-formula-unit data).
     """
-    from .data.kinds import KINDS
     from .data.table import parse_column_name
-    spec = KINDS[ds.kind]
+    spec = ds.spec
     fu = fu_per_ion if ds.options.get("per") == "formula_unit" else 1.0
-    if ds.kind == "susceptibility":
-        f = U.CHI_UNITS[ds.units["chi"]] * fu
-    elif ds.kind in ("heat_capacity", "entropy"):
-        f = U.HEAT_UNITS[ds.units["heat_capacity" if ds.kind == "heat_capacity" else "entropy"]] * fu
-    else:
-        f = 1.0
-    value_col = {"crystal_spectrum": "intensity", "powder_spectrum": "intensity",
-                 "susceptibility": "chi", "heat_capacity": "C", "entropy": "S"}[ds.kind]
+    value_col = spec.value
     # the value's unit goes into the header when the template's header carried it
     vunit = spec.column_units.get(value_col)
     tag = (f" ({ds.units[vunit]})" if vunit and parse_column_name(
@@ -147,10 +140,10 @@ def write_dataset(ds, y, err, path, *, note: str, fu_per_ion: float = 1.0) -> No
     for canon in (ds.columns or spec.columns):  # the columns the template file supplied
         if canon == value_col:
             header.append(canon + tag)
-            cols.append(y / f)
+            cols.append(spec.from_internal(y, ds.units, fu))
         elif canon == "error":
             header.append("error" + tag)
-            cols.append(err / f)
+            cols.append(spec.from_internal(err, ds.units, fu))
         else:  # the template's points as read (masked points left out), header as written
             header.append(ds.columns[canon])
             cols.append(ds.raw[canon])
@@ -223,14 +216,13 @@ def regenerate(case_path, model: str, truth: dict, grids: dict, *, seed: int,
     case_path = Path(case_path)
     spec = yaml.safe_load(case_path.read_text(encoding="utf-8"))
     base = case_path.parent
-    value_names = {"crystal_spectrum": "intensity", "powder_spectrum": "intensity",
-                   "susceptibility": "chi", "heat_capacity": "C", "entropy": "S"}
+    from .data import kind_named
     for block in spec["datasets"]:
         cols = grids[block["file"]]
         write_template(base / block["file"], cols)
         # the template's value column must carry the kind's name
         text = (base / block["file"]).read_text().replace(
-            "value, error", f"{value_names[block['kind']]}, error", 1)
+            "value, error", f"{kind_named(block['kind']).value}, error", 1)
         (base / block["file"]).write_text(text)
     case = load_case(case_path)
     rng = np.random.default_rng(seed)

@@ -37,7 +37,8 @@ import numpy as np
 
 from ..errors import InputError
 
-__all__ = ["Geometry", "make_geometry", "metric_tensor", "b_matrix", "AXES"]
+__all__ = ["Geometry", "make_geometry", "metric_tensor", "b_matrix", "AXES",
+           "crystal_wavevectors"]
 
 #: crystal axes by name, in the cycle that picks the next axis
 AXES = ("a", "b", "c")
@@ -325,3 +326,63 @@ def make_geometry(lattice: dict, chain=None, *, where: str = "sample") -> Geomet
     return Geometry(a=float(lattice["a"]), b=float(lattice["b"]), c=float(lattice["c"]),
                     alpha=ang["alpha"], beta=ang["beta"], gamma=ang["gamma"], chain=vec,
                     chain_label=label)
+
+
+def crystal_wavevectors(cols, units, geometry, block) -> dict:
+    """Q_par, Q_perp, Q_perp2 (Å⁻¹) of a crystal spectrum's points.
+
+    Miller indices go through the reciprocal lattice (:meth:`Geometry.components`);
+    ``q_par``/``q_perp`` in r.l.u. are L and H of the default geometry (2πL/c, 2πH/a, and
+    ``q_perp2`` 2πK/b); in Å⁻¹ they are the components themselves (``q_perp2`` 0 if absent).
+
+    Parameters
+    ----------
+    cols : dict of str to ndarray
+        ``H``, ``K``, ``L`` (r.l.u.) or ``q_par``, ``q_perp`` (and ``q_perp2``).
+    units : dict
+        The data's units (``wavevector``: ``rlu`` or ``1/A``).
+    geometry : Geometry
+    block : dict
+        The validated dataset block (``_where``, ``resolution.q_fwhm``).
+
+    Returns
+    -------
+    dict of str to ndarray
+
+    Raises
+    ------
+    InputError
+        Components in r.l.u., or a momentum resolution in r.l.u., for a cell that is not the
+        default one (chain along c, right angles).
+    """
+    where = block["_where"]
+    if "H" in cols:
+        qp, q1, q2 = geometry.components(cols["H"], cols["K"], cols["L"])
+        x = {"Q_par": qp, "Q_perp": q1, "Q_perp2": q2}
+    elif units["wavevector"] == "rlu":
+        if not geometry.is_default:
+            raise InputError("q_par and q_perp in r.l.u. are L and H of a cell with the chain "
+                             f"along c and right angles, but the sample has "
+                             f"{geometry.describe()}; give the wavevectors as columns H, K, L "
+                             "(r.l.u.) or as q_par, q_perp in 1/A",
+                             key=f"{where}.units.wavevector")
+        # Q along the chain (c axis) = 2π L / c; across (a axis) = 2π H / a
+        x = {"Q_par": 2.0 * math.pi * cols["q_par"] / geometry.c,
+             "Q_perp": 2.0 * math.pi * cols["q_perp"] / geometry.a}
+        x["Q_perp2"] = (2.0 * math.pi * cols["q_perp2"] / geometry.b if "q_perp2" in cols
+                        else np.zeros_like(x["Q_par"]))
+    else:
+        x = {"Q_par": cols["q_par"].copy(), "Q_perp": cols["q_perp"].copy(),
+             "Q_perp2": (cols["q_perp2"].copy() if "q_perp2" in cols
+                         else np.zeros_like(cols["q_par"]))}
+    qf = (block.get("resolution") or {}).get("q_fwhm")
+    if qf and units["wavevector"] == "rlu":
+        want = geometry.rlu_width_factors()
+        used = (2.0 * math.pi / geometry.c, 2.0 * math.pi / geometry.a)
+        if not np.allclose(want, used, rtol=1e-9):
+            raise InputError("resolution.q_fwhm in r.l.u. is converted with 2π/c along the "
+                             "chain and 2π/a across it, but for a sample with "
+                             f"{geometry.describe()} one r.l.u. is {want[0]:.4g} and "
+                             f"{want[1]:.4g} 1/A; give the data in 1/A (q_par, q_perp) or "
+                             "leave q_fwhm out", key=f"{where}.resolution.q_fwhm")
+    return x

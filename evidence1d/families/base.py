@@ -99,9 +99,13 @@ class Family:
     """Base class of a model family.
 
     Subclasses set :attr:`parameters` (the physical parameter names, in order, which must
-    match the model card) and implement the prediction methods for the dataset kinds they
-    support.  A method that is not overridden raises ``NotImplementedError`` and the case
-    loader reports that the family cannot explain that dataset kind.
+    match the model card), declare the dataset kinds they predict in :attr:`kinds` and
+    implement the method each of those kinds names
+    (:attr:`DatasetKind.family_method <evidence1d.data.kind_base.DatasetKind.family_method>`).
+    A card whose family declares an unknown kind, or a kind without its method, is rejected
+    when it loads (:meth:`declaration_problem`); a case pairing a family with data of a kind
+    it does not declare is rejected when it loads (:meth:`unsupported_message`).  A family
+    is built from the case's sample by :meth:`sample_options`.
 
     Parameters
     ----------
@@ -124,8 +128,62 @@ class Family:
     #: one-dimensional one (:func:`evidence1d.physics.powder.adaptive_chain_average`)
     chain_only: bool = False
 
+    #: names of the dataset kinds the family predicts (:data:`evidence1d.data.KINDS`)
+    kinds: tuple[str, ...] = ()
+
     def __init__(self, spin: float = 0.5):
         self.spin = float(spin)
+
+    @classmethod
+    def sample_options(cls, sample) -> dict:
+        """Constructor options the family takes from the case's sample besides its spin.
+
+        The card's (and the case file's) options override them.  The base family takes
+        none.
+
+        Parameters
+        ----------
+        sample : Sample
+            Spin, spin spacing d (Å) and lattice (a, b, c in Å).
+
+        Returns
+        -------
+        dict
+        """
+        return {}
+
+    @classmethod
+    def supports(cls, kind) -> bool:
+        """Whether the family predicts datasets of ``kind`` (a kind object or its name)."""
+        return getattr(kind, "name", kind) in cls.kinds
+
+    @classmethod
+    def unsupported_message(cls, kind, dataset: str) -> str:
+        """One line saying that the family does not predict dataset ``dataset`` of ``kind``."""
+        name = getattr(kind, "name", kind)
+        return (f"family {cls.__name__} does not predict {name} data (dataset '{dataset}'); "
+                f"it predicts {', '.join(cls.kinds) or 'no kind'}: remove the model or the "
+                "dataset")
+
+    @classmethod
+    def declaration_problem(cls) -> str | None:
+        """What is wrong with the family's declared :attr:`kinds`, in one line (None: fine).
+
+        Every declared kind must be a known dataset kind, and the family must implement the
+        method that kind needs (:attr:`DatasetKind.family_method`).
+        """
+        from ..data import KINDS
+        if not cls.kinds:
+            return f"family {cls.__name__} declares no dataset kinds (its 'kinds' attribute)"
+        for name in cls.kinds:
+            if name not in KINDS:
+                return (f"family {cls.__name__} declares dataset kind {name!r}, which is not "
+                        f"a kind; known kinds: {', '.join(KINDS)}")
+            method = KINDS[name].family_method
+            if getattr(cls, method, None) is getattr(Family, method):
+                return (f"family {cls.__name__} declares dataset kind {name!r} but does not "
+                        f"implement {method}(), which predicts it")
+        return None
 
     def spectrum(self, p: dict, pts: SpectralPoints) -> np.ndarray:
         """Resolution-convolved dynamical structure factor per magnetic ion.

@@ -62,6 +62,9 @@ class ParamagnonFamily(Family):
     parameters = ("chi_uniform", "theta_sf", "xi_par", "xi_perp", "gamma0", "g")
     _centers = ("zone_boundary", "zone_centre")
 
+    #: predicts both spectra and all three thermodynamic kinds
+    kinds = ("crystal_spectrum", "powder_spectrum", "susceptibility", "heat_capacity", "entropy")
+
     def __init__(self, spin: float = 0.5, center: str = "zone_boundary", lattice=None,
                  n_nodes: int = 12):
         super().__init__(spin)
@@ -87,6 +90,12 @@ class ParamagnonFamily(Family):
             raise InputError(f"the 'n_nodes' option of paramagnon must be a positive "
                              f"integer; got {n_nodes!r} instead")
         self.n_nodes = int(n_nodes)
+
+    @classmethod
+    def sample_options(cls, sample) -> dict:
+        """The spacings [d, a_perp, b_perp] (Å) of the sample: spin spacing along the chain
+        and the lattice constants a and b (the ``lattice`` option, unless a card gives it)."""
+        return {"lattice": (sample.spin_spacing, sample.lattice["a"], sample.lattice["b"])}
 
     @classmethod
     def _name(cls):

@@ -13,7 +13,9 @@ S_mag(T)     S(T) = S_model(T)                       (magnetic part alone)
 Nuisance parameters are named ``<dataset>:<what>`` (``map:scale``, ``map:background``,
 ``map:slope``, ``map:elastic``, ``<dataset>:inflate``); the sample-level extras are ``chi0``
 (emu/mol), ``c_imp`` (emu K/mol), ``gamma_e`` (J/(mol K²)) and ``beta_lattice``
-(J/(mol K⁴)), shared by all datasets of their kind.
+(J/(mol K⁴)), shared by all datasets of their kind.  The dataset's kind object
+(:attr:`Dataset.spec <evidence1d.data.kinds.Dataset.spec>`) names them, gives their default
+priors and the extras' terms; this layer does the arithmetic.
 
 References
 ----------
@@ -25,18 +27,11 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..data import Dataset
+from ..data import SAMPLE_EXTRAS, Dataset
+from ..errors import InputError
 from .base import Family, SpectralPoints
 
 __all__ = ["DatasetPredictor", "PowderAverage", "SAMPLE_EXTRAS"]
-
-#: sample-level extra parameters: name -> (unit, description, dataset kind that uses it)
-SAMPLE_EXTRAS = {
-    "chi0": ("emu/mol", "temperature-independent susceptibility χ₀", "susceptibility"),
-    "c_imp": ("emu K/mol", "Curie constant of free-spin impurities C_imp", "susceptibility"),
-    "gamma_e": ("J/(mol K^2)", "electronic heat-capacity coefficient γ_e", "heat_capacity"),
-    "beta_lattice": ("J/(mol K^4)", "lattice (Debye) T³ coefficient β", "heat_capacity"),
-}
 
 
 def _q_sigmas(dataset, sample) -> tuple[float, float]:
@@ -86,11 +81,6 @@ def _interchain(dataset, sample):
         ((Qp1 * R[1, 0] + Qp2 * R[1, 1]) / L2, L2), Q
 
 
-def _span(y):
-    lo, hi = np.percentile(y, [2.0, 98.0])
-    return float(max(hi - lo, 1e-12 * max(abs(hi), 1.0), 1e-300))
-
-
 class DatasetPredictor:
     """Predictions of one family for one dataset.
 
@@ -105,34 +95,36 @@ class DatasetPredictor:
 
     Attributes
     ----------
+    kind : DatasetKind
+        The dataset's kind object.
     nuisance : list of str
         Names of this dataset's own nuisance parameters.
     extras : list of str
         Names of the sample-level extras this dataset uses.
+
+    Raises
+    ------
+    InputError
+        If the family does not predict the dataset's kind.
     """
 
     def __init__(self, family: Family, dataset: Dataset, sample):
         self.family = family
         self.dataset = dataset
         self.sample = sample
+        self.kind = kind = dataset.spec
+        if not family.supports(kind):
+            raise InputError(family.unsupported_message(kind, dataset.name))
         opt = dataset.options
-        name = dataset.name
-        self.nuisance, self.extras = [], []
+        self.nuisance, self.extras = kind.nuisance_names(dataset.name, opt)
         self._powder = None
-        if dataset.kind in ("crystal_spectrum", "powder_spectrum"):
+        self._sigma = None
+        if kind.is_spectrum:
             from ..physics import neutron
-            self.nuisance.append(f"{name}:scale")
-            bkg = opt.get("background", "linear")
-            if bkg in ("flat", "linear"):
-                self.nuisance.append(f"{name}:background")
-            if bkg == "linear":
-                self.nuisance.append(f"{name}:slope")
-            if opt.get("elastic", False):
-                self.nuisance.append(f"{name}:elastic")
             E = dataset.x["energy"]
             self._sigma = neutron.resolution_sigma(E, opt["resolution"]["fwhm"])
             self._E = E
-            if dataset.kind == "crystal_spectrum":
+            if kind.single_crystal:
                 Q_par = dataset.x["Q_par"]
                 (Q_a, a_perp), (Q_b, b_perp), self._Q = _interchain(dataset, sample)
                 sq_par, sq_perp = _q_sigmas(dataset, sample)
@@ -149,18 +141,6 @@ class DatasetPredictor:
                                              float(opt["temperature"]), sample,
                                              opt.get("powder_average"))
             self._elastic_shape = neutron.elastic_line(E, self._sigma)
-        elif dataset.kind == "susceptibility":
-            if opt.get("chi0", True):
-                self.extras.append("chi0")
-            if opt.get("impurity", True):
-                self.extras.append("c_imp")
-        elif dataset.kind == "heat_capacity":
-            if opt.get("electronic", True):
-                self.extras.append("gamma_e")
-            if opt.get("lattice", True):
-                self.extras.append("beta_lattice")
-        if opt.get("inflate_errors", False):
-            self.nuisance.append(f"{name}:inflate")
 
     # ------------------------------------------------------------------ priors
     def default_priors(self) -> dict:
@@ -169,45 +149,15 @@ class DatasetPredictor:
         Returns
         -------
         dict of str to dict
-            Prior specs (``{kind: ..., ...}``). Scale: log-uniform over four decades around
-            the data's intensity span times the energy span (S(Q,E) is ~1/energy);
-            background: uniform over a band one span wide around the data; slope: ± span
-            per energy range; elastic: uniform [0, 10 span σ]; χ₀: uniform ± max|χ|;
-            C_imp: uniform [0, max χT]; γ_e: uniform [0, max C/T]; β: uniform
-            [0, max C/T³]; error inflation: log-uniform [1, 10].
+            Prior specs (``{kind: ..., ...}``), from
+            :meth:`DatasetKind.default_priors <evidence1d.data.kind_base.DatasetKind.default_priors>`.
+            Scale: log-uniform over four decades around the data's intensity span times the
+            energy span (S(Q,E) is ~1/energy); background: uniform over a band one span wide
+            around the data; slope: ± span per energy range; elastic: uniform
+            [0, 10 span σ]; χ₀: uniform ± max|χ|; C_imp: uniform [0, max χT]; γ_e: uniform
+            [0, max C/T]; β: uniform [0, max C/T³]; error inflation: log-uniform [1, 10].
         """
-        ds, out = self.dataset, {}
-        y = ds.y
-        if ds.kind in ("crystal_spectrum", "powder_spectrum"):
-            span = _span(y)
-            e_span = float(max(np.ptp(self._E), np.max(np.abs(self._E)), 1e-3))
-            s0 = span * e_span / 3.0
-            out[f"{ds.name}:scale"] = {"kind": "log_uniform", "lower": s0 / 100.0,
-                                       "upper": s0 * 100.0}
-            if f"{ds.name}:background" in self.nuisance:
-                lo = float(np.min(y))
-                out[f"{ds.name}:background"] = {"kind": "uniform", "lower": lo - span,
-                                                "upper": lo + span}
-            if f"{ds.name}:slope" in self.nuisance:
-                out[f"{ds.name}:slope"] = {"kind": "uniform", "lower": -span / e_span,
-                                           "upper": span / e_span}
-            if f"{ds.name}:elastic" in self.nuisance:
-                out[f"{ds.name}:elastic"] = {"kind": "uniform", "lower": 0.0,
-                                             "upper": 10.0 * span * float(np.max(self._sigma))}
-        T = ds.x.get("T")
-        if "chi0" in self.extras:
-            m = float(np.max(np.abs(y)))
-            out["chi0"] = {"kind": "uniform", "lower": -m, "upper": m}
-        if "c_imp" in self.extras:
-            out["c_imp"] = {"kind": "uniform", "lower": 0.0, "upper": float(np.max(y * T))}
-        if "gamma_e" in self.extras:
-            out["gamma_e"] = {"kind": "uniform", "lower": 0.0, "upper": float(np.max(y / T))}
-        if "beta_lattice" in self.extras:
-            out["beta_lattice"] = {"kind": "uniform", "lower": 0.0,
-                                   "upper": float(np.max(y / T ** 3))}
-        if f"{ds.name}:inflate" in self.nuisance:
-            out[f"{ds.name}:inflate"] = {"kind": "log_uniform", "lower": 1.0, "upper": 10.0}
-        return out
+        return self.kind.default_priors(self.dataset, self.nuisance, self.extras, self._sigma)
 
     # ------------------------------------------------------------------ linear parts
     @property
@@ -236,13 +186,12 @@ class DatasetPredictor:
         ds = self.dataset
         m = self.magnetic(p)
         n = m.shape[1]
-        if ds.kind in ("crystal_spectrum", "powder_spectrum"):
+        if self.kind.is_spectrum:
             column = {f"{ds.name}:scale": m, f"{ds.name}:background": np.ones(n),
                       f"{ds.name}:slope": self._E, f"{ds.name}:elastic": self._elastic_shape}
         else:
             T = ds.x["T"]
-            column = {"chi0": np.ones(n), "c_imp": 1.0 / T, "gamma_e": T,
-                      "beta_lattice": T ** 3}
+            column = {e.name: e.column(T) for e in self.kind.extras}
         zero = np.zeros((m.shape[0], 1))
         offset = self.predict({**p, **{nm: zero for nm in names}}, magnetic=m)
         return offset, [column[nm] for nm in names]
@@ -251,7 +200,7 @@ class DatasetPredictor:
     def magnetic(self, p: dict) -> np.ndarray:
         """The family's model part at the dataset's points (before nuisances), (k, n)."""
         ds, fam = self.dataset, self.family
-        if ds.kind in ("crystal_spectrum", "powder_spectrum"):
+        if self.kind.is_spectrum:
             from ..physics import neutron
             g = p.get("g", 2.0)
             if self._powder is not None:
@@ -263,12 +212,7 @@ class DatasetPredictor:
                 S = fam.spectrum(p, self._pts)
             F = neutron.magnetic_form_factor(self._Q, self.sample.ion, self.sample.charge, g)
             return F ** 2 * S
-        T = ds.x["T"]
-        if ds.kind == "susceptibility":
-            return fam.susceptibility(p, T, ds.options.get("field", "powder"))
-        if ds.kind == "heat_capacity":
-            return fam.heat_capacity(p, T)
-        return fam.entropy(p, T)
+        return self.kind.model_part(fam, p, ds.x["T"], ds.options)
 
     def predict(self, p: dict, magnetic: np.ndarray | None = None) -> np.ndarray:
         """Predicted values at the dataset's points, in the dataset's internal units.
@@ -286,7 +230,7 @@ class DatasetPredictor:
         """
         ds, name = self.dataset, self.dataset.name
         m = self.magnetic(p) if magnetic is None else magnetic
-        if ds.kind in ("crystal_spectrum", "powder_spectrum"):
+        if self.kind.is_spectrum:
             out = p[f"{name}:scale"] * m
             if f"{name}:background" in p:
                 out = out + p[f"{name}:background"]
@@ -296,18 +240,9 @@ class DatasetPredictor:
                 out = out + p[f"{name}:elastic"] * self._elastic_shape
             return out
         T = ds.x["T"]
-        if ds.kind == "susceptibility":
-            if "chi0" in p and "chi0" in self.extras:
-                m = m + p["chi0"]
-            if "c_imp" in p and "c_imp" in self.extras:
-                m = m + p["c_imp"] / T
-            return m
-        if ds.kind == "heat_capacity":
-            if "gamma_e" in self.extras:
-                m = m + p["gamma_e"] * T
-            if "beta_lattice" in self.extras:
-                m = m + p["beta_lattice"] * T ** 3
-            return m
+        for e in self.extras:
+            if e in p:
+                m = m + self.kind.extra(e).term(p[e], T)
         return m
 
 

@@ -64,6 +64,9 @@ class SpinWaveFamily(Family):
     spins = (0.5,)
     handles_q_resolution = True
 
+    #: predicts both spectra and all three thermodynamic kinds
+    kinds = ("crystal_spectrum", "powder_spectrum", "susceptibility", "heat_capacity", "entropy")
+
     def __init__(self, spin: float = 0.5, moment_axis=None, interchain=4,
                  thermo_method: str = "table"):
         super().__init__(spin)

@@ -67,6 +67,9 @@ class SpinonFamily(Family):
     #: the spectrum depends on Q only through the chain phase q = Q_∥ d
     chain_only = True
 
+    #: predicts both spectra and all three thermodynamic kinds
+    kinds = ("crystal_spectrum", "powder_spectrum", "susceptibility", "heat_capacity", "entropy")
+
     def __init__(self, spin: float = 0.5, line_shape: str = "exact"):
         super().__init__(spin)
         if line_shape not in LINE_SHAPES:

@@ -3,6 +3,7 @@ batch equals loop, picklable), run through the bundled model cards."""
 from __future__ import annotations
 
 import pickle
+from types import SimpleNamespace
 
 import numpy as np
 import pytest
@@ -25,11 +26,8 @@ def _points(n=40, T=3.0):
 def _family_and_params(name, k, seed=0):
     card = load_card(bundled_cards()[name])
     cls = FAMILY_CLASSES[card.family]
-    kwargs = dict(card.options)
-    import inspect
-    if "lattice" in inspect.signature(cls).parameters:
-        kwargs["lattice"] = (3.0, 7.0, 7.5)
-    fam = cls(spin=0.5, **kwargs)
+    sample = SimpleNamespace(spin=0.5, spin_spacing=3.0, lattice={"a": 7.0, "b": 7.5, "c": 6.0})
+    fam = cls(spin=0.5, **{**cls.sample_options(sample), **card.options})
     prior = JointPrior(list(card.parameters), [p["prior"] for p in card.parameters.values()])
     theta = prior.sample(np.random.default_rng(seed), k)
     return fam, prior.expand(theta)

@@ -12,6 +12,8 @@
 """
 from __future__ import annotations
 
+from types import SimpleNamespace
+
 import numpy as np
 import pytest
 
@@ -67,11 +69,8 @@ def test_nuisance_priors_identical_across_families():
 def _family(name):
     card = CARDS[name]
     cls = FAMILY_CLASSES[card.family]
-    kwargs = dict(card.options)
-    import inspect
-    if "lattice" in inspect.signature(cls).parameters:
-        kwargs["lattice"] = (3.1, 7.4, 7.9)
-    return cls(spin=0.5, **kwargs), card
+    sample = SimpleNamespace(spin=0.5, spin_spacing=3.1, lattice={"a": 7.4, "b": 7.9, "c": 6.2})
+    return cls(spin=0.5, **{**cls.sample_options(sample), **card.options}), card
 
 
 PARAMS = {

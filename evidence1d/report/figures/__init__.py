@@ -23,6 +23,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from ...data.kinds import KINDS
 from .comparison import comparison_figure
 from .corner import corner_figure
 from .data import figure_data
@@ -61,7 +62,7 @@ def dataset_figures(block: dict, model_title: str, settings: dict, quick: bool =
     """
     titles = settings["titles"]
     out = []
-    if block["kind"] in ("crystal_spectrum", "powder_spectrum"):
+    if KINDS[block["kind"]].is_spectrum:
         if block["cuts"]:
             out.append(("predictive", cut_pages(block, model_title, quick, titles)))
         if block["map"] is not None:

@@ -15,17 +15,12 @@ from __future__ import annotations
 
 import numpy as np
 
+from ...data.kinds import KINDS
 from .spectra import draw_bands
 from .style import COLUMN_WIDTH, PALETTE, new_figure, no_offset, styled, title_lines
 
 __all__ = ["thermo_figure"]
 
-_T = "$T$ (K)"
-_LABELS = {"susceptibility": r"$\chi$ (emu mol$^{-1}$)",
-           "heat_capacity": r"$C$ (J mol$^{-1}$ K$^{-1}$)",
-           "entropy": r"$S_\mathrm{mag}$ (J mol$^{-1}$ K$^{-1}$)"}
-_INVERSE = r"$1/\chi$ (mol emu$^{-1}$)"
-_OVER_T = r"$C/T$ (J mol$^{-1}$ K$^{-2}$)"
 _PART_STYLE = {"magnetic": "--", "constant": "-.", "electronic": ":", "lattice": (0, (5, 1, 1, 1))}
 
 
@@ -61,7 +56,7 @@ def _residual(ax, x, r):
     ax.set_ylabel("residual (σ)")
 
 
-def _inverse(ax, b):
+def _inverse(ax, b, label):
     y, err = b["y"], b["err"]
     ok = y > 0
     with np.errstate(all="ignore"):
@@ -70,7 +65,7 @@ def _inverse(ax, b):
     draw_bands(ax, b["model_x"], inv_bands, label=False)
     ax.errorbar(b["x"][ok], 1.0 / y[ok], err[ok] / y[ok] ** 2, fmt="o", color=PALETTE["ink"],
                 ms=2.2, elinewidth=0.6, zorder=3)
-    ax.set_ylabel(_INVERSE)
+    ax.set_ylabel(label)
     finite = np.concatenate([1.0 / y[ok], inv_bands[2][np.isfinite(inv_bands[2])]])
     if finite.size:
         lo, hi = float(finite.min()), float(finite.max())
@@ -78,7 +73,16 @@ def _inverse(ax, b):
         ax.set_ylim(min(0.0, lo - pad) if lo > 0 and lo < 0.3 * hi else lo - pad, hi + pad)
 
 
-def _entropy(ax, ent, kind_block=None):
+def _over_t(ax, b, label):
+    x, mx = b["x"], b["model_x"]
+    draw_bands(ax, mx, b["bands"] / mx, label=False)
+    ax.errorbar(x, b["y"] / x, b["err"] / x, fmt="o", color=PALETTE["ink"], ms=2.2,
+                elinewidth=0.6, zorder=3)
+    _parts(ax, mx, [(a, None, y) for a, _, y in b["parts"]], divide=mx)
+    ax.set_ylabel(label)
+
+
+def _entropy(ax, ent):
     draw_bands(ax, ent["model_x"], ent["bands"], label=False)
     if ent.get("x") is not None:
         ax.errorbar(ent["x"], ent["y"], ent["err"], fmt="s", color=PALETTE["ink"], ms=2.0,
@@ -86,7 +90,7 @@ def _entropy(ax, ent, kind_block=None):
                     label=r"data $\int C_\mathrm{mag}/T\,dT$")
     ax.axhline(ent["ceiling"], color=PALETTE["prior"], ls="--", lw=0.8,
                label=ent["ceiling_label"])
-    ax.set_ylabel(_LABELS["entropy"])
+    ax.set_ylabel(KINDS["entropy"].value_label)
     top = max(ent["ceiling"], float(np.nanmax(ent["bands"][4])),
               float(np.nanmax(ent["y"] + ent["err"])) if ent.get("x") is not None else 0.0)
     ax.set_ylim(0.0, 1.08 * top)
@@ -118,10 +122,10 @@ def thermo_figure(block: dict, model_title: str, quick: bool = False, titles: bo
     ----------
     .. [1] Kittel (2005), Ch. 5 and 14.
     """
-    kind = block["kind"]
+    kind = KINDS[block["kind"]]
     ent = block.get("entropy")
-    rows = {"susceptibility": (3, 2.2, 1.1), "heat_capacity": (3, 2.2, 1.1) +
-            ((2.4,) if ent else ()), "entropy": (3, 1.1)}[kind]
+    derived = kind.derived_panel
+    rows = (3,) + ((2.2,) if derived else ()) + (1.1,) + ((2.4,) if ent else ())
     height = 0.62 * sum(rows) + 0.9
     fig, body = new_figure(COLUMN_WIDTH, height, quick=quick)
     axes = body.subplots(len(rows), 1, sharex=True, gridspec_kw={"height_ratios": rows,
@@ -131,23 +135,16 @@ def thermo_figure(block: dict, model_title: str, quick: bool = False, titles: bo
     draw_bands(ax, mx, block["bands"])
     _data(ax, x, block["y"], block["err"])
     _parts(ax, mx, block["parts"])
-    ax.set_ylabel(_LABELS[kind])
-    if kind == "entropy" and "ceiling" in block:
+    ax.set_ylabel(kind.value_label)
+    if kind.free_spin_ceiling and "ceiling" in block:
         ax.axhline(block["ceiling"], color=PALETTE["prior"], ls="--", lw=0.8,
                    label=block["ceiling_label"])
         top = max(block["ceiling"], float(np.nanmax(block["bands"][4])),
                   float(np.nanmax(block["y"] + block["err"])))
         ax.set_ylim(min(0.0, float(np.nanmin(block["y"] - block["err"]))), 1.08 * top)
     k = 1
-    if kind == "susceptibility":
-        _inverse(axes[k], block)
-        k += 1
-    elif kind == "heat_capacity":
-        draw_bands(axes[k], mx, block["bands"] / mx, label=False)
-        axes[k].errorbar(x, block["y"] / x, block["err"] / x, fmt="o", color=PALETTE["ink"],
-                         ms=2.2, elinewidth=0.6, zorder=3)
-        _parts(axes[k], mx, [(a, None, y) for a, _, y in block["parts"]], divide=mx)
-        axes[k].set_ylabel(_OVER_T)
+    if derived:
+        {"inverse": _inverse, "over_T": _over_t}[derived[0]](axes[k], block, derived[1])
         k += 1
     _residual(axes[k], x, block["residual"])
     k += 1
@@ -158,7 +155,7 @@ def thermo_figure(block: dict, model_title: str, quick: bool = False, titles: bo
             _log_axis(a)
         no_offset(a)
         a.label_outer()
-    axes[-1].set_xlabel(_T)
+    axes[-1].set_xlabel(kind.x_label)
     handles, labels = [], []
     for a in axes:
         for h, lab in zip(*a.get_legend_handles_labels()):

@@ -1,0 +1,184 @@
+"""Neutron-spectrum dataset kinds: a single-crystal spectrum and a powder spectrum.
+
+I(Q, E) = s |F(Q)|² S(Q, E) + b₀ + b₁ E + e G(E; σ): the kinds own the nuisances s, b₀, b₁,
+e (names, default priors, units) and how a file's columns become energies (meV) and
+wavevectors (Å⁻¹).
+
+References
+----------
+G. L. Squires, *Introduction to the Theory of Thermal Neutron Scattering* (CUP, 1978), Ch. 7
+(magnetic cross-section).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .. import units as U
+from ..errors import InputError
+from .columns import known_names
+from .geometry import crystal_wavevectors, make_geometry
+from .kind_base import ColumnLayout, DatasetKind
+
+__all__ = ["SpectrumKind", "CrystalSpectrumKind", "PowderSpectrumKind", "CRYSTAL_HKL",
+           "CRYSTAL_SPECTRUM", "POWDER_SPECTRUM"]
+
+
+def _energy_lines(opt_background: str) -> list:
+    """Background nuisances of a spectrum: b₀ for ``flat``, b₀ + b₁ E for ``linear``."""
+    return {"flat": ["background"], "linear": ["background", "slope"]}.get(opt_background, [])
+
+
+def _span(y) -> float:
+    lo, hi = np.percentile(y, [2.0, 98.0])
+    return float(max(hi - lo, 1e-12 * max(abs(hi), 1.0), 1e-300))
+
+
+@dataclass(frozen=True, eq=False, repr=False, kw_only=True)
+class SpectrumKind(DatasetKind):
+    """A neutron spectrum: I(Q, E) = s |F(Q)|² S(Q, E) + b₀ + b₁ E + e G(E; σ).
+
+    Squires (1978), Ch. 7: the magnetic cross-section; s the intensity scale, b₀ + b₁ E the
+    background (``background: flat | linear | none``), e the elastic-line area
+    (``elastic: true``).
+    """
+
+    def own_nuisances(self, options: dict) -> list:
+        out = ["scale"] + _energy_lines(options.get("background", "linear"))
+        if options.get("elastic", False):
+            out.append("elastic")
+        return out
+
+    def own_priors(self, dataset, nuisance, sigma) -> dict:
+        """Scale: log-uniform over four decades around the intensity span times the energy
+        span / 3 (S(Q, E) ~ 1/energy); background: uniform one span around the lowest
+        value; slope: ± span per energy range; elastic: uniform [0, 10 span max σ]."""
+        out, name, y = {}, dataset.name, dataset.y
+        E = dataset.x["energy"]
+        span = _span(y)
+        e_span = float(max(np.ptp(E), np.max(np.abs(E)), 1e-3))
+        s0 = span * e_span / 3.0
+        out[f"{name}:scale"] = {"kind": "log_uniform", "lower": s0 / 100.0,
+                                "upper": s0 * 100.0}
+        if f"{name}:background" in nuisance:
+            lo = float(np.min(y))
+            out[f"{name}:background"] = {"kind": "uniform", "lower": lo - span,
+                                         "upper": lo + span}
+        if f"{name}:slope" in nuisance:
+            out[f"{name}:slope"] = {"kind": "uniform", "lower": -span / e_span,
+                                    "upper": span / e_span}
+        if f"{name}:elastic" in nuisance:
+            out[f"{name}:elastic"] = {"kind": "uniform", "lower": 0.0,
+                                      "upper": 10.0 * span * float(np.max(sigma))}
+        return out
+
+    def nuisance_unit(self, short: str, units: dict) -> str:
+        lab = units.get("intensity", "arb")
+        return {"scale": f"{lab}·meV", "background": lab, "slope": f"{lab}/meV",
+                "elastic": f"{lab}·meV", "inflate": "1"}.get(short, "")
+
+    def read(self, cols, units, sample, block, loc) -> tuple:
+        if block.get("per", "magnetic_ion") == "formula_unit":
+            raise InputError("'per: formula_unit' applies to susceptibility, heat capacity and "
+                             "entropy; spectra are per magnetic ion",
+                             key=f"{block['_where']}.per")
+        x = {"energy": U.energy_to_mev(cols["energy"], units["energy"])}
+        x.update(self.wavevectors(cols, units, sample, block, loc))
+        return (x, self.to_internal(cols[self.value], units),
+                self.to_internal(cols["error"], units))
+
+    def wavevectors(self, cols, units, sample, block, loc) -> dict:
+        """The wavevector variables of the points in Å⁻¹."""
+        raise NotImplementedError
+
+
+@dataclass(frozen=True, eq=False, repr=False, kw_only=True)
+class CrystalSpectrumKind(SpectrumKind):
+    """A single-crystal spectrum: wavevectors as Miller indices H, K, L (r.l.u.,
+    :data:`CRYSTAL_HKL`) or as components q_par, q_perp (and q_perp2)."""
+
+    #: the Miller-index layout of the same kind
+    hkl: ColumnLayout = None
+
+    def layout_for(self, table, block) -> tuple:
+        """Miller indices H, K, L when the dataset maps any of them or the file has columns
+        named H, K and L; else the components q_par, q_perp (and q_perp2)."""
+        mapping = dict(block.get("columns") or {})
+        hkl = {k: k.upper() for k in mapping if str(k).lower() in ("h", "k", "l")}
+        mapping = {hkl.get(k, k): v for k, v in mapping.items()}
+        bare = {table.names.get(c, c).lower() for c in table.columns}
+        comp = any(k in mapping for k in ("q_par", "q_perp", "q_perp2"))
+        use_hkl = bool(hkl) or (not comp and {"h", "k", "l"} <= bare)
+        return (self.hkl if use_hkl else self), mapping
+
+    def known_names(self, overrides=None) -> set:
+        return known_names(self, overrides) | known_names(self.hkl)
+
+    def check_units(self, layout, units: dict, where: str) -> None:
+        """Miller indices are in r.l.u.: any other declared wavevector unit is an error."""
+        if layout is self.hkl:
+            if units.get("wavevector", "rlu") != "rlu":
+                raise InputError(f"columns H, K, L are Miller indices in r.l.u., but the "
+                                 f"wavevector unit is {units['wavevector']}; declare rlu or "
+                                 "leave it out", key=f"{where}.units.wavevector")
+            units["wavevector"] = "rlu"
+
+    def wavevectors(self, cols, units, sample, block, loc) -> dict:
+        geometry = getattr(sample, "geometry", None)
+        if geometry is None:
+            geometry = make_geometry(sample.lattice)
+        return crystal_wavevectors(cols, units, geometry, block)
+
+
+@dataclass(frozen=True, eq=False, repr=False, kw_only=True)
+class PowderSpectrumKind(SpectrumKind):
+    """A powder spectrum: |Q| (Å⁻¹) and energy."""
+
+    def wavevectors(self, cols, units, sample, block, loc) -> dict:
+        if np.any(cols["Q"] < 0):
+            i = int(np.flatnonzero(cols["Q"] < 0)[0])
+            raise InputError("|Q| must be >= 0", **loc(i, "Q"))
+        return {"Q": cols["Q"].copy()}
+
+
+
+# ---------------------------------------------------------------------- the two kinds
+_ENERGY = ("energy", "e", "en", "omega", "w", "hw", "energy_transfer", "deltae", "de_transfer")
+_INTENSITY = ("intensity", "i", "counts", "s", "sqw", "signal")
+_CRYSTAL_ERROR = ("error", "di", "err", "sigma", "dintensity")
+_ENERGY_LABEL = r"$\hbar\omega$ (meV)"
+
+#: a crystal spectrum whose wavevectors are Miller indices H, K, L (r.l.u.)
+CRYSTAL_HKL = ColumnLayout(
+    columns={"H": ("h",), "K": ("k",), "L": ("l",), "energy": _ENERGY,
+             "intensity": _INTENSITY, "error": _CRYSTAL_ERROR},
+    units={"energy": U.ENERGY_UNITS, "wavevector": U.WAVEVECTOR_UNITS, "intensity": None},
+    min_points=10, description="single-crystal neutron spectrum with H, K, L",
+    value="intensity",
+    column_units={"H": "wavevector", "K": "wavevector", "L": "wavevector", "energy": "energy",
+                  "intensity": "intensity", "error": "intensity"})
+
+CRYSTAL_SPECTRUM = CrystalSpectrumKind(
+    name="crystal_spectrum", is_spectrum=True, family_method="spectrum",
+    value_unit="intensity", value_label="$I$", x_label=_ENERGY_LABEL, hkl=CRYSTAL_HKL,
+    columns={"q_par": ("q_par", "qpar", "q_l", "ql", "l"),
+             "q_perp": ("q_perp", "qperp", "q_h", "qh", "h"),
+             "q_perp2": ("q_perp2", "qperp2"),
+             "energy": _ENERGY, "intensity": _INTENSITY, "error": _CRYSTAL_ERROR},
+    units={"energy": U.ENERGY_UNITS, "wavevector": U.WAVEVECTOR_UNITS, "intensity": None},
+    min_points=10, description="single-crystal neutron spectrum (cuts or maps)",
+    value="intensity",
+    column_units={"q_par": "wavevector", "q_perp": "wavevector", "q_perp2": "wavevector",
+                  "energy": "energy", "intensity": "intensity", "error": "intensity"},
+    optional=("q_perp2",))
+
+POWDER_SPECTRUM = PowderSpectrumKind(
+    name="powder_spectrum", is_spectrum=True, family_method="spectrum", powder=True,
+    value_unit="intensity", value_label="$I$", x_label=_ENERGY_LABEL,
+    columns={"Q": ("q", "|q|", "qmod", "q_abs", "modq", "absq"), "energy": _ENERGY,
+             "intensity": _INTENSITY, "error": ("error", "di", "err", "sigma", "dintensity")},
+    units={"energy": U.ENERGY_UNITS, "wavevector": ("1/A",), "intensity": None},
+    min_points=10, description="powder neutron spectrum", value="intensity",
+    column_units={"Q": "wavevector", "energy": "energy", "intensity": "intensity",
+                  "error": "intensity"})
