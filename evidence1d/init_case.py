@@ -19,7 +19,6 @@ from pathlib import Path
 
 import numpy as np
 
-from . import units as U
 from .errors import InputError
 
 __all__ = ["PLACEHOLDER", "DataFile", "detect", "write_case", "find_placeholders",
@@ -30,9 +29,14 @@ PLACEHOLDER = "TODO"
 #: files taken from a folder given to ``init``
 DATA_SUFFIXES = (".csv", ".txt", ".dat", ".tsv", ".xy", ".nxs", ".nx5", ".h5", ".hdf5")
 
-_UNIT_CHOICES = {"energy": tuple(U.ENERGY_UNITS), "wavevector": U.WAVEVECTOR_UNITS,
-                 "temperature": tuple(U.TEMPERATURE_UNITS), "chi": tuple(U.CHI_UNITS),
-                 "heat_capacity": tuple(U.HEAT_UNITS), "entropy": tuple(U.ENTROPY_UNITS)}
+
+def _unit_choices(ukey: str) -> tuple:
+    """The units some dataset kind accepts for the unit key ``ukey``, in the kinds' order."""
+    from .data.kinds import KINDS
+    out = []
+    for kind in KINDS.values():
+        out += [u for u in (kind.units.get(ukey) or ()) if u not in out]
+    return tuple(out)
 
 
 @dataclass
@@ -105,7 +109,7 @@ def _by_header_units(table):
             continue
         for kind in thermo:
             try:
-                normalise_unit(raw, _UNIT_CHOICES[kind.value_unit], kind.value_unit)
+                normalise_unit(raw, _unit_choices(kind.value_unit), kind.value_unit)
             except InputError:
                 continue
             hits.setdefault(col, []).append(kind.name)
@@ -235,7 +239,7 @@ def _units_lines(df) -> list:
             rng = df.ranges.get(ukey)
             seen = f"; values {rng[0]:.4g} to {rng[1]:.4g}" if rng else ""
             lines.append(_line(f"      {ukey}: {PLACEHOLDER}",
-                               f"TODO: one of {', '.join(_UNIT_CHOICES[ukey])}{seen}"))
+                               f"TODO: one of {', '.join(_unit_choices(ukey))}{seen}"))
     return lines
 
 
