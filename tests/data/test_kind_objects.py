@@ -329,3 +329,18 @@ def test_families_are_built_from_the_sample():
     assert para.sample_options(sample) == {"lattice": (3.0, 7.0, 7.5)}
     assert FAMILY_CLASSES["spinon_continuum"].sample_options(sample) == {}
     assert FAMILY_CLASSES["gapped_spin_wave"].sample_options(sample) == {}
+
+
+def test_the_prediction_layer_refuses_a_kind_the_family_does_not_declare(valid_case):
+    from evidence1d.case import load_case
+    from evidence1d.families.predict import DatasetPredictor
+    from evidence1d.families.spinon import SpinonFamily
+
+    class SpectraOnly(SpinonFamily):
+        kinds = ("crystal_spectrum",)
+
+    case = load_case(valid_case)
+    chi = next(ds for ds in case.datasets if ds.kind == "susceptibility")
+    DatasetPredictor(SpinonFamily(), chi, case.sample)
+    with pytest.raises(InputError, match="does not predict susceptibility data"):
+        DatasetPredictor(SpectraOnly(), chi, case.sample)
