@@ -20,7 +20,7 @@ from scipy import constants as _c
 from .errors import InputError
 
 __all__ = [
-    "K_B_MEV", "MU_B_MEV_PER_T", "N_A", "R_GAS", "MEV_PER_THZ", "MEV_PER_CM1",
+    "K_B_MEV", "N_A", "R_GAS", "MEV_PER_THZ", "MEV_PER_CM1",
     "CURIE_PREFACTOR", "ENERGY_UNITS", "CHI_UNITS", "HEAT_UNITS", "ENTROPY_UNITS",
     "TEMPERATURE_UNITS", "WAVEVECTOR_UNITS",
     "energy_to_mev", "chi_to_emu_per_mol", "heat_to_j_per_mol_k", "temperature_to_k",
@@ -29,8 +29,6 @@ __all__ = [
 
 #: Boltzmann constant in meV/K.
 K_B_MEV = _c.k / _c.e * 1e3
-#: Bohr magneton in meV/T.
-MU_B_MEV_PER_T = _c.physical_constants["Bohr magneton in eV/T"][0] * 1e3
 #: Avogadro constant in 1/mol.
 N_A = _c.N_A
 #: Molar gas constant in J/(mol K).

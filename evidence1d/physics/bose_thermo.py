@@ -47,11 +47,9 @@ import numpy as np
 from ..errors import InputError
 from ..units import K_B_MEV
 from . import magnon
-from .spin_wave_table import (  # noqa: F401  (_spline_matrix, _basis: re-exported)
-    TABLE_PATH, _basis, _spline_matrix, log_zone_averages, spin_wave_table)
+from .spin_wave_table import log_zone_averages, spin_wave_table
 
-__all__ = ["zone_nodes", "magnon_gas", "log_zone_averages", "spin_wave_table", "METHODS",
-           "TABLE_PATH", "N_GRID", "N_BINS"]
+__all__ = ["zone_nodes", "magnon_gas", "METHODS", "N_GRID", "N_BINS"]
 
 #: default number of quadrature nodes per phase
 N_GRID = 24

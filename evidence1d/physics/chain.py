@@ -65,25 +65,39 @@ from __future__ import annotations
 
 import numpy as np
 
-from .chain_ground_state import (_E0_ERROR, _E0_GRID, _as_params, _e0_spline,  # noqa: F401
-                                 _ground_state_energy_fast, continuum_first_moment,
-                                 first_moment, first_moment_components,
-                                 nearest_neighbour_correlators, sheet_moments,
-                                 xxz_ground_state_energy)
+from .chain_ground_state import (_as_params, continuum_first_moment, first_moment,
+                                 first_moment_components, nearest_neighbour_correlators,
+                                 sheet_moments, xxz_ground_state_energy)
 
 __all__ = ["spinon_bounds", "spinon_gap", "xxz_ground_state_energy", "first_moment",
            "first_moment_components", "nearest_neighbour_correlators",
            "continuum_first_moment", "sheet_moments", "two_spinon_sheets", "muller_edges",
-           "muller_amplitude", "muller_density", "muller_cumulative", "spinon_spectrum",
-           "OMEGA_FLOOR"]
+           "muller_amplitude", "muller_density", "muller_cumulative", "all_sheets",
+           "reduced_phase", "OMEGA_FLOOR"]
 
 #: Floor of the line-shape lower edge, as a fraction of the upper edge ω_T.
 OMEGA_FLOOR = 1e-3
 
 
 # ------------------------------------------------------------------ helpers and checks
-def _reduced_phase(q):
-    """Map any real chain phase onto [0, π] using 2π periodicity and q → −q."""
+def reduced_phase(q):
+    """Map any real chain phase onto [0, π] using 2π periodicity and q → −q.
+
+    Parameters
+    ----------
+    q : array_like
+        Chain phase q = Q_∥ d in radians.
+
+    Returns
+    -------
+    ndarray
+        |q| folded into [0, π] (rad), same shape; the two-spinon continuum of the chain
+        H = J Σ [S^x S^x + S^y S^y + Δ S^z S^z] is 2π-periodic and even in q.
+
+    References
+    ----------
+    Müller et al., Phys. Rev. B 24, 1429 (1981) (the symmetry of the continuum).
+    """
     q = np.asarray(q, dtype=float)
     return np.abs(np.remainder(q + np.pi, 2.0 * np.pi) - np.pi)
 
@@ -132,7 +146,7 @@ def _ising_parameters(delta):
 def _edges(q, J, delta):
     """Exact lower/upper continuum edges and the principal upper edge, all (n_sets, n)."""
     J, delta = _as_params(J, delta)
-    qr = _reduced_phase(q)
+    qr = reduced_phase(q)
     # gapless regime, Δ = cos γ (des Cloizeaux & Pearson 1962; des Cloizeaux & Gaudin 1966)
     gamma = np.arccos(np.clip(delta, -1.0, 1.0))
     v = J * np.sinc(gamma / np.pi)                     # J sin γ / γ, → J at Δ = 1
@@ -259,9 +273,34 @@ def _muller(q, J, delta):
     return _sheet(wl, top, m_p)
 
 
-def _all_sheets(q, J, delta):
-    """Principal sheet (ω_L, ω_T, A, weight), π-shifted sheet (ω_L, b, A_s, weight) and the
-    bottom line (a, weight W), each (n_sets, n)."""
+def all_sheets(q, J, delta):
+    """The parts of the model spectrum at T = 0, as tuples of arrays.
+
+    H = J Σ [S^x S^x + S^y S^y + Δ S^z S^z], J > 0.  The pieces of
+    :func:`two_spinon_sheets`, in the form the convolution of
+    :mod:`evidence1d.physics.chain_spectrum` uses.
+
+    Parameters
+    ----------
+    q : array_like, shape (n,)
+        Chain phase in radians.
+    J, delta : array_like, shape (n_sets, 1)
+        Exchange in meV and anisotropy Δ.
+
+    Returns
+    -------
+    principal : tuple of ndarray (n_sets, n)
+        Floored lower edge ω_L and upper edge ω_T (meV), Müller amplitude A, total weight.
+    shifted : tuple of ndarray (n_sets, n)
+        The π-shifted sheet of Δ > 1: ω_L, its upper edge b (meV), amplitude, weight.
+    line : tuple of ndarray (n_sets, n)
+        The line at the continuum bottom below q_κ (Δ > 1): energy a (meV), weight W.
+
+    References
+    ----------
+    Müller et al., Phys. Rev. B 24, 1429 (1981); Bougourzi, Karbach & Müller, Phys. Rev. B
+    57, 11429 (1998) (the π-shifted sheet; from memory).
+    """
     wl, top, upper, m_p, m_s = _sheet_split(q, J, delta)
     shifted = _sheet(wl, upper, m_s)
     line = (delta > 1.0) & (top > 0) & (wl >= top)   # |q| < q_κ: principal sheet empty
@@ -306,7 +345,7 @@ def two_spinon_sheets(q, J, delta):
     Bougourzi, Karbach & Müller, Phys. Rev. B 57, 11429 (1998) and Caux, Mossel & Pérez
     Castillo, J. Stat. Mech. P08006 (2008) (the two sheets; from memory).
     """
-    (wl, top, A, total), (wl_s, b, A_s, total_s), (a, W) = _all_sheets(q, J, delta)
+    (wl, top, A, total), (wl_s, b, A_s, total_s), (a, W) = all_sheets(q, J, delta)
     return {"lower": np.where(wl > 0, wl, wl_s), "top": top, "A": A, "b": b,
             "A_shifted": A_s, "line_energy": a, "line_weight": W,
             "weight": total + total_s + W}
@@ -424,19 +463,11 @@ def muller_cumulative(q, omega, J, delta):
     return A * np.arccosh(np.maximum(ratio, 1.0))
 
 
-# ------------------------------------------------------- re-export of the spectrum module
-_SPECTRUM_NAMES = frozenset({
-    "spinon_spectrum", "_spectrum", "_side", "_smooth_side", "_hermite_block",
-    "_hermite_rule", "_legendre_rule", "_window_t", "_CHUNK", "_N_SIGMA", "_N_HERMITE"})
-
-
 def __getattr__(name):
-    """Names of :mod:`evidence1d.physics.chain_spectrum` (the convolved spectrum), re-exported.
-
-    Imported on first access (PEP 562 module ``__getattr__``), so that
-    :mod:`~evidence1d.physics.chain_spectrum`, which imports this module, creates no cycle.
-    """
-    if name in _SPECTRUM_NAMES:
-        from . import chain_spectrum
-        return getattr(chain_spectrum, name)
+    """``spinon_spectrum`` under its old path: it is defined in
+    :mod:`evidence1d.physics.chain_spectrum`; remove this once every importer takes it
+    from there."""
+    if name == "spinon_spectrum":
+        from .chain_spectrum import spinon_spectrum
+        return spinon_spectrum
     raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

@@ -60,7 +60,7 @@ from scipy import integrate
 
 from .two_spinon import I_function
 
-__all__ = ["profile_constant", "profile_ratio", "exact_profile"]
+__all__ = ["profile_constant", "profile_ratio", "exact_profile", "ratio_fast"]
 
 #: the lower-edge enhancement is cut off at ω − ω_L ≈ c k_BT
 _C_EDGE = 1.0
@@ -221,8 +221,26 @@ def _ratio_y2(x, pp):
     return out
 
 
-def _ratio_fast(omega, wl, top, kT):
-    """R_T(ω) for |ω| ≤ ω_U and k_BT > 0 (the ``ratio`` of the thermal paths)."""
+def ratio_fast(omega, wl, top, kT):
+    """R_T(ω) of :func:`profile_ratio` for |ω| ≤ ω_U and k_BT > 0, without its checks.
+
+    The ``ratio`` the thermal convolution paths multiply into the density at their nodes.
+
+    Parameters
+    ----------
+    omega, wl, top, kT : ndarray
+        Energy transfer, floored lower edge ω_L, upper edge ω_U and k_BT, all in meV
+        (broadcastable; k_BT > 0).
+
+    Returns
+    -------
+    ndarray
+        R_T (dimensionless).
+
+    References
+    ----------
+    Karbach et al., Phys. Rev. B 55, 12510 (1997) (the exact two-spinon profile).
+    """
     return _ratio_nodes(omega, _pair_params(wl, top, kT))
 
 

@@ -37,17 +37,17 @@ import math
 
 import numpy as np
 
-from .chain_exact import (_pair_params, _ratio_fast, _ratio_xy, _ratio_y2, _rho_t, _t_of, _yc2,
-                          exact_profile)
+from .chain_exact import (_pair_params, _ratio_xy, _ratio_y2, _rho_t, _t_of, _yc2,
+                          exact_profile, ratio_fast)
 from .chain_thermal import thermal_density
 from .neutron import gauss_hermite
 
-__all__ = ["t_side", "convolve_zero", "signed_side"]
+__all__ = ["t_side", "convolve_zero", "signed_side", "TOP_CLEAR"]
 
 _N_SIGMA = 6.0
 #: Gauss–Hermite paths need the upper edge this many σ beyond the window centre (measured:
 #: < 5e-6 of the peak at 4σ for every Hermite tier of the thermal paths)
-_TOP_CLEAR = 4.5
+TOP_CLEAR = 4.5
 #: windows this many σ clear of ω_L are integrated in ω (Gauss–Legendre, u-rule at ω_U)
 _CLEAR = 2.0
 #: extent in t of the last lower-edge sub-panels beyond t₁
@@ -206,7 +206,7 @@ def _omega_window(Es, s, wl, top, kT, lo, hi, frac, sign, thermal, n_nodes):
         if sign < 0:
             f *= np.exp(-om / kT)
     if np.all(kT > 0):
-        f *= _ratio_fast(om, wl, top, kT)
+        f *= ratio_fast(om, wl, top, kT)
     else:
         x /= vmax2
         omx /= vmax2
@@ -289,7 +289,7 @@ def convolve_zero(E, s, wl, top, A, n_nodes=6, n_panels=3, smooth=True):
     lo = E - _N_SIGMA * s
     active = valid & (top > lo) & (E + _N_SIGMA * s > wl)
     if smooth:
-        easy = active & (lo >= wl) & (E + _TOP_CLEAR * s <= top)
+        easy = active & (lo >= wl) & (E + TOP_CLEAR * s <= top)
         ix = np.flatnonzero(easy)
         if ix.size:
             z, w = gauss_hermite(4)
@@ -365,7 +365,7 @@ def signed_side(E, s, wl, top, kT, n_nodes=7, n_panels=2, n_sigma=4.5):
                                                      ((n_p - 2) * n_nodes, j.size)),
                             w_last], axis=0)
         f = thermal_density(om, wlj, kTj)
-        f *= _ratio_fast(om, wlj, topj, kTj)
+        f *= ratio_fast(om, wlj, topj, kTj)
         g = Ej - om
         g /= sj
         g *= g

@@ -13,20 +13,15 @@ edge dressed by the finite-temperature conformal form and S = χ''(n + 1)/π on 
 holds exactly, S is finite at ω → 0 near q = π); the exact profile multiplies it by the
 thermal ratio R_T (even in ω).
 
-The T = 0 convolution of the Müller shape with the Gaussian resolution of width σ is done in the
-cumulative-weight variable W = A arccosh(ω/ω_L), ω = ω_L cosh t, in which the
-inverse-square-root edge becomes a constant density, so neither the edge nor the step at
-ω_T rings or loses weight, whatever the point spacing:
-
-* windows reaching the singular edge: Gauss–Legendre in t over panels of the ±6σ window
-  (or W tabulated over the window and convolved by
-  :func:`evidence1d.physics.neutron.convolve_cumulative`);
-* windows clear of the edge by 6σ (analytic density): a Gauss–Hermite rule, cut at ω_T
-  through the Hermite expansion of the density when the step lies within the window.
+The T = 0 convolution of the Müller shape with the Gaussian resolution is that of
+:mod:`evidence1d.physics.chain_muller_quadrature` (exact in the cumulative-weight
+variable, so neither the edge nor the step at ω_T rings or loses weight).
 
 At T > 0 :func:`evidence1d.physics.chain_thermal.convolve_thermal` takes over; on its edge
-path it calls the T = 0 edge path (:func:`_side`, with the Boltzmann factor on the gain
-side) and adds the thermal correction, so the spectrum tends to the T = 0 one as T → 0.
+path it calls the T = 0 edge path
+(:func:`~evidence1d.physics.chain_muller_quadrature.muller_edge_side`, with the Boltzmann
+factor on the gain side) and adds the thermal correction, so the spectrum tends to the
+T = 0 one as T → 0.
 
 Conventions (H = J Σ [S^x S^x + S^y S^y + Δ S^z S^z], J > 0, chain phase q in radians,
 energies in meV, batched (n_sets, 1) parameters against (n,) points) are those of
@@ -45,18 +40,16 @@ H. J. Schulz, Phys. Rev. B 34, 6372 (1986) (finite-temperature form; from memory
 """
 from __future__ import annotations
 
-import functools
 import math
 
 import numpy as np
-from scipy import special
 
 from ..errors import InputError
 from ..units import K_B_MEV
 from . import chain_exact, chain_exact_quadrature as cxq
-from .chain import _all_sheets, _reduced_phase
-from .chain_thermal import _HERMITE_TIERS, convolve_thermal, thermal_density
-from .neutron import convolve_cumulative, gauss_hermite
+from .chain import all_sheets, reduced_phase
+from .chain_muller_quadrature import N_SIGMA, muller_edge_side, muller_smooth_side
+from .chain_thermal import HERMITE_TIERS, convolve_thermal, thermal_density
 
 __all__ = ["spinon_spectrum", "spinon_density", "LINE_SHAPES"]
 
@@ -64,119 +57,7 @@ __all__ = ["spinon_spectrum", "spinon_density", "LINE_SHAPES"]
 #: (default) and the Müller ansatz
 LINE_SHAPES = ("exact", "muller")
 
-_CHUNK = 1024                       # pairs per block (temporaries stay in cache)
-_N_SIGMA = 6.0                      # resolution window ±6σ (tail weight 2e-9)
-_N_HERMITE = (4, 8)                 # nodes of the smooth rule: full Gaussian, cut at ω_T
-_HERMITE_MAX = _HERMITE_TIERS[-1][1]  # σ/k_BT up to which the thermal path is Gauss–Hermite
-
-
-@functools.lru_cache(maxsize=None)
-def _legendre_rule(n):
-    """Gauss–Legendre nodes and weights on [−1, 1], computed once per node count."""
-    x, w = np.polynomial.legendre.leggauss(n)
-    x.setflags(write=False)
-    w.setflags(write=False)
-    return x, w
-
-
-@functools.lru_cache(maxsize=None)
-def _hermite_rule(n):
-    """Gauss–Hermite nodes z_j, weights w_j (unit normal weight) and B_jk = w_j He_k(z_j)/k!.
-
-    a_k = Σ_j f(z_j) B_jk are the coefficients of the degree-(n − 1) interpolant
-    f ≈ Σ_k a_k He_k (discrete orthogonality of He_k under the n-node rule, exact for
-    degree < n; Abramowitz & Stegun 22.2.15, 25.4.46).
-    """
-    z, w = gauss_hermite(n)
-    he = np.polynomial.hermite_e.hermevander(z, n - 1)
-    B = w[:, None] * he / np.cumprod(np.r_[1.0, np.arange(1.0, n)])
-    for a in (z, w, B):
-        a.setflags(write=False)
-    return z, w, B
-
-
-def _hermite_block(c, sig, wl, b, n):
-    """∫_{−∞}^{b} φ(z) / √((c + σz)² − ω_L²) dz with the n-node rule of :func:`_hermite_rule`.
-
-    ``b`` None: the full Gaussian (plain Gauss–Hermite).  Otherwise the cut rule
-    Φ(b) a_0 − φ(b) Σ_{k≥1} a_k He_{k−1}(b), from ∫_{−∞}^{b} φ He_k = −φ(b) He_{k−1}(b)
-    (He_k' = k He_{k−1}; Abramowitz & Stegun 22.8.8).  Layout (node, pair).
-    """
-    z, w, B = _hermite_rule(n)
-    f = z[:, None] * sig                                     # (n, m): ω − c at the nodes
-    f += c
-    f = np.multiply(f - wl, f + wl, out=f)                   # ω² − ω_L²
-    f = np.reciprocal(np.sqrt(f, out=f), out=f)
-    if b is None:
-        return w @ f
-    a = B.T @ f                                              # Hermite coefficients a_k
-    he_prev, he = np.ones_like(b), b
-    tail = a[1] + a[2] * b                                   # Σ_{k≥1} a_k He_{k−1}(b)
-    for k in range(2, n - 1):                                # He_k(b) by recurrence
-        he_prev, he = he, b * he - (k - 1) * he_prev
-        tail += a[k + 1] * he
-    return (special.ndtr(b) * a[0]
-            - np.exp(-0.5 * b * b) * (tail / math.sqrt(2.0 * math.pi)))
-
-
-def _smooth_side(c, sig, wl, b, A):
-    """A ∫_{−∞}^{b} φ(z) / √((c + σz)² − ω_L²) dz for pairs with c − 6σ ≥ ω_L; flat arrays.
-
-    The density is analytic within 6σ of c, so a Gauss–Hermite rule suffices
-    (:func:`_hermite_block`): four nodes for b ≥ 6 (window clear of ω_T), else the cut
-    rule with eight nodes.  Measured against adaptive quadrature: < 2.5e-5 of the local
-    density at distance 6σ from ω_L, < 5e-6 beyond 9σ.
-    """
-    out = np.empty(c.size)
-    full = b >= _N_SIGMA
-    for n, sel in ((_N_HERMITE[0], full), (_N_HERMITE[1], ~full)):
-        ix = np.flatnonzero(sel)
-        for start in range(0, ix.size, _CHUNK):          # blocks that stay in cache
-            j = ix[start:start + _CHUNK]
-            out[j] = _hermite_block(c[j], sig[j], wl[j], None if n == _N_HERMITE[0]
-                                    else b[j], n)
-    return A * out
-
-
-def _window_t(wl, lo, hi):
-    return (np.arccosh(np.maximum(lo / wl, 1.0)), np.arccosh(np.maximum(hi / wl, 1.0)))
-
-
-def _side(Es, sig, wl, top, A, kT, boltz, method, n_nodes, n_panels):
-    """Convolve A/√(ω²−ω_L²) [× e^{−ω/kT}] with G_σ(Es − ω), flat arrays of active pairs."""
-    lo = np.maximum(wl, Es - _N_SIGMA * sig)
-    hi = np.minimum(top, Es + _N_SIGMA * sig)
-    if method == "cumulative":
-        ta, tb = _window_t(wl, lo, hi)
-        t = ta[:, None] + (tb - ta)[:, None] * np.linspace(0.0, 1.0, n_nodes)
-        om = wl[:, None] * np.cosh(t)
-        W = A[:, None] * t
-        if boltz:
-            dW = np.diff(W, axis=-1) * np.exp(-0.5 * (om[:, 1:] + om[:, :-1]) / kT[:, None])
-            W = np.concatenate([np.zeros_like(W[:, :1]), np.cumsum(dW, axis=-1)], axis=-1)
-        return convolve_cumulative(Es, sig, om, W)
-    x, w = _legendre_rule(n_nodes)
-    frac = np.linspace(0.0, 1.0, n_panels + 1)[:, None]
-    xw = x[:, None]
-    val = np.empty(Es.size)
-    for start in range(0, Es.size, _CHUNK):      # blocks that stay in cache
-        sl = slice(start, start + _CHUNK)        # layout (panel, node, pair)
-        wl_c, lo_c = wl[sl], lo[sl]
-        tb = np.arccosh(np.maximum((lo_c + (hi[sl] - lo_c) * frac) / wl_c, 1.0))  # (P+1, c)
-        half = 0.5 * (tb[1:] - tb[:-1])
-        t = (0.5 * (tb[1:] + tb[:-1]))[:, None, :] + half[:, None, :] * xw  # (P, m, c)
-        om = np.cosh(t, out=t)
-        om *= wl_c
-        z = Es[sl] - om
-        z /= sig[sl]
-        z *= z
-        z *= -0.5
-        if boltz:
-            om /= kT[sl]
-            z -= om
-        np.exp(z, out=z)
-        val[sl] = np.einsum("m,pmc,pc->c", w, z, half)
-    return A * val / (math.sqrt(2.0 * math.pi) * sig)
+_HERMITE_MAX = HERMITE_TIERS[-1][1]  # σ/k_BT up to which the thermal path is Gauss–Hermite
 
 
 def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth):
@@ -204,20 +85,20 @@ def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth):
     # σ ≲ k_BT: Gauss–Hermite on the signed axis unless the window nears ±ω_U (where the
     # profile vanishes as a square root; all such pairs on the reference path)
     kTa = np.full(Ef.size, float(kT))
-    six = _N_SIGMA * sf
+    six = N_SIGMA * sf
     narrow = ((A > 0) & (sf <= _HERMITE_MAX * kT) & (Ef - six < top) & (Ef + six > -top)
               & ((Ef + six > wl - 40.0 * kT) | (Ef - six < 40.0 * kT - wl)))
     if smooth:
-        narrow &= np.abs(Ef) + cxq._TOP_CLEAR * sf > top
+        narrow &= np.abs(Ef) + cxq.TOP_CLEAR * sf > top
     out = np.zeros(Ef.size)
     ix = np.flatnonzero(narrow)
     if ix.size:
-        rule = () if smooth else (n_nodes, max(n_panels, 2), _N_SIGMA)
+        rule = () if smooth else (n_nodes, max(n_panels, 2), N_SIGMA)
         out[ix] = A[ix] * cxq.signed_side(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
                                                   *rule)
     out += convolve_thermal(Ef, sf, wl, top, np.where(narrow, 0.0, A), kT, old_side,
                             "quadrature", n_nodes, n_panels, smooth,
-                            ratio=chain_exact._ratio_fast, top_side=top_side)
+                            ratio=chain_exact.ratio_fast, top_side=top_side)
     return out
 
 
@@ -227,8 +108,9 @@ def _convolve_sheet(Ef, sf, wl, top, A, kT, method, n_nodes, n_panels, smooth,
     A/√(ω² − ω_L²) (below), or the exact profile (:func:`_convolve_exact`).
 
     T = 0: pairs whose window is clear of the singular edge (lo = E − 6σ ≥ ω_L) take
-    :func:`_smooth_side`, the others :func:`_side`; with ``smooth=False`` every pair takes
-    :func:`_side` (the reference path).  T > 0:
+    :func:`~evidence1d.physics.chain_muller_quadrature.muller_smooth_side`, the others
+    :func:`~evidence1d.physics.chain_muller_quadrature.muller_edge_side`; with
+    ``smooth=False`` every pair takes the latter (the reference path).  T > 0:
     :func:`evidence1d.physics.chain_thermal.convolve_thermal`.
     """
     if line_shape == "exact":
@@ -239,22 +121,24 @@ def _convolve_sheet(Ef, sf, wl, top, A, kT, method, n_nodes, n_panels, smooth,
         return out
     if kT > 0:
         def old_side(Es, s, wl_, top_, A_, kTa, boltz):
-            return _side(Es, s, wl_, top_, A_, kTa, boltz, method, n_nodes, n_panels)
+            return muller_edge_side(Es, s, wl_, top_, A_, kTa, boltz, method, n_nodes,
+                                    n_panels)
         return convolve_thermal(Ef, sf, wl, top, A, kT, old_side, method, n_nodes, n_panels,
                                 smooth)
-    six = _N_SIGMA * sf
+    six = N_SIGMA * sf
     lo = Ef - six
     active = (top > lo) & (Ef + six > wl) & valid
     if smooth:
         easy = (lo >= wl) & (top > lo) & valid
         ix = np.flatnonzero(easy)
         if ix.size:
-            out[ix] += _smooth_side(Ef[ix], sf[ix], wl[ix], (top[ix] - Ef[ix]) / sf[ix], A[ix])
+            out[ix] += muller_smooth_side(Ef[ix], sf[ix], wl[ix], (top[ix] - Ef[ix]) / sf[ix],
+                                          A[ix])
         active &= ~easy
     ix = np.flatnonzero(active)
     if ix.size:
-        out[ix] += _side(Ef[ix], sf[ix], wl[ix], top[ix], A[ix], np.ones(ix.size), False,
-                         method, n_nodes, n_panels)
+        out[ix] += muller_edge_side(Ef[ix], sf[ix], wl[ix], top[ix], A[ix], np.ones(ix.size),
+                                    False, method, n_nodes, n_panels)
     return out
 
 
@@ -306,12 +190,12 @@ def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth,
     each convolved on flat arrays of the (parameter set, point) pairs; the line is
     W [(n(a) + 1) G_σ(E − a) + n(a) G_σ(E + a)].
     """
-    qr = _reduced_phase(q)
+    qr = reduced_phase(q)
     if qr.ndim == 1 and qr.size > 1:    # maps repeat each wavevector: edges once per q
         q_unique, inverse = np.unique(qr, return_inverse=True)
     else:
         q_unique, inverse = qr, None
-    (wl, top, A, _), (wl_s, b, A_s, _), (a, W) = _all_sheets(q_unique, J, delta)
+    (wl, top, A, _), (wl_s, b, A_s, _), (a, W) = all_sheets(q_unique, J, delta)
     parts = [wl, top, A, wl_s, b, A_s, a, W]
     if inverse is not None:
         parts = [np.take(p, inverse, axis=-1) for p in parts]
@@ -496,7 +380,7 @@ def spinon_density(q, omega, T, J, delta, *, line_shape="exact", thermal_edge="n
     T = _check_temperature(T)
     kT = K_B_MEV * T
     omega = np.asarray(omega, dtype=float)
-    (wl, top, A, _), (wl_s, b, A_s, _), _ = _all_sheets(q, J, delta)
+    (wl, top, A, _), (wl_s, b, A_s, _), _ = all_sheets(q, J, delta)
     out = 0.0
     for lo, hi, amp in ((wl, top, A), (wl_s, b, A_s)):
         ok = amp > 0

@@ -66,9 +66,9 @@ import math
 import numpy as np
 from scipy import special
 
-from .neutron import convolve_cumulative, gauss_hermite
+from .neutron import convolve_cumulative, hermite_expansion_rule
 
-__all__ = ["thermal_shape", "thermal_density", "convolve_thermal"]
+__all__ = ["thermal_shape", "thermal_density", "convolve_thermal", "HERMITE_TIERS"]
 
 _X_ASYM = 3.0           # |x| from which g comes from its asymptotic series
 _G_STEP = 2.5e-4        # table step of g(y) = |Γ(1/4 + iy)|² e^{πy} on 0 ≤ y ≤ _X_ASYM
@@ -80,7 +80,7 @@ _CHUNK = 4096
 _N_SIGMA = 6.0
 #: Gauss–Hermite nodes on the signed axis by σ/k_BT: error < 6e-5 of the peak (measured
 #: against adaptive quadrature over the default priors, tests)
-_HERMITE_TIERS = ((5, 0.4), (6, 0.5), (8, 0.7), (12, 1.0), (16, 1.25))
+HERMITE_TIERS = ((5, 0.4), (6, 0.5), (8, 0.7), (12, 1.0), (16, 1.25))
 #: with a ratio vanishing at ±ω_T, Gauss–Hermite needs the window centre this many σ inside
 _TOP_CLEAR = 4.5
 
@@ -218,14 +218,6 @@ def thermal_density(omega, wl, kT):
 
 
 # --------------------------------------------------------------------- convolution
-@functools.lru_cache(maxsize=None)
-def _hermite_rule(n):
-    z, w = gauss_hermite(n)
-    he = np.polynomial.hermite_e.hermevander(z, n - 1)
-    B = w[:, None] * he / np.cumprod(np.r_[1.0, np.arange(1.0, n)])
-    return z, w, B
-
-
 def _hermite_primitive(b, n):
     """∫_{−∞}^{b} φ(z) He_k(z) dz, k = 0..n−1 (A&S 22.8.8); b clipped to ±40. (n, m)."""
     b = np.clip(b, -40.0, 40.0)
@@ -242,7 +234,7 @@ def _hermite_primitive(b, n):
 def _signed_hermite(E, s, wl, top, kT, n, ratio=None):
     """∫ G_σ(E − ω) S_T(ω)/A dω over [−ω_T, ω_T] by an n-node Hermite rule (flat arrays);
     with ``ratio`` the density is multiplied by ratio(ω, ω_L, ω_T, k_BT) at the nodes."""
-    z, w, B = _hermite_rule(n)
+    z, w, B = hermite_expansion_rule(n)
     om = E[None, :] + s[None, :] * z[:, None]
     f = _density(om, wl[None, :], kT[None, :])
     if ratio is not None:
@@ -277,7 +269,7 @@ def _side_hermite(c, s, wl, top, kT, ratio=None):
         ix = np.flatnonzero(sel)
         if ix.size == 0:
             continue
-        z, w, B = _hermite_rule(n)
+        z, w, B = hermite_expansion_rule(n)
         om = c[ix][None, :] + s[ix][None, :] * z[:, None]
         f = thermal_density(om, wl[ix][None, :], kT[ix][None, :])
         if ratio is not None:
@@ -380,7 +372,7 @@ def convolve_thermal(E, s, wl, top, A, kT, old_side, method="quadrature", n_node
                      n_panels=3, smooth=True, ratio=None, top_side=None):
     """Resolution-convolved S_T(q, E) on flat arrays of (parameter set, point) pairs, T > 0.
 
-    Pairs with σ ≤ 1.25 k_BT: Gauss–Hermite on the signed axis (``_HERMITE_TIERS``).  Other
+    Pairs with σ ≤ 1.25 k_BT: Gauss–Hermite on the signed axis (``HERMITE_TIERS``).  Other
     pairs, per side: windows clear of ω_L + 8πk_BT (x₋ ≥ 2) by 6σ: Gauss–Hermite on
     S_T (shifted Gaussian on the gain side); the rest: ``old_side`` (the T = 0 edge path of
     :mod:`~evidence1d.physics.chain_spectrum`, Boltzmann factor on the gain side) plus
@@ -434,7 +426,7 @@ def convolve_thermal(E, s, wl, top, A, kT, old_side, method="quadrature", n_node
         r = s / kTa
         ok = live if ratio is None else live & (np.abs(E) + _TOP_CLEAR * s <= top)
         prev = 0.0
-        for n, r_max in _HERMITE_TIERS:
+        for n, r_max in HERMITE_TIERS:
             ix = np.flatnonzero(ok & (r > prev) & (r <= r_max))
             prev = r_max
             for start in range(0, ix.size, _CHUNK):

@@ -31,7 +31,7 @@ from ..units import K_B_MEV
 
 __all__ = [
     "magnetic_form_factor", "bose_energy_factor", "boltzmann_ratio", "fwhm_to_sigma",
-    "resolution_sigma", "gaussian", "convolve_modes", "gauss_hermite",
+    "resolution_sigma", "gaussian", "convolve_modes", "gauss_hermite", "hermite_expansion_rule",
     "convolve_cumulative", "powder_directions", "elastic_line", "SIGMA_FLOOR",
     "FWHM_PER_SIGMA",
 ]
@@ -43,7 +43,6 @@ FWHM_PER_SIGMA = 2.0 * math.sqrt(2.0 * math.log(2.0))
 SIGMA_FLOOR = 1e-6
 _EXP_MAX = 700.0            # exp(700) ~ 1e304 is still a finite double
 _SQRT_2PI = math.sqrt(2.0 * math.pi)
-_SQRT_HALF = math.sqrt(0.5)
 
 
 # --------------------------------------------------------------------------- form factor
@@ -378,6 +377,35 @@ def gauss_hermite(n_nodes: int):
                          f"got {n_nodes!r}")
     x, w = _gauss_hermite_cached(int(n_nodes))
     return x.copy(), w.copy()
+
+
+@functools.lru_cache(maxsize=None)
+def hermite_expansion_rule(n_nodes: int):
+    """Gauss–Hermite rule with the matrix of the Hermite expansion at its nodes: a_k =
+    Σ_j f(z_j) B_jk are the coefficients of the interpolant f ≈ Σ_{k<n} a_k He_k (discrete
+    orthogonality of He_k under the n-node rule), so ∫_{−∞}^{b} φ f follows from ∫ φ He_k.
+
+    Parameters
+    ----------
+    n_nodes : int
+        Number of nodes n (≥ 1).
+
+    Returns
+    -------
+    z, w, B : ndarray, shapes (n,), (n,), (n, n)
+        Nodes (units of σ) and weights of :func:`gauss_hermite`, B_jk = w_j He_k(z_j)/k!
+        (read-only).
+
+    References
+    ----------
+    Abramowitz & Stegun (1964), Eqs. 22.2.15 (orthogonality of He_k) and 25.4.46.
+    """
+    z, w = gauss_hermite(n_nodes)
+    he = np.polynomial.hermite_e.hermevander(z, n_nodes - 1)
+    B = w[:, None] * he / np.cumprod(np.r_[1.0, np.arange(1.0, n_nodes)])
+    for a in (z, w, B):
+        a.setflags(write=False)
+    return z, w, B
 
 
 def convolve_cumulative(E, sigma, omega_nodes, W_nodes) -> np.ndarray:

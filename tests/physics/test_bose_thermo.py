@@ -7,6 +7,7 @@ from scipy import integrate
 
 from evidence1d.errors import InputError
 from evidence1d.physics import bose_thermo as bt, magnon
+from evidence1d.physics import spin_wave_table as swt
 from evidence1d.units import K_B_MEV
 
 
@@ -204,9 +205,9 @@ def test_not_a_knot_spline_reproduces_cubics():
     n, h = 9, 0.5
     xk = np.arange(n) * h
     p = lambda x: 1.0 - 2.0 * x + 0.3 * x ** 2 - 0.7 * x ** 3        # noqa: E731
-    coef = bt._spline_matrix(n) @ p(xk)
+    coef = swt._spline_matrix(n) @ p(xk)
     u = np.linspace(0.0, n - 1.0, 37)
-    i, b, db = bt._basis(u, n)
+    i, b, db = swt._basis(u, n)
     val = np.sum(coef[i[:, None] + np.arange(4)] * b, axis=1)
     der = np.sum(coef[i[:, None] + np.arange(4)] * db, axis=1) / h
     np.testing.assert_allclose(val, p(u * h), rtol=1e-12, atol=1e-12)
@@ -217,10 +218,10 @@ def test_not_a_knot_spline_reproduces_cubics():
 def test_shipped_table_size_and_provenance():
     # The package ships the table with its build record (grid, run time); keep it small.
     import json
-    assert bt.TABLE_PATH.stat().st_size < 8e6           # two geometries
-    meta = json.loads(bt.TABLE_PATH.with_suffix(".json").read_text())
+    assert swt.TABLE_PATH.stat().st_size < 8e6           # two geometries
+    meta = json.loads(swt.TABLE_PATH.with_suffix(".json").read_text())
     assert meta["run_time_s"] > 0 and meta["grid"]["z_perp"] == [2, 4]
-    assert bt.spin_wave_table().z_perp == (2, 4)
+    assert swt.spin_wave_table().z_perp == (2, 4)
 
 
 @settings(max_examples=40, deadline=None)

@@ -12,7 +12,7 @@ from scipy import integrate, special
 from evidence1d.errors import InputError
 from evidence1d.families.base import SpectralPoints
 from evidence1d.families.spinon import SpinonFamily
-from evidence1d.physics import chain
+from evidence1d.physics import chain, chain_muller_quadrature as cmq, chain_spectrum as cs
 from evidence1d.units import K_B_MEV
 
 
@@ -113,7 +113,7 @@ def test_spectrum_matches_brute_force_convolution():
         ref = np.array([_brute(q, e, s, T, J, D) for e in E])
         # cumulative: ~0.3 % at T = 0, ~2 % at T > 0 (trapezoid on the thermal edge)
         for method, tol in [("quadrature", 1e-3), ("cumulative", 1e-2 if T == 0 else 3e-2)]:
-            got = chain.spinon_spectrum(np.full(9, q), E, np.full(9, s), T, np.array([[J]]),
+            got = cs.spinon_spectrum(np.full(9, q), E, np.full(9, s), T, np.array([[J]]),
                                         np.array([[D]]), method=method,
                                         line_shape="muller", thermal_edge="everywhere")[0]
             np.testing.assert_allclose(got, ref, atol=tol * max(ref.max(), 1e-12))
@@ -126,7 +126,7 @@ def test_spectrum_conserves_weight():
     W = chain.muller_cumulative(np.array([q]), np.array([100.0]), J, d)[0, 0]
     for s in [0.002, 0.05, 0.4]:
         E = np.linspace(-3, 9, int(12 / s * 8) + 1)
-        S = chain.spinon_spectrum(np.full(E.size, q), E, np.full(E.size, s), 0.0, J, d,
+        S = cs.spinon_spectrum(np.full(E.size, q), E, np.full(E.size, s), 0.0, J, d,
                                   line_shape="muller")[0]
         assert integrate.trapezoid(S, E) == pytest.approx(W, rel=1e-4)
 
@@ -138,10 +138,10 @@ def test_detailed_balance(shape):
     E = np.array([3.2, 3.4, 3.6])      # inside [wL, wU] = [3.03, 3.81] meV
     q = np.full(3, 1.3)
     s = np.full(3, 1e-3)
-    loss = chain.spinon_spectrum(q, E, s, T, J, d, line_shape=shape)[0]
-    gain = chain.spinon_spectrum(q, -E, s, T, J, d, line_shape=shape)[0]
+    loss = cs.spinon_spectrum(q, E, s, T, J, d, line_shape=shape)[0]
+    gain = cs.spinon_spectrum(q, -E, s, T, J, d, line_shape=shape)[0]
     np.testing.assert_allclose(gain / loss, np.exp(-E / (K_B_MEV * T)), rtol=1e-3)
-    assert np.all(chain.spinon_spectrum(q, -E, s, 0.0, J, d, line_shape=shape) == 0.0)
+    assert np.all(cs.spinon_spectrum(q, -E, s, 0.0, J, d, line_shape=shape) == 0.0)
 
 
 @pytest.mark.parametrize("shape", ["muller", "exact"])
@@ -154,12 +154,12 @@ def test_batch_equals_loop_and_periodicity(shape, T):
     E = rng.uniform(-5, 15, 40)
     s = rng.uniform(0.05, 0.5, 40)
     kw = {"line_shape": shape}
-    batch = chain.spinon_spectrum(q, E, s, T, J, d, **kw)
-    loop = np.vstack([chain.spinon_spectrum(q, E, s, T, J[i:i + 1], d[i:i + 1], **kw)
+    batch = cs.spinon_spectrum(q, E, s, T, J, d, **kw)
+    loop = np.vstack([cs.spinon_spectrum(q, E, s, T, J[i:i + 1], d[i:i + 1], **kw)
                       for i in range(5)])
     np.testing.assert_allclose(batch, loop, rtol=1e-12, atol=0)
     # 2 pi periodicity and q -> -q symmetry of the chain (translation and inversion)
-    np.testing.assert_allclose(chain.spinon_spectrum(-q + 4 * np.pi, E, s, T, J, d, **kw),
+    np.testing.assert_allclose(cs.spinon_spectrum(-q + 4 * np.pi, E, s, T, J, d, **kw),
                                batch, rtol=1e-9, atol=1e-12)
 
 
@@ -174,7 +174,7 @@ def test_family_adapter():
     p = {"J": np.array([[1.5], [3.0]]), "delta": np.array([[1.0], [2.0]]),
          "g": np.array([[2.1], [2.1]])}
     out = fam.spectrum(p, pts)
-    ref = chain.spinon_spectrum(pts.q_par, pts.energy, pts.sigma, 5.0, p["J"], p["delta"])
+    ref = cs.spinon_spectrum(pts.q_par, pts.energy, pts.sigma, 5.0, p["J"], p["delta"])
     np.testing.assert_array_equal(out, ref)
     assert out.shape == (2, 30) and np.all(out >= 0)
     fam2 = pickle.loads(pickle.dumps(fam))
@@ -188,13 +188,13 @@ def test_input_errors():
     with pytest.raises(InputError):
         chain.spinon_bounds(q, np.array([[1.0]]), np.array([[-1.5]]))
     with pytest.raises(InputError):
-        chain.spinon_spectrum(q, q, np.array([0.0]), 1.0, 1.0, 1.0)
+        cs.spinon_spectrum(q, q, np.array([0.0]), 1.0, 1.0, 1.0)
     with pytest.raises(InputError):
-        chain.spinon_spectrum(q, q, q, 1.0, 1.0, 1.0, method="other")
+        cs.spinon_spectrum(q, q, q, 1.0, 1.0, 1.0, method="other")
     with pytest.raises(InputError, match="line_shape"):
-        chain.spinon_spectrum(q, q, q, 1.0, 1.0, 1.0, line_shape="lorentzian")
+        cs.spinon_spectrum(q, q, q, 1.0, 1.0, 1.0, line_shape="lorentzian")
     with pytest.raises(InputError, match="muller"):
-        chain.spinon_spectrum(q, q, q, 1.0, 1.0, 1.0, method="cumulative")
+        cs.spinon_spectrum(q, q, q, 1.0, 1.0, 1.0, method="cumulative")
 
 
 @settings(max_examples=40, deadline=None)
@@ -211,7 +211,7 @@ def test_kernels_finite_over_prior(J, D, T, q, E, s):
     for method, shape in (("quadrature", "exact"), ("quadrature", "muller"),
                           ("cumulative", "muller")):
         for temp in (T, 0.0):
-            out = chain.spinon_spectrum(qa, Eq, np.full(3, s), temp, Ja, Da, method=method,
+            out = cs.spinon_spectrum(qa, Eq, np.full(3, s), temp, Ja, Da, method=method,
                                         line_shape=shape)
             assert np.all(np.isfinite(out)) and np.all(out >= 0)
 
@@ -223,7 +223,7 @@ def _peaks(qu, s0, T, J, D):
     pk = np.zeros((J.shape[0], qu.size))
     for k in range(qu.size):
         Eg = np.linspace(-top[:, k].max() - 3 * s0, top[:, k].max() + 3 * s0, 1200)
-        pk[:, k] = chain._spectrum(np.full(Eg.size, qu[k]), Eg, np.full(Eg.size, s0), T, J,
+        pk[:, k] = cs._spectrum(np.full(Eg.size, qu[k]), Eg, np.full(Eg.size, s0), T, J,
                                    D, "quadrature", 16, 8, False).max(axis=1)
     return np.maximum(pk, 1e-300)
 
@@ -243,11 +243,11 @@ def test_fast_path_matches_reference_and_fine_quadrature(seed):
         s0 = 10 ** rng.uniform(-2.5, -0.7) * Jc
         E = np.tile(np.linspace(-1.1, 1.1, nE) * 3.5 * Jc * max(1.0, D.max()), qu.size)
         q, s = np.repeat(qu, nE), np.full(E.size, s0)
-        fast = chain.spinon_spectrum(q, E, s, T, J, D, line_shape="muller")
-        fine = chain._spectrum(q, E, s, T, J, D, "quadrature", 16, 8, False)
+        fast = cs.spinon_spectrum(q, E, s, T, J, D, line_shape="muller")
+        fine = cs._spectrum(q, E, s, T, J, D, "quadrature", 16, 8, False)
         pk = np.repeat(_peaks(qu, s0, T, J, D), nE, axis=1)
         if T == 0:   # the Hermite path against the Legendre path at the same settings
-            ref = chain._spectrum(q, E, s, T, J, D, "quadrature", 6, 3, False)
+            ref = cs._spectrum(q, E, s, T, J, D, "quadrature", 6, 3, False)
             assert np.max(np.abs(fast - ref) / pk) < 1e-4
         # the stated accuracy: 5e-4 at T = 0, 1e-3 at T > 0
         assert np.max(np.abs(fast - fine) / pk) < (5e-4 if T == 0 else 1e-3)
@@ -265,7 +265,7 @@ def test_hermite_cut_rule_against_adaptive_quadrature(r, wl_over_sigma):
     local = 1.0 / np.sqrt(c * c - wl * wl)
     for b in np.linspace(-5.9, 7.0, 12):
         exact = integrate.quad(f, -6.0, b, limit=200)[0]      # the kernel's ±6σ window
-        got = chain._smooth_side(np.array([c]), np.array([s]), np.array([wl]), np.array([b]),
+        got = cmq.muller_smooth_side(np.array([c]), np.array([s]), np.array([wl]), np.array([b]),
                                  np.array([1.0]))[0]
         assert abs(got - exact) < 2.5e-5 * local
 
@@ -278,14 +278,14 @@ def test_gain_side_shifted_gaussian_path():
     E = -np.linspace(15.5, 20.5, 7)
     for T, s in [(5.0, 0.3), (60.0, 0.15)]:
         ref = np.array([_brute(q, e, s, T, J, D) for e in E])
-        got = chain.spinon_spectrum(np.full(7, q), E, np.full(7, s), T, np.array([[J]]),
+        got = cs.spinon_spectrum(np.full(7, q), E, np.full(7, s), T, np.array([[J]]),
                                     np.array([[D]]), line_shape="muller",
                                     thermal_edge="everywhere")[0]
         np.testing.assert_allclose(got, ref, rtol=2e-4, atol=1e-4 * ref.max())
     Ein = np.array([16.0, 17.0, 18.0])
     args = (np.full(3, q), np.full(3, 1e-3), 60.0, np.array([[J]]), np.array([[D]]))
-    gain = chain.spinon_spectrum(args[0], -Ein, *args[1:], line_shape="muller",
+    gain = cs.spinon_spectrum(args[0], -Ein, *args[1:], line_shape="muller",
                                  thermal_edge="everywhere")[0]
-    loss = chain.spinon_spectrum(args[0], Ein, *args[1:], line_shape="muller",
+    loss = cs.spinon_spectrum(args[0], Ein, *args[1:], line_shape="muller",
                                  thermal_edge="everywhere")[0]
     np.testing.assert_allclose(gain / loss, np.exp(-Ein / (K_B_MEV * 60.0)), rtol=1e-6)

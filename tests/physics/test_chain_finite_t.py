@@ -13,7 +13,7 @@ import numpy as np
 import pytest
 from scipy import integrate, special
 
-from evidence1d.physics import chain, chain_thermal
+from evidence1d.physics import chain, chain_spectrum as cs, chain_thermal
 from evidence1d.units import K_B_MEV
 
 
@@ -70,8 +70,8 @@ def test_detailed_balance_before_resolution():
     q = np.full(4, 1.3)
     s = np.full(4, 1e-3)
     for shape in ("muller", "exact"):
-        loss = chain.spinon_spectrum(q, E, s, T, J, d, line_shape=shape)[0]
-        gain = chain.spinon_spectrum(q, -E, s, T, J, d, line_shape=shape)[0]
+        loss = cs.spinon_spectrum(q, E, s, T, J, d, line_shape=shape)[0]
+        gain = cs.spinon_spectrum(q, -E, s, T, J, d, line_shape=shape)[0]
         np.testing.assert_allclose(gain / loss, np.exp(-E / (K_B_MEV * T)), rtol=1e-6)
 
 
@@ -82,10 +82,10 @@ def test_zero_temperature_limit_equals_the_loss_side_of_the_t0_shape():
     q = np.full(60, 1.2)
     E = np.linspace(-12.0, 16.0, 60)
     s = np.full(60, 0.2)
-    t0 = chain.spinon_spectrum(q, E, s, 0.0, J, d, line_shape="muller", thermal_edge="everywhere")[0]
+    t0 = cs.spinon_spectrum(q, E, s, 0.0, J, d, line_shape="muller", thermal_edge="everywhere")[0]
     diffs = []
     for T in (0.1, 0.01, 1e-3, 1e-6):
-        got = chain.spinon_spectrum(q, E, s, T, J, d, line_shape="muller", thermal_edge="everywhere")[0]
+        got = cs.spinon_spectrum(q, E, s, T, J, d, line_shape="muller", thermal_edge="everywhere")[0]
         diffs.append(np.max(np.abs(got - t0)) / t0.max())
     # the thermal rounding of the edge vanishes as T -> 0 (measured: 3e-3, 1e-4, 3e-6, 1e-9)
     assert all(b < 0.1 * a for a, b in zip(diffs[:-1], diffs[1:])), diffs
@@ -104,12 +104,12 @@ def test_low_energy_response_near_pi_depends_on_temperature():
     E = np.array([0.0, 0.2, 0.5, 1.0])
     for q in (np.pi, np.pi - 0.02):
         s = np.full(4, 0.05)
-        cold = chain.spinon_spectrum(np.full(4, q), E, s, 1.5, J, d, line_shape="muller", thermal_edge="everywhere")[0]
-        hot = chain.spinon_spectrum(np.full(4, q), E, s, 10.0, J, d, line_shape="muller", thermal_edge="everywhere")[0]
+        cold = cs.spinon_spectrum(np.full(4, q), E, s, 1.5, J, d, line_shape="muller", thermal_edge="everywhere")[0]
+        hot = cs.spinon_spectrum(np.full(4, q), E, s, 10.0, J, d, line_shape="muller", thermal_edge="everywhere")[0]
         assert np.all(np.abs(cold / hot - 1) > 0.3)
     for T in (1.5, 10.0):
         kT = K_B_MEV * T
-        s0 = chain.spinon_spectrum(np.array([np.pi]), np.array([0.0]), np.array([2e-3 * kT]), T,
+        s0 = cs.spinon_spectrum(np.array([np.pi]), np.array([0.0]), np.array([2e-3 * kT]), T,
                                    J, d, line_shape="muller", thermal_edge="everywhere")[0, 0]
         assert s0 == pytest.approx(A * special.gamma(0.25) ** 4 / (16 * np.pi ** 3 * kT),
                                    rel=5e-3)
@@ -142,6 +142,6 @@ def test_convolution_against_adaptive_quadrature(ratio):
             return A * integrate.quad(g, lo, hi, points=pts or None, limit=400)[0]
 
         want = np.array([ref(e) for e in E])
-        got = chain.spinon_spectrum(np.full(E.size, q), E, np.full(E.size, s), T, Ja, Da,
+        got = cs.spinon_spectrum(np.full(E.size, q), E, np.full(E.size, s), T, Ja, Da,
                                     line_shape="muller", thermal_edge="everywhere")[0]
         assert np.max(np.abs(got - want)) < 1e-3 * want.max()

@@ -17,7 +17,7 @@ import pytest
 from scipy import sparse
 from scipy.sparse import linalg as sparse_linalg
 
-from evidence1d.physics import chain
+from evidence1d.physics import chain, chain_spectrum
 
 L_RING = 12
 
@@ -190,8 +190,8 @@ def test_convolved_spectrum_first_moment(delta, shape):
     J, D = np.array([[1.7]]), np.array([[delta]])
     for qv in (0.2, 0.75, 1.2, 2.5):
         E = np.linspace(-1.0, 11.0, 24001)
-        S = chain.spinon_spectrum(np.full(E.size, qv), E, np.full(E.size, 0.05), 0.0, J, D,
-                                  line_shape=shape)[0]
+        S = chain_spectrum.spinon_spectrum(np.full(E.size, qv), E, np.full(E.size, 0.05), 0.0,
+                                           J, D, line_shape=shape)[0]
         m1 = np.trapezoid(E * S, E)
         qa = np.array([qv])
         want = chain.continuum_first_moment(qa, J, D)[0, 0]

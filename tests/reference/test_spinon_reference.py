@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 from scipy.special import ellipk
 
-from evidence1d.physics import chain
+from evidence1d.physics import chain, chain_ground_state
 
 ONE = np.array([[1.0]])
 
@@ -143,14 +143,14 @@ def test_tabulated_ground_state_energy():
     # the spline used by first_moment against the published values (Hulthen 1938; XX chain
     # -1/pi, free fermions; Razumov & Stroganov, J. Phys. A 34, 3185 (2001), from memory)
     # and against the direct evaluation everywhere, inside and outside the tabulated range
-    fast = chain._ground_state_energy_fast
+    fast = chain_ground_state._ground_state_energy_fast
     assert fast(1.0) == pytest.approx(0.25 - np.log(2), abs=1e-11)
     assert fast(0.0) == pytest.approx(-1 / np.pi, abs=1e-10)
     assert fast(0.5) == pytest.approx(-0.375, abs=1e-9)
     d = np.concatenate([np.random.default_rng(4).uniform(-0.99, 6.0, 400),
                         [-0.9, 0.999999, 1.0, 1.000001, 4.0]])
     np.testing.assert_allclose(fast(d), chain.xxz_ground_state_energy(d), rtol=0,
-                               atol=chain._E0_ERROR)
+                               atol=chain_ground_state._E0_ERROR)
     assert fast(d[:7].reshape(7, 1)).shape == (7, 1)
     q = np.array([0.3, 2.0])
     D = d[:5, None]
