@@ -45,6 +45,8 @@ class SpectrumKind(DatasetKind):
     """
 
     def own_nuisances(self, options: dict) -> list:
+        """``scale``, the background of ``background`` (flat: b₀, linear: b₀ + b₁ E) and
+        ``elastic`` if the dataset asks for it."""
         out = ["scale"] + _energy_lines(options.get("background", "linear"))
         if options.get("elastic", False):
             out.append("elastic")
@@ -74,11 +76,13 @@ class SpectrumKind(DatasetKind):
         return out
 
     def nuisance_unit(self, short: str, units: dict) -> str:
+        """Units of s (intensity·meV, since S is per meV), b₀, b₁ (per meV) and e."""
         lab = units.get("intensity", "arb")
         return {"scale": f"{lab}·meV", "background": lab, "slope": f"{lab}/meV",
                 "elastic": f"{lab}·meV", "inflate": "1"}.get(short, "")
 
     def read(self, cols, units, sample, block, loc) -> tuple:
+        """Energies in meV, the kind's wavevectors in Å⁻¹, intensity and error as given."""
         if block.get("per", "magnetic_ion") == "formula_unit":
             raise InputError("'per: formula_unit' applies to susceptibility, heat capacity and "
                              "entropy; spectra are per magnetic ion",
@@ -113,6 +117,7 @@ class CrystalSpectrumKind(SpectrumKind):
         return (self.hkl if use_hkl else self), mapping
 
     def known_names(self, overrides=None) -> set:
+        """The names of both layouts (components and Miller indices)."""
         return known_names(self, overrides) | known_names(self.hkl)
 
     def check_units(self, layout, units: dict, where: str) -> None:
@@ -125,6 +130,8 @@ class CrystalSpectrumKind(SpectrumKind):
             units["wavevector"] = "rlu"
 
     def wavevectors(self, cols, units, sample, block, loc) -> dict:
+        """Q_par, Q_perp, Q_perp2 (Å⁻¹) through the sample's geometry
+        (:func:`~evidence1d.data.geometry.crystal_wavevectors`)."""
         geometry = getattr(sample, "geometry", None)
         if geometry is None:
             geometry = make_geometry(sample.lattice)
@@ -136,6 +143,7 @@ class PowderSpectrumKind(SpectrumKind):
     """A powder spectrum: |Q| (Å⁻¹) and energy."""
 
     def wavevectors(self, cols, units, sample, block, loc) -> dict:
+        """|Q| (Å⁻¹, >= 0) as given."""
         if np.any(cols["Q"] < 0):
             i = int(np.flatnonzero(cols["Q"] < 0)[0])
             raise InputError("|Q| must be >= 0", **loc(i, "Q"))

@@ -85,7 +85,6 @@ class Extra:
         return {"kind": "uniform", "lower": 0.0, "upper": float(np.max(a))}
 
 
-
 @dataclass(frozen=True, eq=False, repr=False, kw_only=True)
 class ThermoKind(DatasetKind):
     """A thermodynamic curve y(T) per mole of magnetic ion: model part plus the kind's
@@ -123,14 +122,17 @@ class ThermoKind(DatasetKind):
     free_spin_ceiling: bool = False
 
     def value_factor(self, units: dict) -> float:
+        """emu/mol or J/(mol K) per unit of the data's value (:mod:`evidence1d.units`)."""
         return self.unit_table[units[self.value_unit]]
 
     def to_internal(self, values, units: dict, fu: float = 1.0) -> np.ndarray:
+        """The value in emu/mol or J/(mol K) of magnetic ion: value × factor × ``fu``."""
         # a molar quantity per formula unit divided by the ions per formula unit is per ion
         return U.convert(values, units[self.value_unit], self.unit_table,
                          self.unit_quantity) * fu
 
     def from_internal(self, values, units: dict, fu: float = 1.0) -> np.ndarray:
+        """Internal units back to the data's: value / (factor × ``fu``)."""
         return np.asarray(values, dtype=float) / (self.value_factor(units) * fu)
 
     def model_part(self, family, p: dict, T: np.ndarray, options: dict) -> np.ndarray:
@@ -141,6 +143,13 @@ class ThermoKind(DatasetKind):
         return method(p, T)
 
     def per_formula_unit(self, block, sample) -> float:
+        """``sample.formula_units_per_ion`` for ``per: formula_unit`` (else 1).
+
+        Raises
+        ------
+        InputError
+            ``per: formula_unit`` without the sample's ions per formula unit.
+        """
         if block.get("per", "magnetic_ion") != "formula_unit":
             return 1.0
         if getattr(sample, "ions_per_formula_unit", 1.0) is None:
@@ -150,6 +159,7 @@ class ThermoKind(DatasetKind):
         return sample.formula_units_per_ion
 
     def read(self, cols, units, sample, block, loc) -> tuple:
+        """T (K) > 0 without repeats; value and error per mole of magnetic ion."""
         T = U.temperature_to_k(cols["T"], units["temperature"])
         i_bad = np.flatnonzero(T <= 0)
         if i_bad.size:

@@ -149,8 +149,8 @@ class DatasetPredictor:
         Returns
         -------
         dict of str to dict
-            Prior specs (``{kind: ..., ...}``), from
-            :meth:`DatasetKind.default_priors <evidence1d.data.kind_base.DatasetKind.default_priors>`.
+            Prior specs (``{kind: ..., ...}``), from the kind's
+            :meth:`~evidence1d.data.kind_base.DatasetKind.default_priors`.
             Scale: log-uniform over four decades around the data's intensity span times the
             energy span (S(Q,E) is ~1/energy); background: uniform over a band one span wide
             around the data; slope: ± span per energy range; elastic: uniform
