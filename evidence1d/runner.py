@@ -281,7 +281,7 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
     from .analysis.stage import run_budget, run_sensitivity
     from .inference.compare import compare_models, verdict_reliability, with_reliability
     from .provenance import provenance
-    from .report.figures.settings import figure_settings
+    from .figure_settings import figure_settings
 
     seed = case.seed if seed is None else int(seed)
     names = list(case.models) if not models else list(models)

@@ -48,29 +48,22 @@ def _thermo_block(problem, sample, ds, params, point_bands, log_axis):
              "residual": (ds.y - point_bands[2]) / ds.err, "model_x": Td,
              "bands": bands(total), "parts": []}
     med = lambda a: np.nanmedian(np.broadcast_to(a, total.shape), axis=0)  # noqa: E731
-    if ds.kind == "susceptibility":
-        const = np.zeros_like(total)
-        if "chi0" in pr.extras:
-            const = const + params["chi0"]
-        if "c_imp" in pr.extras:
-            const = const + params["c_imp"] / Td
-        block["parts"] = [("magnetic", "model χ (magnetic)", med(mag))]
-        if pr.extras:
-            block["parts"].append(("constant", r"$\chi_0 + C_\mathrm{imp}/T$", med(const)))
-    elif ds.kind == "heat_capacity":
-        block["parts"] = [("magnetic", "magnetic", med(mag))]
+    kind = ds.spec
+    if kind.magnetic_label:
+        block["parts"] = [("magnetic", kind.magnetic_label, med(mag))]
+    present = [e for e in kind.extras if e.name in pr.extras]
+    groups = {}                       # extras sharing a part are drawn as one curve
+    for e in present:
+        label, curve = groups.get(e.part, (e.part_label, np.zeros_like(total)))
+        groups[e.part] = (label, curve + e.term(params[e.name], Td))
+    block["parts"] += [(part, label, med(curve)) for part, (label, curve) in groups.items()]
+    if kind.entropy_by_integration:
         non_mag_at_data = np.zeros_like(T)
-        if "gamma_e" in pr.extras:
-            block["parts"].append(("electronic", r"electronic $\gamma_e T$",
-                                   med(params["gamma_e"] * Td)))
-            non_mag_at_data = non_mag_at_data + float(np.median(params["gamma_e"])) * T
-        if "beta_lattice" in pr.extras:
-            block["parts"].append(("lattice", r"lattice $\beta T^3$",
-                                   med(params["beta_lattice"] * Td ** 3)))
-            non_mag_at_data = non_mag_at_data + float(np.median(params["beta_lattice"])) * T ** 3
+        for e in present:
+            non_mag_at_data = non_mag_at_data + e.term(float(np.median(params[e.name])), T)
         block["entropy"] = _entropy(problem, sample, T, ds.y - non_mag_at_data, ds.err,
                                     Td, params)
-    elif ds.kind == "entropy":
+    if kind.free_spin_ceiling:
         block.update(_ceiling(sample))
     return block
 
@@ -211,7 +204,7 @@ def model_figure_data(name, problem, sample, samples, full_samples, table: dict,
     for pr in problem.predictors:
         ds = pr.dataset
         pb = bands(at_points[ds.name])
-        if ds.kind in ("crystal_spectrum", "powder_spectrum"):
+        if ds.spec.is_spectrum:
             spec = settings["cuts"]["datasets"].get(ds.name, settings["cuts"]["default"])
             where = ("figures.cuts." + ds.name) if ds.name in \
                 settings["cuts"]["datasets"] else "figures.cuts"

@@ -145,7 +145,7 @@ def _select(spec, values, where, unit_text):
 
 def _components(ds):
     return [k for k in ("Q_par", "Q_perp", "Q_perp2") if k in ds.x] if \
-        ds.kind == "crystal_spectrum" else ["Q"]
+        ds.spec.single_crystal else ["Q"]
 
 
 def spectrum_block(problem, sample, ds, params, point_bands, medians, spec, where):
@@ -179,7 +179,7 @@ def spectrum_block(problem, sample, ds, params, point_bands, medians, spec, wher
     .. [1] Gelman, Meng & Stern, Statistica Sinica 6, 733 (1996).
     """
     x, E = ds.x, ds.x["energy"]
-    unit = ds.units.get("wavevector", "1/A") if ds.kind == "crystal_spectrum" else "1/A"
+    unit = ds.units.get("wavevector", "1/A") if ds.spec.single_crystal else "1/A"
     comps = _components(ds)
     scale = {c: (per_rlu(sample, c) if unit == "rlu" else 1.0) for c in comps}
     wave = np.stack([x[c] for c in comps], axis=1)
@@ -265,7 +265,7 @@ def _map_block(problem, sample, ds, point_bands, medians, comps, scale, unit):
     out = {"axis": axis, "unit": unit, "x": ux / scale[axis], "energy": uE,
            "data": ds.y[idx], "model": med[idx], "residual": (ds.y[idx] - med[idx]) / ds.err[idx],
            "overlays": [], "common": common}
-    if ds.kind == "crystal_spectrum":
+    if ds.spec.single_crystal:
         out["overlays"] = _overlays(problem, sample, ds, medians, axis, ux, scale[axis])
     return out
 

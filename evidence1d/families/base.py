@@ -113,6 +113,9 @@ class Family:
         Spin quantum number S of the magnetic ion (from the case file's sample block).
     """
 
+    #: the name a model card's ``family:`` gives (the registry finds the class by it)
+    family_name: str | None = None
+
     #: physical parameter names, in the order of the model card
     parameters: tuple[str, ...] = ()
 

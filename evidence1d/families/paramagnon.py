@@ -59,6 +59,7 @@ class ParamagnonFamily(Family):
     G. L. Squires (1978), Ch. 7.
     """
 
+    family_name = "paramagnon"
     parameters = ("chi_uniform", "theta_sf", "xi_par", "xi_perp", "gamma0", "g")
     _centers = ("zone_boundary", "zone_centre")
 
@@ -275,6 +276,7 @@ class IncommensurateParamagnonFamily(ParamagnonFamily):
     (from memory).
     """
 
+    family_name = "paramagnon_incommensurate"
     parameters = ("chi_uniform", "theta_sf", "q0", "xi_par", "xi_perp", "gamma0", "g")
     _centers = ("incommensurate",)
 

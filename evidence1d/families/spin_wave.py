@@ -60,6 +60,7 @@ class SpinWaveFamily(Family):
     (polarisation factor δ_αβ − Q̂_α Q̂_β).
     """
 
+    family_name = "gapped_spin_wave"
     parameters = ("J", "J_perp", "delta", "damping", "g")
     spins = (0.5,)
     handles_q_resolution = True

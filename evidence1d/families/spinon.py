@@ -59,6 +59,7 @@ class SpinonFamily(Family):
     (1981).
     """
 
+    family_name = "spinon_continuum"
     parameters = ("J", "delta", "g")
 
     #: the two-spinon continuum and the chain thermodynamics hold for S = 1/2 only

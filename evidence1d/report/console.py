@@ -40,7 +40,7 @@ def case_table(case) -> str:
             lab, unit = _RANGE_LABELS.get(k, (k, ""))
             rng.append(f"{lab} {lo:.3g}..{hi:.3g} {unit}")
         extra = ""
-        if ds.kind.endswith("spectrum"):
+        if ds.spec.is_spectrum:
             extra = f"T={ds.options['temperature']:g} K"
         rows.append([ds.name, ds.kind, ds.n, "; ".join(rng), extra])
     out = [f"case: {case.title}  ({case.path})",
