@@ -143,7 +143,7 @@ def load_card(path) -> ModelCard:
         Missing file, YAML error, unknown or missing key, bad prior, unknown family class.
     """
     from .families import FAMILY_CLASSES  # registry; imported lazily (no import cycle)
-    from .inference.priors import prior_from_spec
+    from .inference.prior_specs import prior_from_spec
 
     doc = load_yaml(path)
     card = check_mapping(doc.data, _CARD_SPEC, "", doc)

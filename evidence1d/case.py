@@ -334,7 +334,7 @@ def load_case(path) -> Case:
     InputError
         Any problem in the case file, the data files or the model cards, in one line.
     """
-    from .inference.priors import prior_from_spec
+    from .inference.prior_specs import prior_from_spec
 
     doc = load_yaml(path)
     base = doc.path.resolve().parent

@@ -14,7 +14,8 @@ from .families.predict import SAMPLE_EXTRAS, DatasetPredictor
 from .inference.likelihood import gaussian_loglike, student_t_loglike
 from .inference.likelihood import gaussian_loglike_pointwise as gaussian_pointwise
 from .inference.likelihood import student_t_loglike_pointwise as student_t_pointwise
-from .inference.priors import JointPrior, prior_from_spec
+from .inference.prior_specs import prior_from_spec
+from .inference.priors import JointPrior
 
 __all__ = ["JointProblem"]
 

@@ -15,8 +15,9 @@ from evidence1d.inference.laplace import bic, laplace_evidence
 from evidence1d.inference.likelihood import (gaussian_loglike, gaussian_loglike_pointwise,
                                              student_t_loglike, student_t_loglike_pointwise)
 from evidence1d.inference.posterior import PosteriorResult, sample_posterior
+from evidence1d.inference.prior_specs import prior_from_spec
 from evidence1d.inference.priors import (Fixed, JointPrior, LogUniform, Normal, TruncatedNormal,
-                                         Uniform, prior_from_spec)
+                                         Uniform)
 
 __all__ = ["Uniform", "LogUniform", "Normal", "TruncatedNormal", "Fixed", "JointPrior",
            "prior_from_spec", "gaussian_loglike", "gaussian_loglike_pointwise",

@@ -3,17 +3,8 @@
 Every prior gives a vectorised log density, the inverse cumulative distribution function
 (the map from the unit interval to the parameter, used by nested samplers and to draw
 samples), its support and, for the Savage–Dickey density ratio, its density at one value.
-Model cards and case files declare priors as small mappings; :func:`prior_from_spec` turns
-them into prior objects and reports every mistake as a one-line
-:class:`~evidence1d.errors.InputError`.
-
-Declared kinds (units are those of the parameter)::
-
-    {kind: uniform,          lower: a, upper: b}
-    {kind: log_uniform,      lower: a, upper: b}          0 < a < b
-    {kind: normal,           mean: m, sd: s}              s > 0
-    {kind: truncated_normal, mean: m, sd: s, lower: a, upper: b}
-    {kind: fixed,            value: v}
+Model cards and case files declare priors as small mappings
+(:mod:`evidence1d.inference.prior_specs` reads them into these objects).
 
 References
 ----------
@@ -32,11 +23,10 @@ import numpy as np
 from scipy import special
 
 from evidence1d.errors import InputError, closest_key
-from evidence1d.schema import (Field, Spec, as_any, as_float, as_positive_float, check_tagged,
-                               unique_names)
+from evidence1d.schema import unique_names
 
 __all__ = ["Prior", "Uniform", "LogUniform", "Normal", "TruncatedNormal", "Fixed",
-           "JointPrior", "prior_from_spec", "PRIOR_FIELDS", "PRIOR_SPECS"]
+           "JointPrior", "log_normal_mass"]
 
 _LN_SQRT_2PI = 0.5 * math.log(2.0 * math.pi)
 # Unit-interval values are clipped to [_U_MIN, _U_MAX] so that the inverse CDF of an
@@ -44,22 +34,27 @@ _LN_SQRT_2PI = 0.5 * math.log(2.0 * math.pi)
 _U_MIN = np.finfo(float).tiny
 _U_MAX = 1.0 - np.finfo(float).epsneg
 
-#: Required fields of every prior kind, in the order they are documented.
-PRIOR_FIELDS = {
-    "uniform": ("lower", "upper"),
-    "log_uniform": ("lower", "upper"),
-    "normal": ("mean", "sd"),
-    "truncated_normal": ("mean", "sd", "lower", "upper"),
-    "fixed": ("value",),
-}
-
-
 def _clip_unit(u):
     return np.clip(np.asarray(u, dtype=float), _U_MIN, _U_MAX)
 
 
-def _log_normal_mass(alpha: float, beta: float) -> float:
-    """ln(Φ(β) − Φ(α)) for α < β, stable in both tails (Φ: standard normal CDF)."""
+def log_normal_mass(alpha: float, beta: float) -> float:
+    """ln(Φ(β) − Φ(α)) for α < β, stable in both tails (Φ: standard normal CDF).
+
+    Parameters
+    ----------
+    alpha, beta : float
+        Standardised bounds (x − mean)/sd, α < β.
+
+    Returns
+    -------
+    float
+        The log probability of [α, β] under the standard normal (−inf if it underflows).
+
+    References
+    ----------
+    Johnson, Kotz & Balakrishnan (1994), §10.1; scipy.special.log_ndtr.
+    """
     if alpha > 0.0:                        # upper tail: use the mirror image
         alpha, beta = -beta, -alpha
     lb, la = special.log_ndtr(beta), special.log_ndtr(alpha)
@@ -97,7 +92,8 @@ class Prior:
         raise NotImplementedError
 
     def to_spec(self) -> dict:
-        """The declaration mapping that :func:`prior_from_spec` reads back."""
+        """The declaration mapping that
+        :func:`~evidence1d.inference.prior_specs.prior_from_spec` reads back."""
         raise NotImplementedError
 
     def sample(self, rng: np.random.Generator, size=None):
@@ -261,7 +257,7 @@ class TruncatedNormal(Prior):
         alpha, beta = self._ab
         z = (x - self.mean) / self.sd
         inside = (x >= self.lower) & (x <= self.upper)
-        val = -0.5 * z * z - math.log(self.sd) - _LN_SQRT_2PI - _log_normal_mass(alpha, beta)
+        val = -0.5 * z * z - math.log(self.sd) - _LN_SQRT_2PI - log_normal_mass(alpha, beta)
         return np.where(inside, val, -np.inf)
 
     def transform(self, u):
@@ -320,76 +316,6 @@ class Fixed(Prior):
 
     def to_spec(self):
         return {"kind": self.kind, "value": self.value}
-
-
-def _bounds_ordered(v: dict, where: str) -> None:
-    if v["lower"] >= v["upper"]:
-        raise InputError(f"lower ({v['lower']:g}) must be smaller than upper "
-                         f"({v['upper']:g})", key=where)
-
-
-def _log_range_positive(v: dict, where: str) -> None:
-    if v["lower"] <= 0.0:
-        raise InputError(f"a log_uniform prior needs 0 < lower < upper; got lower = "
-                         f"{v['lower']:g} (use uniform for ranges that reach zero)", key=where)
-
-
-def _truncation_holds_mass(v: dict, where: str) -> None:
-    alpha = (v["lower"] - v["mean"]) / v["sd"]
-    beta = (v["upper"] - v["mean"]) / v["sd"]
-    if not math.isfinite(_log_normal_mass(alpha, beta)):
-        raise InputError("the truncation interval holds no probability of the normal "
-                         "(it lies too many sd from the mean)", key=where)
-
-
-_HELP = {"lower": "lower bound", "upper": "upper bound", "mean": "mean", "sd": "standard "
-         "deviation > 0", "value": "the fixed value"}
-_CHECKS = {"uniform": (_bounds_ordered,), "log_uniform": (_bounds_ordered, _log_range_positive),
-           "truncated_normal": (_bounds_ordered, _truncation_holds_mass)}
-#: the declaration of every prior kind, checked by the schema engine
-PRIOR_SPECS = {
-    kind: Spec({"kind": Field(as_any, required=True),
-                **{f: Field(as_positive_float if f == "sd" else as_float, required=True,
-                            help=f"{_HELP[f]}, in the parameter's unit") for f in fields}},
-               what=f"a {kind} prior", checks=_CHECKS.get(kind, ()))
-    for kind, fields in PRIOR_FIELDS.items()}
-_CLASSES = {"uniform": Uniform, "log_uniform": LogUniform, "normal": Normal,
-            "truncated_normal": TruncatedNormal, "fixed": Fixed}
-
-
-def prior_from_spec(spec: dict, where: str, doc=None) -> Prior:
-    """Build a prior from its declaration mapping.
-
-    Parameters
-    ----------
-    spec : dict
-        ``{kind: ..., <fields>}`` with the fields of :data:`PRIOR_FIELDS`; values in the units
-        of the parameter (numbers, or strings that read as numbers: YAML 1.1 reads ``1e-3``
-        as a string).
-    where : str
-        Dotted key of the declaration in its file (e.g. ``"parameters.J.prior"``); errors name
-        it.
-    doc : evidence1d.schema.YamlDoc, optional
-        The file the declaration is in (errors then name its file and line).
-
-    Returns
-    -------
-    Prior
-
-    Raises
-    ------
-    InputError
-        One line naming the key: not a mapping, missing or unknown kind (with the closest valid
-        kind), missing or unknown field, non-numeric or non-finite value, lower >= upper,
-        log-uniform range not positive, sd <= 0, truncation interval holding no probability.
-
-    References
-    ----------
-    .. [1] Johnson, Kotz & Balakrishnan, *Continuous Univariate Distributions* (1994).
-    """
-    v = check_tagged(spec, "kind", PRIOR_SPECS, where, doc, what="prior")
-    kind = v.pop("kind")
-    return _CLASSES[kind](**v)
 
 
 class JointPrior:

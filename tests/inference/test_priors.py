@@ -4,8 +4,9 @@ import pytest
 from scipy import stats
 
 from evidence1d.errors import InputError
+from evidence1d.inference.prior_specs import prior_from_spec
 from evidence1d.inference.priors import (Fixed, JointPrior, LogUniform, Normal, TruncatedNormal,
-                                         Uniform, prior_from_spec)
+                                         Uniform)
 
 U = np.linspace(0.001, 0.999, 57)
 
