@@ -10,7 +10,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from .cards import ModelCard, card_path, load_card
-from .data import KINDS, SPECTRUM_KINDS, Dataset, load_dataset
+from .data import KINDS, SPECTRUM_KINDS, load_dataset
 from .data.geometry import make_geometry
 from .errors import InputError, closest_key
 from .figure_settings import figure_settings

@@ -251,7 +251,6 @@ def adaptive_chain_average(evaluate, x, group, n_groups: int, n_sets: int,
 
 def _chain_estimates(F, x, members, active):
     """Averages at every point from the grid values of the active (set, group) pairs."""
-    n = F.shape[-1] - 1
     est = np.full((F.shape[0], x.size), np.nan)
     for g, ix in enumerate(members):
         live = np.flatnonzero(active[:, g])
