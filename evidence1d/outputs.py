@@ -118,9 +118,10 @@ def save_inputs(case, out) -> Path:
     import yaml
 
     from .cards import CARD_DIRS
+    from .schema import load_yaml
     inputs = Path(out) / "inputs"
     base = case.path.resolve().parent
-    raw = yaml.safe_load(case.path.read_text(encoding="utf-8"))
+    raw = load_yaml(case.path).data
     named = []                                  # (container, key, raw path string)
     for block in raw.get("datasets") or []:
         named.append((block, "file", str(block["file"])))

@@ -32,6 +32,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import InputError
+from .inference.records import frozen_array
 
 __all__ = ["ModelResult", "RunResults", "to_tree", "from_tree", "save_record",
            "load_record", "save_results", "load_results", "atomic_path", "atomic_write",
@@ -204,13 +205,6 @@ def to_tree(obj, arrays: dict):
     if obj is None or isinstance(obj, (bool, int, float, str)):
         return obj
     raise TypeError(f"cannot save an object of type {type(obj).__name__} in a record")
-
-
-def frozen_array(a) -> np.ndarray:
-    """A read-only copy of ``a`` (saved records are never edited in place)."""
-    a = np.array(a)
-    a.setflags(write=False)
-    return a
 
 
 def from_tree(tree, arrays: dict, types: dict | None = None):

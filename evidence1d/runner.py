@@ -151,7 +151,7 @@ def _run_model(case, name, settings, streams, ev, store, progress, position=None
     nested = problem.card.nested_1d_limit
     if nested is not None and nested["parameter"] in problem.names:
         i = problem.names.index(nested["parameter"])
-        pr = problem.prior.priors[problem.prior.names.index(nested["parameter"])]
+        pr = problem.prior.prior_of(nested["parameter"])
         sd = savage_dickey(samples[:, i], pr, nested["value"],
                            rng=np.random.default_rng(sd_seed))
         sd = dict(sd.to_dict() if hasattr(sd, "to_dict") else sd)

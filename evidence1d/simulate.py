@@ -210,11 +210,10 @@ def regenerate(case_path, model: str, truth: dict, grids: dict, *, seed: int,
     dict of str to (y, err)
         What :func:`simulate_case` returned.
     """
-    import yaml
-
     from .case import load_case
+    from .schema import load_yaml
     case_path = Path(case_path)
-    spec = yaml.safe_load(case_path.read_text(encoding="utf-8"))
+    spec = load_yaml(case_path).data
     base = case_path.parent
     from .data import kind_named
     for block in spec["datasets"]:

@@ -131,7 +131,7 @@ def _corner_block(name, problem, samples, params, truths):
            "prior_x": [], "prior_pdf": [], "quotes": [], "truths": [], "samples": samples}
     for k, j in enumerate(cols):
         n = names[j]
-        pr = problem.prior.priors[problem.prior.names.index(n)]
+        pr = problem.prior.prior_of(n)
         support = tuple(float(v) for v in pr.support)
         a, b = _limits(samples[:, k], support)
         xs = np.linspace(a, b, 200)

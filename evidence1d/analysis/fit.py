@@ -90,7 +90,7 @@ def _chi2(model, y, sigma) -> np.ndarray:
     return np.sum(((y[None, :] - model) / sigma) ** 2, axis=1)
 
 
-def goodness_of_fit(problem, full_samples, *, n_draws: int = N_DRAWS, rng=None) -> dict:
+def goodness_of_fit(problem, full_samples, *, rng, n_draws: int = N_DRAWS) -> dict:
     """χ², χ²/N and the posterior-predictive p-value of every dataset (module notes).
 
     Parameters
@@ -103,8 +103,9 @@ def goodness_of_fit(problem, full_samples, *, n_draws: int = N_DRAWS, rng=None) 
         nuisances (parameter units).
     n_draws : int
         Posterior draws for the p-value (evenly spaced over the samples).
-    rng : numpy.random.Generator, optional
-        Only for Student-t replicated data; default seeded with 0.
+    rng : numpy.random.Generator
+        For the replicated data of the posterior-predictive check (used by Student-t
+        noise only).
 
     Returns
     -------
@@ -118,7 +119,6 @@ def goodness_of_fit(problem, full_samples, *, n_draws: int = N_DRAWS, rng=None) 
     .. [1] Gelman, Meng & Stern, Statistica Sinica 6, 733 (1996).
     """
     x = np.atleast_2d(np.asarray(full_samples, dtype=float))
-    rng = np.random.default_rng(0) if rng is None else rng
     median = np.median(x, axis=0)[None, :]
     draws = x[_even(x.shape[0], int(n_draws))]
     at_median = problem.predict(median)

@@ -117,7 +117,7 @@ def dataset_sensitivity(problem, theta, sd) -> dict:
     theta = np.asarray(theta, dtype=float)
     sd = np.asarray(sd, dtype=float)
     m = theta.size
-    support = [problem.prior.priors[problem.prior.names.index(n)].support
+    support = [problem.prior.prior_of(n).support
                for n in problem.names]
     up, dn = _steps(theta, sd, support)
     batch = np.repeat(theta[None, :], 2 * m, axis=0)
@@ -178,7 +178,7 @@ def parameter_table(problem, samples, nuisance_samples=None) -> dict:
     """
     samples = np.asarray(samples, dtype=float)
     names, units = list(problem.names), dict(problem.units)
-    priors = {n: problem.prior.priors[problem.prior.names.index(n)] for n in names}
+    priors = {n: problem.prior.prior_of(n) for n in names}
     params = _rows(samples, names, units, priors, problem.card)
     nuis = list(problem.marginalised)
     if nuis and nuisance_samples is not None:

@@ -43,7 +43,7 @@ def run_sensitivity(case, results) -> dict:
     models = {}
     for n, r in results.items():
         pb = case.problem(n)
-        priors = {p: pb.prior.priors[pb.prior.names.index(p)] for p in pb.names
+        priors = {p: pb.prior.prior_of(p) for p in pb.names
                   if p in pb.card.parameters}
         models[n] = {"log_z": r.evidence.log_z, "log_z_err": r.evidence.log_z_err,
                      "one_dimensional": r.one_dimensional, "names": list(r.evidence.names),

@@ -23,8 +23,7 @@ import numpy as np
 
 from .. import units as U
 from ..errors import InputError
-from ..physics.chain import spinon_spectrum
-from ..physics.chain_spectrum import LINE_SHAPES
+from ..physics.chain_spectrum import LINE_SHAPES, spinon_spectrum
 from .base import Family, SpectralPoints
 
 __all__ = ["SpinonFamily"]

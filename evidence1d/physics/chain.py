@@ -461,13 +461,3 @@ def muller_cumulative(q, omega, J, delta):
     omega = np.clip(np.asarray(omega, dtype=float), wl, top)
     ratio = np.where(wl > 0, omega / np.where(wl > 0, wl, 1.0), 1.0)
     return A * np.arccosh(np.maximum(ratio, 1.0))
-
-
-def __getattr__(name):
-    """``spinon_spectrum`` under its old path: it is defined in
-    :mod:`evidence1d.physics.chain_spectrum`; remove this once every importer takes it
-    from there."""
-    if name == "spinon_spectrum":
-        from .chain_spectrum import spinon_spectrum
-        return spinon_spectrum
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

@@ -64,7 +64,7 @@ def _p_exact(chi2_min, n, k=2):
 def test_chi2_at_the_median_and_p_value_of_a_line(rng, chi2_min):
     pb = _Line(rng, chi2_min)
     samples = pb.posterior(rng)
-    out = goodness_of_fit(pb, samples, n_draws=samples.shape[0])["line"]
+    out = goodness_of_fit(pb, samples, n_draws=samples.shape[0], rng=np.random.default_rng(0))["line"]
     assert out["n_points"] == 40 and out["n_draws"] == samples.shape[0]
     assert out["chi2"] == pytest.approx(chi2_min, rel=1e-9)
     assert out["chi2_per_point"] == pytest.approx(chi2_min / 40, rel=1e-9)
@@ -83,7 +83,7 @@ def test_chi2_at_the_median_and_p_value_of_a_line(rng, chi2_min):
 
 def test_inflated_errors_divide_chi2_by_the_square_of_the_factor(rng):
     pb = _Line(rng, 80.0, inflate=2.0)
-    out = goodness_of_fit(pb, pb.posterior(rng, 50))["line"]
+    out = goodness_of_fit(pb, pb.posterior(rng, 50), rng=np.random.default_rng(0))["line"]
     assert out["chi2"] == pytest.approx(80.0 / 4.0, rel=1e-9)
 
 
@@ -97,7 +97,7 @@ def test_a_median_far_from_every_draw_is_not_called_a_bad_fit(rng):
     hi[:, 1] += 0.5
     pb.y = pb.y - 0.5 * pb.x                        # the data follow the lower mode
     pb.predictors[0].dataset.y = pb.y
-    out = goodness_of_fit(pb, np.vstack([lo, hi]))["line"]
+    out = goodness_of_fit(pb, np.vstack([lo, hi]), rng=np.random.default_rng(0))["line"]
     assert out["chi2_min_draws"] == pytest.approx(30.0, rel=1e-9)
     assert out["chi2_per_point"] > chi2_limit(40)
     assert out["median_unrepresentative"]
