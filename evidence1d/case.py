@@ -246,6 +246,27 @@ class Case:
         """Map points of the unit cube to parameters (shape (n,) or (k, n))."""
         return self.problem(model).prior_transform(u)
 
+    def replace(self, *, data=None, priors=None, sampler=None, models=None, seed=None,
+                title=None) -> "Case":
+        """A variant of this case made in memory (no file read or written): other data
+        ``{dataset: (y, err)}`` in internal units, prior overrides ``{model: {parameter:
+        prior or declaration}}``, sampler settings laid over the case's, a subset of the
+        models, another seed or title.  See :func:`evidence1d.variant.variant_parts`.
+
+        Raises
+        ------
+        InputError
+            An unknown dataset, model or parameter, bad values or a bad sampler setting.
+        """
+        from .variant import variant_parts
+        datasets, chosen, odds = variant_parts(self, data=data, priors=priors, models=models)
+        settings = check_mapping({**self.sampler, **(sampler or {})}, _SAMPLER, "sampler")
+        return Case(path=self.path, title=self.title if title is None else title,
+                    sample=self.sample, datasets=datasets, models=chosen,
+                    extras=self.extras, sampler=settings, prior_odds=odds,
+                    seed=self.seed if seed is None else int(seed), output=self.output,
+                    figures=self.figures)
+
 
 def _resolve(base: Path, p: str) -> Path:
     q = Path(p).expanduser()

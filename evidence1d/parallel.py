@@ -1,16 +1,30 @@
-"""Process pools of a run: how many workers, how they start, and how a Ctrl-C stops them.
+"""Where the jobs of a run go: process pools, or any executor the caller hands in.
 
 Used by :func:`evidence1d.runner.run` (one job per evidence island, then one per model
-family) and by
-:func:`evidence1d.report.figures.write_figures` (one job per figure).  Jobs are run with the
-``fork`` start method where the platform has it (``spawn`` on Windows), results come back in
-job order, and an exception in the parent (a Ctrl-C included) stops every worker at once.
+family), by :func:`evidence1d.report.figures.write_figures` (one job per figure) and by the
+campaigns of :mod:`evidence1d.campaign` (one job per replicate).  Without an executor, jobs
+run in a process pool of our own with the ``fork`` start method where the platform has it
+(``spawn`` on Windows), results come back in job order, and an exception in the parent (a
+Ctrl-C included) stops every worker at once.
+
+The executor contract: anything with ``submit(fn, *args)`` returning a future with
+``result()`` (a :class:`concurrent.futures.Executor`, a ``dask.distributed.Client``), or a
+:class:`multiprocessing.pool.Pool` (``apply_async``), or, failing both, anything with
+``map(fn, *iterables)``.  Every job runs with one BLAS thread whatever the executor, so the
+numbers do not depend on where it ran.
+
+References
+----------
+.. [1] Python standard library, ``concurrent.futures`` (PEP 3148): ``submit``, ``map`` and
+   ``as_completed``.
+.. [2] Dask development team, *Dask.distributed* documentation: ``Client.submit``,
+   ``distributed.as_completed``.
 """
 from __future__ import annotations
 
 import os
 
-__all__ = ["worker_count", "run_in_pool"]
+__all__ = ["worker_count", "run_in_pool", "map_jobs", "OneBlasThread"]
 
 
 def worker_count(workers: int | None, n_jobs: int) -> int:
@@ -51,8 +65,9 @@ def _worker_init() -> None:
     threadpool_limits(limits=1, user_api="blas")
 
 
-def run_in_pool(fn, jobs: list, workers: int, on_result=None) -> list:
-    """``fn(*job)`` for every job, over ``workers`` processes (in this process if 1).
+def run_in_pool(fn, jobs: list, workers: int, on_result=None, executor=None) -> list:
+    """``fn(*job)`` for every job, over ``workers`` processes (in this process if 1), or
+    over an ``executor``.
 
     Parameters
     ----------
@@ -61,16 +76,22 @@ def run_in_pool(fn, jobs: list, workers: int, on_result=None) -> list:
     jobs : list of tuple
         Positional arguments of each call.
     workers : int
-        Processes; 1 (or a single job) runs the calls here, in order.
+        Processes; 1 (or a single job) runs the calls here, in order.  Ignored when an
+        ``executor`` is given.
     on_result : callable, optional
         Called in this process with each result as it arrives (e.g. to advance a
         progress bar); any order.
+    executor : object, optional
+        Anything following the executor contract of this module (see :func:`map_jobs`);
+        the caller owns it (it is not shut down here).
 
     Returns
     -------
     list
         The results, in job order.
     """
+    if executor is not None:
+        return map_jobs(executor, fn, jobs, on_result=on_result)
     if workers <= 1 or len(jobs) <= 1:
         from threadpoolctl import threadpool_limits
         results = []
@@ -95,4 +116,107 @@ def run_in_pool(fn, jobs: list, workers: int, on_result=None) -> list:
         raise
     finally:
         pool.join()
+    return results
+
+
+class OneBlasThread:
+    """``fn`` wrapped to run with one BLAS thread (picklable when ``fn`` is).
+
+    The workers of an executor handed in by the caller are not started here, so the
+    limit of :func:`_worker_init` is applied around each call instead.
+
+    Parameters
+    ----------
+    fn : callable
+        A module-level function.
+    """
+
+    def __init__(self, fn):
+        self.fn = fn
+        # dask names a task after its function; keep the wrapped one's name
+        self.__name__ = getattr(fn, "__name__", "job")
+
+    def __call__(self, *args):
+        from threadpoolctl import threadpool_limits
+        with threadpool_limits(limits=1, user_api="blas"):
+            return self.fn(*args)
+
+
+def _is_dask_client(executor) -> bool:
+    return type(executor).__module__.split(".")[0] == "distributed"
+
+
+def map_jobs(executor, fn, jobs: list, on_result=None, retries: int = 0) -> list:
+    """``fn(*job)`` for every job on ``executor``; results in job order.
+
+    Parameters
+    ----------
+    executor : object
+        ``submit``-style (``concurrent.futures``, ``dask.distributed.Client``),
+        ``apply_async``-style (``multiprocessing`` pools) or ``map``-style.
+    fn : callable
+        A module-level function.
+    jobs : list of tuple
+        Positional arguments of each call.
+    on_result : callable, optional
+        Called here with each result as it completes (``map``-style executors: in job
+        order).
+    retries : int
+        A Dask client re-runs a job that raised up to this many times (a job lost with
+        its worker is rescheduled by the scheduler itself).
+
+    Returns
+    -------
+    list
+        The results, in job order.
+
+    Raises
+    ------
+    Exception
+        The first job's exception, after the jobs not yet started are cancelled.
+    """
+    call = OneBlasThread(fn)
+    jobs = [tuple(j) for j in jobs]
+    if not jobs:
+        return []
+    if _is_dask_client(executor):
+        from distributed import as_completed
+        # pure=False: never merged with another job of equal arguments, never cached
+        futures = [executor.submit(call, *job, pure=False, retries=retries) for job in jobs]
+        order = {f.key: i for i, f in enumerate(futures)}
+        return _collect(futures, as_completed(futures), order, on_result,
+                        key=lambda f: f.key)
+    if hasattr(executor, "submit"):
+        import concurrent.futures as cf
+        futures = [executor.submit(call, *job) for job in jobs]
+        order = {id(f): i for i, f in enumerate(futures)}
+        done = cf.as_completed(futures) if isinstance(futures[0], cf.Future) else futures
+        return _collect(futures, done, order, on_result, key=id)
+    if hasattr(executor, "apply_async"):
+        pending = [executor.apply_async(call, job, callback=on_result) for job in jobs]
+        return [p.get() for p in pending]
+    if hasattr(executor, "map"):
+        results = []
+        for r in executor.map(call, *zip(*jobs)):
+            results.append(r)
+            if on_result is not None:
+                on_result(r)
+        return results
+    raise TypeError(f"an executor needs submit(), apply_async() or map(); "
+                    f"{type(executor).__name__} has none")
+
+
+def _collect(futures, completed, order, on_result, key) -> list:
+    """Results of ``futures`` as they complete, put back in job order; on an error the
+    remaining futures are cancelled."""
+    results = [None] * len(futures)
+    try:
+        for f in completed:
+            results[order[key(f)]] = r = f.result()
+            if on_result is not None:
+                on_result(r)
+    except BaseException:
+        for f in futures:
+            f.cancel()
+        raise
     return results

@@ -88,7 +88,9 @@ class JointProblem:
         sampled = [nm for nm in priors if nm not in self.marginalised]
         self.prior = JointPrior(sampled, [priors[nm] for nm in sampled])
         self.names = list(self.prior.free_names)
-        self._in_block = {id(pr) for b in self.blocks for pr in b.predictors}
+        # keyed by dataset name (unique in a case), not id(): ids change when the problem
+        # is pickled to a worker
+        self._in_block = {pr.dataset.name for b in self.blocks for pr in b.predictors}
 
     # ----------------------------------------------------------------- helpers
     def __getstate__(self):
@@ -148,7 +150,7 @@ class JointProblem:
             p = self.prior.expand(theta[sel])
             with np.errstate(all="ignore"):
                 for pr in self.predictors:
-                    if id(pr) not in self._in_block:
+                    if pr.dataset.name not in self._in_block:
                         out[pr.dataset.name][sel] = self._dataset_loglike(pr, p, False)
                 for b in self.blocks:
                     ll = b.log_likelihood(p)
@@ -173,7 +175,7 @@ class JointProblem:
         """Labels of the log-likelihood terms and their number of points: one term per
         dataset whose nuisances are sampled, one per block of marginalised datasets."""
         sizes = {pr.dataset.name: pr.dataset.n for pr in self.predictors
-                 if id(pr) not in self._in_block}
+                 if pr.dataset.name not in self._in_block}
         for b in self.blocks:
             sizes[b.label] = sum(pr.dataset.n for pr in b.predictors)
         return sizes

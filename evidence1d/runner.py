@@ -60,15 +60,16 @@ def _evidence_options(settings) -> dict:
     return opts
 
 
-def _island_job(case, name, settings, seed):
-    """One evidence island of one family: a pool job."""
+def _island_job(problem, settings, seed):
+    """One evidence island of one family: a pool job (it receives the family's joint
+    problem, not the whole case)."""
     from .inference.evidence import run_island
-    problem = case.problem(name)
     return run_island(problem.log_likelihood, problem.prior, seed,
                       **_evidence_options(settings))
 
 
-def _evidences(case, names, settings, seeds, store, progress, workers: int) -> dict:
+def _evidences(case, names, settings, seeds, store, progress, workers: int,
+               executor=None) -> dict:
     """The evidence of every family, its islands spread over ``workers`` processes.
 
     Islands of all families are independent jobs (R per family), so the work is shared out
@@ -91,12 +92,13 @@ def _evidences(case, names, settings, seeds, store, progress, workers: int) -> d
             continue
         ev_seed = seeds[n][0]
         for seed in island_seeds(np.random.default_rng(ev_seed), settings["islands"]):
-            jobs.append((case, n, settings, seed))
+            jobs.append((problem, settings, seed))
             owner.append(n)
     if jobs:
         bar = stage_bar(len(jobs), progress, "evidence", unit="island")
         try:
-            done = run_in_pool(_island_job, jobs, workers, on_result=lambda _: bar.update(1))
+            done = run_in_pool(_island_job, jobs, workers, on_result=lambda _: bar.update(1),
+                               executor=executor)
         finally:
             bar.close()
         record = evidence_settings(n_islands=settings["islands"], **_evidence_options(settings))
@@ -110,9 +112,10 @@ def _evidences(case, names, settings, seeds, store, progress, workers: int) -> d
     return {n: evidences[n] for n in names}
 
 
-def _run_model(case, name, settings, streams, ev, store, progress, position=None,
+def _run_model(problem, sample, settings, streams, ev, store, progress, position=None,
                figures=None):
-    """Everything after the evidence for one family: a pool job."""
+    """Everything after the evidence for one family: a pool job (it receives the family's
+    joint problem and the sample, not the whole case)."""
     from .inference.compare import savage_dickey
     from .inference.diagnostics import diagnose, psis_loo
     from .analysis import bound_flags, goodness_of_fit
@@ -123,7 +126,7 @@ def _run_model(case, name, settings, streams, ev, store, progress, position=None
     from .inference.posterior import population_moves, sample_posterior
 
     t0 = time.perf_counter()
-    problem = case.problem(name)
+    name = problem.model
     if progress:
         progress = {"label": name, "position": position}
     _, post_seed, sd_seed, nu_seed = streams
@@ -179,7 +182,7 @@ def _run_model(case, name, settings, streams, ev, store, progress, position=None
     }
     analysis["parameter_table"] = parameter_table(problem, samples, nuis)
     if figures is not None:
-        analysis["figures"] = model_figure_data(name, problem, case.sample, samples, full,
+        analysis["figures"] = model_figure_data(name, problem, sample, samples, full,
                                                 analysis["parameter_table"], figures)
     return ModelResult(name=name, title=problem.card.title,
                        one_dimensional=problem.one_dimensional, names=list(problem.names),
@@ -231,7 +234,7 @@ def run_context(case, names, quick: bool, figures) -> dict:
 
 def run(case, *, seed: int | None = None, quick: bool = False, models=None,
         progress: bool = True, workers: int | None = None, budget: bool | None = None,
-        figures: bool = True, store=None) -> RunResults:
+        figures: bool = True, store=None, executor=None) -> RunResults:
     """Compare the model families of a case: computation only.
 
     No file is written unless a ``store`` is given (the command line passes a
@@ -267,6 +270,15 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
         Where checkpoints and finished evidences are kept: ``checkpoint(name) -> Path``,
         ``load_evidence(name, settings)``, ``save_evidence(name, ev, settings)``,
         ``resume`` (bool) and ``log(message)``.
+    executor : object, optional
+        Where the evidence islands and the families run instead of a process pool of our
+        own: anything with ``submit`` (``concurrent.futures``, a
+        ``dask.distributed.Client``), a ``multiprocessing`` pool, or anything with ``map``
+        (see :mod:`evidence1d.parallel`); ``workers`` is then not used.  Jobs receive the
+        family's joint problem, so only that travels to the workers.  A ``store`` is
+        written by the workers: with a remote cluster it needs a folder they share.  The
+        numbers are the same whatever the executor.  The evidence budget still runs on
+        local processes.
 
     Returns
     -------
@@ -294,14 +306,17 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
     log(f"settings: {json.dumps(settings)}; models: {', '.join(names)}")
     t0 = time.time()
     seeds = _model_seeds(seed, names)
-    log(f"evidence: {settings['islands']} islands per family over "
-        f"{worker_count(workers, len(names) * settings['islands'])} process(es)")
+    log(f"evidence: {settings['islands']} islands per family "
+        + (f"on {type(executor).__name__}" if executor is not None else
+           f"over {worker_count(workers, len(names) * settings['islands'])} process(es)"))
     evidences = _evidences(case, names, settings, seeds, store, progress,
-                           worker_count(workers, len(names) * settings["islands"]))
+                           worker_count(workers, len(names) * settings["islands"]),
+                           executor=executor)
     n_workers = worker_count(workers, len(names))
-    jobs = [(case, n, settings, seeds[n], evidences[n], store, progress,
-             i if n_workers > 1 else None, fig_settings) for i, n in enumerate(names)]
-    results = dict(zip(names, run_in_pool(_run_model, jobs, n_workers)))
+    jobs = [(case.problem(n), case.sample, settings, seeds[n], evidences[n], store,
+             progress and executor is None, i if n_workers > 1 else None, fig_settings)
+            for i, n in enumerate(names)]
+    results = dict(zip(names, run_in_pool(_run_model, jobs, n_workers, executor=executor)))
     for n, r in results.items():
         log(f"{n}: ln Z = {r.evidence.log_z:.3f} ± {r.evidence.log_z_err:.3f} "
             f"({r.evidence.n_evaluations} + {r.posterior.n_evaluations} evaluations, "

@@ -19,11 +19,11 @@ LAYERS = {
     "units": 1, "schema": 1,
     "physics": 2, "data": 2, "inference": 2, "parallel": 2, "figure_settings": 2,
     "families": 3, "results": 3, "provenance": 3,
-    "cards": 4, "problem": 4,
+    "cards": 4, "problem": 4, "variant": 4,
     "case": 5, "sanity": 5,
     "simulate": 6, "analysis": 6, "init_case": 6,
     "runner": 7, "report": 7,
-    "outputs": 8,
+    "outputs": 8, "campaign": 8,
     "cli": 9, "__init__": 9, "__main__": 9,
 }
 #: what the report may import besides itself: it renders, it does not compute models
