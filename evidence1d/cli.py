@@ -1,4 +1,4 @@
-"""The ``evidence1d`` command: init, check, run, report, simulate.
+"""The ``evidence1d`` command: init, check, run, report, simulate, calibrate, plan.
 
 Only wiring lives here: argument parsing, calling the library, printing, exit codes.
 User errors print one line and exit with code 2 (a traceback only with ``--debug``).
@@ -26,6 +26,12 @@ _EXAMPLES = {
               "  evidence1d report results --figures-only        # redraw the figures only",
     "simulate": "example:\n  evidence1d simulate spinon_continuum --case case.yaml "
                 "--set J=1.1 --set delta=0.8 --set g=2.1 --out data/ --seed 3",
+    "calibrate": "examples:\n  evidence1d calibrate case.yaml --replicates 50\n"
+                 "  evidence1d calibrate case.yaml --from results --out calib-posterior\n"
+                 "  evidence1d calibrate case.yaml --scheduler tcp://head-node:8786\n"
+                 "  (run the same command again to resume an interrupted campaign)",
+    "plan": "examples:\n  evidence1d plan case.yaml --counting-times 0.5,1,2,4 --hours 6\n"
+            "  evidence1d plan case.yaml --from results --per-dataset --replicates 20",
 }
 
 
@@ -98,7 +104,60 @@ def _parser() -> argparse.ArgumentParser:
                    help="spectra: counts per intensity unit (default 50)")
     s.add_argument("--relative", type=float, default=0.01,
                    help="thermodynamic data: relative error (default 0.01)")
+    _campaign_parsers(sub, fmt)
     return p
+
+
+def _campaign_options(c, what: str) -> None:
+    """Options shared by the campaign commands."""
+    c.add_argument("case", help="case file (YAML)")
+    c.add_argument("--replicates", type=int, default=None, metavar="N",
+                   help=f"replicates {what}")
+    c.add_argument("--quick", action="store_true",
+                   help="smoke settings to try the command (numbers not for conclusions)")
+    c.add_argument("--out", help="campaign folder (default: next to the case file)")
+    c.add_argument("--from", dest="source", metavar="DIR",
+                   help="draw true parameters from the posterior of this run folder "
+                        "(default: from the priors)")
+    c.add_argument("--seed", type=int, help="random seed (default: the case file's)")
+    c.add_argument("--scheduler", metavar="ADDRESS",
+                   help="run on an existing Dask cluster (e.g. tcp://host:8786)")
+    c.add_argument("--workers", type=int, default=None,
+                   help="workers of the local cluster (default: one per CPU core)")
+    c.add_argument("--processes", action="store_true",
+                   help="use a process pool of this machine instead of a local Dask cluster")
+    c.add_argument("--no-figures", action="store_true", help="skip the figures")
+
+
+def _campaign_parsers(sub, fmt) -> None:
+    c = sub.add_parser("calibrate", help="how often the comparison is wrong, on simulated "
+                                         "replicates", epilog=_EXAMPLES["calibrate"],
+                       formatter_class=fmt,
+                       description="Simulate replicates of the case from every family (truths "
+                                   "from the priors or a run's posterior), fit all families, "
+                                   "and write calibration.json, calibration.md and figures.")
+    _campaign_options(c, "per true family (default 20)")
+    c.add_argument("--threshold", type=float, default=None, metavar="LNK",
+                   help="ln K above which data are called one-dimensional (default 3, "
+                        "i.e. 2 ln K > 6)")
+    pl = sub.add_parser("plan", help="how long to count to separate the families",
+                        epilog=_EXAMPLES["plan"], formatter_class=fmt,
+                        description="Simulate replicates from one family at several counting "
+                                    "times of the spectra, fit all families, and write "
+                                    "plan.json, plan.md and a figure.")
+    _campaign_options(pl, "per counting time (default 10)")
+    pl.add_argument("--counting-times", metavar="F,F,...",
+                    help="counting times as multiples of the case's (default 0.25,0.5,1,2,4)")
+    pl.add_argument("--hours", type=float, default=None,
+                    help="the counting time of the case's spectra in hours (answers in hours)")
+    pl.add_argument("--truth", help="the true family (default: the --from run's winner, "
+                                    "else the case's first model)")
+    pl.add_argument("--target", type=float, default=10.0,
+                    help="2 ln K to reach (default 10)")
+    pl.add_argument("--fraction", type=float, default=0.9,
+                    help="share of replicates that must reach it (default 0.9)")
+    pl.add_argument("--per-dataset", action="store_true",
+                    help="also count each spectrum longer on its own")
 
 
 def _parse_sets(items):
@@ -211,6 +270,60 @@ def _cmd_simulate(args):
     return 0
 
 
+def _parse_times(text):
+    if text is None:
+        return None
+    try:
+        return [float(v) for v in text.split(",") if v.strip()]
+    except ValueError:
+        raise InputError(f"--counting-times expects numbers separated by commas; got "
+                         f"{text!r}") from None
+
+
+def _cmd_calibrate(args):
+    from .campaign import calibrate, campaign_executor
+    from .campaign.calibration import DEFAULT_THRESHOLD
+    from .case import load_case
+    case = load_case(args.case)
+    out = Path(args.out) if args.out else case.path.parent / "calibration"
+    with campaign_executor(args.scheduler, args.workers,
+                           local="processes" if args.processes else "dask") as ex:
+        doc = calibrate(case, out=out, replicates=args.replicates or 20, quick=args.quick,
+                        seed=args.seed, source=args.source, executor=ex, workers=args.workers,
+                        threshold=DEFAULT_THRESHOLD if args.threshold is None
+                        else args.threshold, figures=not args.no_figures)
+    fr, mr = doc["false_1d_rate"], doc["missed_1d_rate"]
+
+    def pct(r):
+        return "n/a" if r["rate"] is None else f"{100 * r['rate']:.1f} % ({r['count']}/{r['n']})"
+    print(f"{doc['replicates']['finished']} replicates ({doc['replicates']['failed']} failed); "
+          f"at 2 ln K > {doc['threshold']['two_ln_k']:g}: false 1D {pct(fr)}, "
+          f"missed 1D {pct(mr)}; right family {pct(doc['accuracy'])}")
+    print(f"calibration: {out / 'calibration.json'}  page: {out / 'calibration.md'}")
+    return 0
+
+
+def _cmd_plan(args):
+    from .campaign import campaign_executor, plan
+    from .case import load_case
+    case = load_case(args.case)
+    out = Path(args.out) if args.out else case.path.parent / "plan"
+    kw = {}
+    times = _parse_times(args.counting_times)
+    if times is not None:
+        kw["times"] = times
+    with campaign_executor(args.scheduler, args.workers,
+                           local="processes" if args.processes else "dask") as ex:
+        doc = plan(case, out=out, replicates=args.replicates or 10, quick=args.quick,
+                   seed=args.seed, source=args.source, truth=args.truth, hours=args.hours,
+                   target=args.target, fraction=args.fraction, per_dataset=args.per_dataset,
+                   executor=ex, workers=args.workers, figures=not args.no_figures, **kw)
+    for s in doc["scopes"].values():
+        print(s["statement"])
+    print(f"plan: {out / 'plan.json'}  page: {out / 'plan.md'}")
+    return 0
+
+
 def main(argv=None) -> int:
     """Entry point of the ``evidence1d`` command; returns the exit code."""
     parser = _parser()
@@ -219,7 +332,8 @@ def main(argv=None) -> int:
         parser.print_help()
         return 2
     handler = {"init": _cmd_init, "check": _cmd_check, "run": _cmd_run, "report": _cmd_report,
-               "simulate": _cmd_simulate}[args.command]
+               "simulate": _cmd_simulate, "calibrate": _cmd_calibrate,
+               "plan": _cmd_plan}[args.command]
     try:
         return handler(args)
     except InputError as exc:
@@ -228,8 +342,12 @@ def main(argv=None) -> int:
         print(f"evidence1d: error: {exc}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
-        print("evidence1d: interrupted; completed work is kept in the checkpoints "
-              "(continue with --resume)", file=sys.stderr)
+        if args.command in ("calibrate", "plan"):
+            print("evidence1d: interrupted; finished replicates are kept (run the same "
+                  "command again to continue)", file=sys.stderr)
+        else:
+            print("evidence1d: interrupted; completed work is kept in the checkpoints "
+                  "(continue with --resume)", file=sys.stderr)
         return 130
 
 

@@ -23,7 +23,7 @@ def two_family_case(tmp_path_factory):
 def dask_client():
     distributed = pytest.importorskip("distributed")
     cluster = distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
-                                       dashboard_address=None)
+                                       dashboard_address=":0")
     client = distributed.Client(cluster)
     yield client
     client.close()
