@@ -119,6 +119,11 @@ _CASE = Spec({
     "output": Field(as_str, default=None, help="output folder"),
     "figures": Field(as_mapping, default=None, help="figure choices: cuts, temperature_axis, "
                                                   "map_scale, map_percentiles, titles, truths"),
+    "one_dimensional_limits": Field(one_of("exclude", "include",
+                                           what="one_dimensional_limits choice"),
+                                    default="exclude",
+                                    help="whether P(1D) counts the nested one-dimensional "
+                                         "limits of other families (Savage–Dickey)"),
 }, what="the case file")
 
 
@@ -176,7 +181,7 @@ class Case:
     """
 
     def __init__(self, *, path, title, sample, datasets, models, extras, sampler, prior_odds,
-                 seed, output, figures=None):
+                 seed, output, figures=None, one_dimensional_limits="exclude"):
         self.path = Path(path)
         self.title = title
         self.sample = sample
@@ -188,6 +193,7 @@ class Case:
         self.seed = seed
         self.output = Path(output)
         self.figures = figures
+        self.one_dimensional_limits = one_dimensional_limits
         self._problems = {}
 
     def __repr__(self):
@@ -265,7 +271,7 @@ class Case:
                     sample=self.sample, datasets=datasets, models=chosen,
                     extras=self.extras, sampler=settings, prior_odds=odds,
                     seed=self.seed if seed is None else int(seed), output=self.output,
-                    figures=self.figures)
+                    figures=self.figures, one_dimensional_limits=self.one_dimensional_limits)
 
 
 def _resolve(base: Path, p: str) -> Path:
@@ -487,4 +493,4 @@ def load_case(path) -> Case:
     return Case(path=doc.path, title=top["title"] or doc.path.stem, sample=sample,
                 datasets=datasets, models=models, extras=extras, sampler=sampler,
                 prior_odds=top["prior_odds"], seed=top["seed"], output=output,
-                figures=top["figures"])
+                figures=top["figures"], one_dimensional_limits=top["one_dimensional_limits"])

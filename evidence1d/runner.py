@@ -216,6 +216,14 @@ def _describe_moves(moves) -> list:
     return out
 
 
+def _nested_limits(results: dict) -> dict:
+    """family -> (ln BF limit/full, error) of the families that are not one-dimensional but
+    contain a one-dimensional limit (their Savage–Dickey ratios)."""
+    return {n: (r.savage_dickey["ln_bf_nested_vs_full"], r.savage_dickey["ln_bf_err"])
+            for n, r in results.items()
+            if r.savage_dickey is not None and not r.one_dimensional}
+
+
 def run_context(case, names, quick: bool, figures) -> dict:
     """What the report states besides the numbers, taken from the case (see
     :attr:`evidence1d.results.RunResults.context`)."""
@@ -291,7 +299,8 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
         An unknown model, or bad sampler settings.
     """
     from .analysis.stage import run_budget, run_sensitivity
-    from .inference.compare import compare_models, verdict_reliability, with_reliability
+    from .inference.compare import (compare_models, verdict_reliability, with_nested_limits,
+                                    with_reliability)
     from .provenance import provenance
     from .figure_settings import figure_settings
 
@@ -326,6 +335,8 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
     comparison = compare_models({n: (r.evidence.log_z, r.evidence.log_z_err,
                                      r.one_dimensional) for n, r in results.items()},
                                 prior_odds=case.prior_odds)
+    if getattr(case, "one_dimensional_limits", "exclude") == "include":
+        comparison = with_nested_limits(comparison, _nested_limits(results))
     rel = verdict_reliability(comparison,
                               {n: r.evidence.island_log_z for n, r in results.items()},
                               {n: r.diagnostics.ok for n, r in results.items()},

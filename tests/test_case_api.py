@@ -153,3 +153,34 @@ def test_sampler_and_evidence_settings_share_the_engine_of_the_case_file():
         with pytest.raises(InputError) as info:
             sample_posterior(lambda t: np.zeros(len(t)), prior, rng=rng, progress=False, **kw)
         assert info.value.key == key and "\n" not in str(info.value)
+
+
+def test_one_dimensional_limits_key(tmp_path):
+    """``one_dimensional_limits`` is exclude by default, include on request, and a bad
+    value is a one-line error naming the key; the verdict block says whether the nested
+    limits count."""
+    from types import SimpleNamespace
+
+    from evidence1d.inference.compare import compare_models, with_nested_limits
+    from evidence1d.report.verdict import _one_dimensional_block
+    assert evidence1d.load_case(write_valid_case(tmp_path / "a")).one_dimensional_limits \
+        == "exclude"
+    case = evidence1d.load_case(write_valid_case(
+        tmp_path / "b", CASE_YAML + "one_dimensional_limits: include\n"))
+    assert case.one_dimensional_limits == "include"
+    assert case.replace(seed=3).one_dimensional_limits == "include"
+    with pytest.raises(evidence1d.InputError) as exc:
+        evidence1d.load_case(write_valid_case(tmp_path / "c",
+                                              CASE_YAML + "one_dimensional_limits: all\n"))
+    assert "one_dimensional_limits" in str(exc.value) and "\n" not in str(exc.value)
+    cmp_ = compare_models({"a": (0.0, 0.1, True), "b": (1.0, 0.1, False)})
+    models = {"a": SimpleNamespace(savage_dickey=None),
+              "b": SimpleNamespace(savage_dickey={"parameter": "J_perp", "value": 0.0,
+                                                  "ln_bf_nested_vs_full": 1.0,
+                                                  "ln_bf_err": 0.1})}
+    off = _one_dimensional_block(cmp_, models)
+    on = _one_dimensional_block(with_nested_limits(cmp_, {"b": (1.0, 0.1)}), models)
+    assert off["nested_limits"][0]["counted"] is False and "are not counted" in \
+        off["definition"]
+    assert on["nested_limits"][0]["counted"] is True and "are counted" in on["definition"]
+    assert on["p_with_nested_limits"] == pytest.approx(off["p_with_nested_limits"])

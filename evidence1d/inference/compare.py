@@ -15,6 +15,7 @@ References
 """
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, field
 
@@ -25,7 +26,7 @@ from evidence1d.errors import InputError
 
 __all__ = ["PairComparison", "Comparison", "compare_models", "kass_raftery_wording",
            "SavageDickeyResult", "savage_dickey", "VERDICT_THRESHOLDS", "verdict_reliability",
-           "with_reliability", "p_one_dimensional_with_limits"]
+           "with_reliability", "p_one_dimensional_with_limits", "with_nested_limits"]
 
 _SCALE = ((2.0, "not worth more than a bare mention"), (6.0, "positive"),
           (10.0, "strong"), (math.inf, "very strong"))
@@ -82,6 +83,8 @@ class Comparison:
     prior_odds_stated: str
     unreliable: tuple = field(default_factory=tuple)
     reliability: dict = field(default_factory=dict)
+    #: "include" when P(1D) counts the nested one-dimensional limits (:func:`with_nested_limits`)
+    one_dimensional_limits: str = "exclude"
 
 
 def compare_models(models: dict, prior_odds: dict | None = None, unreliable=()) -> Comparison:
@@ -300,7 +303,6 @@ def with_reliability(cmp_: Comparison, reliability: dict) -> Comparison:
     ----------
     .. [1] Kass & Raftery, JASA 90, 773 (1995).
     """
-    import dataclasses
     verdict = cmp_.verdict
     if not reliability["verdict_reliable"]:
         verdict = "UNRELIABLE: " + "; ".join(reliability["reasons"]) + ". " + verdict
@@ -323,6 +325,40 @@ def _p1_with_limits(lz, w, one_d, ln_bf) -> float:
     logs = np.array(logs)
     p = np.exp(logs - special.logsumexp(logs))
     return float(p[np.array(is1)].sum())
+
+
+def with_nested_limits(cmp_: Comparison, limits: dict) -> Comparison:
+    """The comparison with P(one-dimensional | data) counting the nested limits.
+
+    P and its error come from :func:`p_one_dimensional_with_limits`; the verdict sentence
+    quotes them and names the limits counted.
+
+    Parameters
+    ----------
+    cmp_ : Comparison
+        From :func:`compare_models` (before the reliability is attached).
+    limits : dict
+        family -> (ln BF limit/full, its error), as :func:`p_one_dimensional_with_limits`.
+
+    Returns
+    -------
+    Comparison
+
+    References
+    ----------
+    .. [1] Dickey, Ann. Math. Stat. 42, 204 (1971); Kass & Raftery, JASA 90, 773 (1995).
+    """
+    counted = [n for n in cmp_.names if n in limits and not cmp_.one_dimensional[n]]
+    if not counted:
+        return dataclasses.replace(cmp_, one_dimensional_limits="include")
+    p, err = p_one_dimensional_with_limits(cmp_, limits)
+    old = (f"P(one-dimensional | data) = {cmp_.p_one_dimensional:.3g} ± "
+           f"{cmp_.p_one_dimensional_err:.2g}")
+    new = (f"P(one-dimensional | data) = {p:.3g} ± {err:.2g}, counting the nested "
+           f"one-dimensional limits of {', '.join(counted)}")
+    return dataclasses.replace(cmp_, p_one_dimensional=p, p_one_dimensional_err=err,
+                               verdict=cmp_.verdict.replace(old, new),
+                               one_dimensional_limits="include")
 
 
 def p_one_dimensional_with_limits(cmp_: Comparison, limits: dict) -> tuple:

@@ -123,7 +123,8 @@ def _comparison(s) -> list:
             f"{c['p_one_dimensional_err']:.2g}, with {c['prior_odds']}.", "",
             f"What one-dimensional means here: {od['definition']}"
             + (f" Counting them: P = {od['p_with_nested_limits']:.3g} ± "
-               f"{od['p_with_nested_limits_err']:.2g}." if od["nested_limits"] else ""), ""]
+               f"{od['p_with_nested_limits_err']:.2g}." if od["nested_limits"]
+               and not any(r["counted"] for r in od["nested_limits"]) else ""), ""]
     sd = [(n, m["savage_dickey"]) for n, m in s["models"].items() if m["savage_dickey"]]
     if sd:
         out += ["Savage–Dickey density ratio of each family's nested one-dimensional limit "

@@ -225,7 +225,8 @@ SUMMARY_FIELDS = (
     _F(f"{_C}.one_dimensional.families", "array[string]", "", "families counted in "
        "p_one_dimensional (model card one_dimensional: true)"),
     _F(f"{_C}.one_dimensional.nested_limits", "array[object]", "", "nested one-dimensional "
-       "limits of the other families (not counted in p_one_dimensional)"),
+       "limits of the other families (counted in p_one_dimensional only with "
+       "one_dimensional_limits: include in the case file)"),
     _F(f"{_C}.one_dimensional.nested_limits[].family", "string", "", "the family"),
     _F(f"{_C}.one_dimensional.nested_limits[].parameter", "string", "", "parameter that "
        "vanishes in the limit"),
@@ -233,7 +234,7 @@ SUMMARY_FIELDS = (
     _F(f"{_C}.one_dimensional.nested_limits[].ln_bf_limit_vs_full", "number|null", "nats",
        "Savage–Dickey ln BF of the limit against the full family"),
     _F(f"{_C}.one_dimensional.nested_limits[].counted", "boolean", "", "whether it counts "
-       "in p_one_dimensional (false)"),
+       "in p_one_dimensional (true with one_dimensional_limits: include)"),
     _F(f"{_C}.one_dimensional.p_with_nested_limits", "number", "", "P(1D | data) counting "
        "every nested limit as a hypothesis with half its family's prior probability"),
     _F(f"{_C}.one_dimensional.p_with_nested_limits_err", "number", "", "its error (linear "

@@ -33,6 +33,7 @@ def _one_dimensional_block(cmp_, models) -> dict:
     """What "one-dimensional" means in this run, and P(1D) counting nested limits."""
     from ..inference.compare import p_one_dimensional_with_limits
     fams = [n for n in cmp_.names if cmp_.one_dimensional[n]]
+    included = getattr(cmp_, "one_dimensional_limits", "exclude") == "include"
     limits, rows = {}, []
     for n, mr in models.items():
         sd = mr.savage_dickey
@@ -41,7 +42,7 @@ def _one_dimensional_block(cmp_, models) -> dict:
         limits[n] = (sd["ln_bf_nested_vs_full"], sd["ln_bf_err"])
         rows.append({"family": n, "parameter": sd["parameter"], "value": float(sd["value"]),
                      "ln_bf_limit_vs_full": sd["ln_bf_nested_vs_full"],
-                     "counted": False})
+                     "counted": included})
     p, err = (p_one_dimensional_with_limits(cmp_, limits) if limits
               else (float(cmp_.p_one_dimensional), float(cmp_.p_one_dimensional_err)))
     definition = ("P(one-dimensional | data) is the summed posterior probability of the "
@@ -50,9 +51,14 @@ def _one_dimensional_block(cmp_, models) -> dict:
                   "other families (" + (", ".join(f"{r['family']}: {r['parameter']} = "
                                                    f"{r['value']:g}" for r in rows)
                                         or "none in this run")
-                  + ") are not counted; p_with_nested_limits counts each as a separate "
-                  "hypothesis with half its family's prior probability and evidence "
-                  "Z × BF(limit/full) from the Savage–Dickey ratio.")
+                  + (") are counted (the case file says one_dimensional_limits: include): "
+                     "each is a separate hypothesis with half its family's prior "
+                     "probability and evidence Z × BF(limit/full) from the Savage–Dickey "
+                     "ratio." if included else
+                     ") are not counted (one_dimensional_limits: include counts them); "
+                     "p_with_nested_limits counts each as a separate hypothesis with half "
+                     "its family's prior probability and evidence Z × BF(limit/full) from "
+                     "the Savage–Dickey ratio."))
     return {"definition": definition, "families": fams, "nested_limits": rows,
             "p_with_nested_limits": float(p), "p_with_nested_limits_err": float(err)}
 

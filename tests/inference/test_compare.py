@@ -60,3 +60,23 @@ def test_savage_dickey_at_a_prior_boundary(rng):
     res = savage_dickey(post, Uniform(0.0, 2.0), 0.0, rng=rng)
     assert res.reflected
     assert abs(res.ln_bf - exact) < max(3 * res.ln_bf_err, 0.05)
+
+
+def test_nested_limits_counted_in_p_one_dimensional():
+    """one_dimensional_limits: include. Hypotheses (Jeffreys' split, each half of the
+    family's prior): the 1D family a (prior 1/2, Z = 1), the limit of b (1/4, Z e · 3) and
+    the rest of b (1/4, Z e): P(1D) = (1/2 + 3e/4) / (1/2 + e), by hand."""
+    import math
+
+    from evidence1d.inference.compare import compare_models, with_nested_limits
+    cmp_ = compare_models({"a": (0.0, 0.0, True), "b": (1.0, 0.0, False)})
+    out = with_nested_limits(cmp_, {"b": (math.log(3.0), 0.0)})
+    e = math.e
+    assert out.p_one_dimensional == pytest.approx((0.5 + 0.75 * e) / (0.5 + e), rel=1e-12)
+    assert out.p_one_dimensional != pytest.approx(cmp_.p_one_dimensional)
+    assert out.one_dimensional_limits == "include"
+    assert f"P(one-dimensional | data) = {out.p_one_dimensional:.3g}" in out.verdict
+    assert "counting the nested one-dimensional limits of b" in out.verdict
+    # a family without a limit leaves the number as it was
+    same = with_nested_limits(cmp_, {})
+    assert same.p_one_dimensional == cmp_.p_one_dimensional and same.verdict == cmp_.verdict
