@@ -177,11 +177,20 @@ def plan_figure(doc: dict, folder, quick: bool = False) -> list:
                         fmt="o-", color=col, ms=3, lw=0.8,
                         label=label)
         target, frac = doc["target_two_ln_k"], doc["fraction"]
+        top = [abs(r["two_ln_k_q90"]) for s in doc["scopes"].values() for r in s["rows"]
+               if r["n"]] + [abs(r["two_ln_k_q10"]) for s in doc["scopes"].values()
+                             for r in s["rows"] if r["n"]]
+        if top and max(top) > 20 * target:        # decisive cases span decades of 2 ln K
+            ax.set_yscale("symlog", linthresh=target)
         ax.axhline(target, color=st.PALETTE["grey"], ls="--", lw=0.8)
         bx.axhline(frac, color=st.PALETTE["grey"], ls="--", lw=0.8)
         xl = "counting time (hours)" if hours else "counting time (× the case's)"
+        shown = sorted({(r["hours"] if hours else r["factor"]) for s in doc["scopes"].values()
+                        for r in s["rows"] if r["n"]})
         for a in (ax, bx):
             a.set_xscale("log")
+            a.set_xticks(shown, [f"{v:g}" for v in shown])      # the times computed
+            a.minorticks_off()
             a.set_xlabel(xl)
         ax.set_ylabel(f"2 ln K ({_short(doc['truth_family'])} vs strongest rival)")
         ax.set_title(st.title_lines("2 ln K: median and 10-90 % of replicates "

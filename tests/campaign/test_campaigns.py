@@ -147,3 +147,41 @@ def test_interrupted_campaign_resumes(two_family_case, tmp_path):
     log = (out / "campaign.log").read_text()
     assert f"{len(finished)} of 4 calibration already finished" in log
     assert len(list((out / "replicates").glob("*.npz"))) == 4
+
+
+def test_campaign_command_errors_are_one_line(two_family_case, tmp_path, capsys):
+    case = str(two_family_case.path)
+    assert main(["plan", case, "--counting-times", "1,two", "--processes"]) == 2
+    assert "--counting-times expects numbers" in capsys.readouterr().err
+    assert main(["plan", case, "--counting-times", "0,1", "--processes",
+                 "--out", str(tmp_path / "p")]) == 2
+    assert "counting times must be numbers > 0" in capsys.readouterr().err
+    assert main(["calibrate", case, "--threshold", "-1", "--processes",
+                 "--out", str(tmp_path / "c")]) == 2
+    assert "threshold must be a number >= 0" in capsys.readouterr().err
+    assert main(["plan", case, "--truth", "magnonn", "--processes",
+                 "--out", str(tmp_path / "t")]) == 2
+    assert "unknown model 'magnonn'" in capsys.readouterr().err
+    assert main(["calibrate", case, "--from", str(tmp_path / "nothing"), "--processes",
+                 "--out", str(tmp_path / "f")]) == 2
+    assert "holds no saved results" in capsys.readouterr().err
+
+
+@pytest.mark.slow
+def test_calibrate_from_a_posterior(two_family_case, tmp_path):
+    """--from DIR: truths are rows of the run's posterior samples."""
+    import numpy as np
+
+    from evidence1d.results import load_record
+    run_dir = tmp_path / "run"
+    res = evidence1d.run_to_folder(two_family_case, out=run_dir, progress=False,
+                                   figures=False, workers=2, budget=False)
+    out = tmp_path / "cal"
+    doc = calibrate(two_family_case, out=out, replicates=1, quick=True, source=run_dir,
+                    workers=2, progress=False, figures=False)
+    assert doc["truths"].startswith("posterior of ")
+    for fam, mr in res.models.items():
+        rec, _ = load_record(out / "replicates" / f"{fam}-0000.npz")
+        row = np.array([rec["truth"][n] for n in mr.full_names])
+        assert np.any(np.all(np.isclose(np.asarray(mr.full_samples), row, rtol=0,
+                                        atol=0), axis=1))

@@ -1,0 +1,137 @@
+"""Campaign speed: replicates per hour on the flagship design, scaling with workers on a Dask
+LocalCluster, memory per worker; and whether the fast replicate settings give the same
+decisions as the full settings on the flagship data.
+
+Run by hand from the repository root on a quiet machine (not a test)::
+
+    python benchmarks/bench_campaign.py                      # 1 and 2 workers, 2 per family
+    python benchmarks/bench_campaign.py --workers 1,2,4 --replicates 3
+    python benchmarks/bench_campaign.py --decisions          # fast vs full settings
+    python benchmarks/bench_campaign.py --json results.json  # also write the numbers
+
+Throughput is measured on one and the same set of replicates (same seed) for every worker
+count, from the first task sent to the last result kept, without the cluster's start-up
+(timed apart).  Scaling model: replicates are independent tasks of minutes each, so the
+rate is r(n) = n · r(1) · e, with e the efficiency measured at the largest worker count
+here (scheduler overhead is milliseconds per task; e < 1 comes from cores shared with other
+work and from uneven task lengths at the end of a campaign).
+
+References
+----------
+.. [1] G. M. Amdahl, AFIPS Conf. Proc. 30, 483 (1967): the serial fraction bounds the
+   speed-up; here it is the tail of the last, uneven tasks.
+.. [2] Dask development team, *Dask.distributed* documentation (``LocalCluster``).
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+
+
+def _rss_mb():
+    import psutil
+    return psutil.Process().memory_info().rss / 2 ** 20
+
+
+def throughput(case, workers: int, replicates: int, seed: int) -> dict:
+    """Replicates per hour of a calibration of ``case`` on ``workers`` local Dask workers."""
+    import distributed
+
+    from evidence1d.campaign import calibrate
+    t0 = time.perf_counter()
+    cluster = distributed.LocalCluster(n_workers=workers, threads_per_worker=1,
+                                       processes=True, dashboard_address=":0")
+    client = distributed.Client(cluster)
+    start_up = time.perf_counter() - t0
+    try:
+        with tempfile.TemporaryDirectory() as tmp:
+            t1 = time.perf_counter()
+            doc = calibrate(case, out=Path(tmp) / "c", replicates=replicates, seed=seed,
+                            executor=client, progress=True, figures=False)
+            wall = time.perf_counter() - t1
+            mem = client.run(_rss_mb)
+    finally:
+        client.close()
+        cluster.close()
+    n = doc["replicates"]["total"]
+    return {"workers": workers, "replicates": n, "failed": doc["replicates"]["failed"],
+            "wall_s": wall, "start_up_s": start_up, "per_hour": 3600.0 * n / wall,
+            "worker_rss_mb": sorted(mem.values())}
+
+
+def decisions(case) -> dict:
+    """The flagship comparison with the case's full settings and with the fast settings."""
+    import numpy as np
+
+    from evidence1d.campaign.replicate import one_dimensional_log_k, replicate_settings
+    from evidence1d.runner import run
+    out = {}
+    for label, c in (("full", case), ("fast", case.replace(sampler=replicate_settings(case)))):
+        t0 = time.perf_counter()
+        res = run(c, progress=False, figures=False, budget=False)
+        cmp_ = res.comparison
+        lz = {n: float(cmp_.log_z[n]) for n in cmp_.names}
+        order = sorted(lz, key=lz.get, reverse=True)
+        out[label] = {"settings": dict(c.sampler), "wall_s": time.perf_counter() - t0,
+                      "log_z": lz, "log_z_err": {n: float(cmp_.log_z_err[n]) for n in lz},
+                      "winner": cmp_.best, "p_1d": float(cmp_.p_one_dimensional),
+                      "ln_k_top_two": lz[order[0]] - lz[order[1]],
+                      "ln_k_1d": one_dimensional_log_k(
+                          lz, {n: float(cmp_.prior_probability[n]) for n in lz},
+                          {n: bool(cmp_.one_dimensional[n]) for n in lz}),
+                      "reliable": bool(res.reliable), "verdict": cmp_.verdict}
+        print(f"{label}: {json.dumps(out[label], default=float)}", flush=True)
+    f, q = out["full"], out["fast"]
+    out["same_decisions"] = bool(f["winner"] == q["winner"]
+                                 and (f["ln_k_1d"] > 3.0) == (q["ln_k_1d"] > 3.0)
+                                 and (f["ln_k_1d"] < -3.0) == (q["ln_k_1d"] < -3.0)
+                                 and np.sign(f["ln_k_top_two"]) == np.sign(q["ln_k_top_two"]))
+    return out
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    ap.add_argument("--case", default=str(ROOT / "case_studies" / "flagship" / "case.yaml"))
+    ap.add_argument("--workers", default="1,2", help="worker counts, e.g. 1,2")
+    ap.add_argument("--replicates", type=int, default=2, help="replicates per true family")
+    ap.add_argument("--seed", type=int, default=1)
+    ap.add_argument("--decisions", action="store_true",
+                    help="compare fast and full settings on the case's own data instead")
+    ap.add_argument("--json", help="also write the numbers to this file")
+    args = ap.parse_args(argv)
+    os.environ.setdefault("MPLBACKEND", "Agg")
+    import evidence1d
+    case = evidence1d.load_case(args.case)
+    if args.decisions:
+        result = {"decisions": decisions(case)}
+    else:
+        rows = [throughput(case, int(w), args.replicates, args.seed)
+                for w in args.workers.split(",")]
+        base = rows[0]["per_hour"] / rows[0]["workers"]
+        for r in rows:
+            r["efficiency"] = r["per_hour"] / (r["workers"] * base)
+            print(f"{r['workers']} worker(s): {r['replicates']} replicates in "
+                  f"{r['wall_s']:.0f} s = {r['per_hour']:.1f} per hour (efficiency "
+                  f"{r['efficiency']:.2f}); cluster start {r['start_up_s']:.1f} s; worker "
+                  f"memory {', '.join(f'{m:.0f}' for m in r['worker_rss_mb'])} MB", flush=True)
+        e = rows[-1]["efficiency"]
+        model = {n: n * base * e for n in (4, 8, 16, 32, 64)}
+        print("model r(n) = n · r(1) · e, e = %.2f: " % e
+              + ", ".join(f"{n} workers {v:.0f}/h" for n, v in model.items()))
+        result = {"throughput": rows, "per_worker_per_hour": base, "efficiency": e,
+                  "model_per_hour": model}
+    if args.json:
+        Path(args.json).write_text(json.dumps(result, indent=2, default=float) + "\n")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
