@@ -57,11 +57,7 @@ References
 D. J. Scalapino, Y. Imry & P. Pincus, Phys. Rev. B 11, 2042 (1975).
 H. J. Schulz, Phys. Rev. Lett. 77, 2790 (1996).
 F. H. L. Essler, A. M. Tsvelik & G. Delfino, Phys. Rev. B 56, 11001 (1997) (from memory).
-H. J. Schulz, Phys. Rev. B 34, 6372 (1986) (the conformal finite-temperature form; from
-memory).
-H. M. Nussenzveig, *Causality and Dispersion Relations* (Academic Press, 1972) (Kramers–
-Kronig relations); P. Linz, *Analytical and Numerical Methods for Volterra Equations*
-(SIAM, 1985) (product integration).
+H. M. Nussenzveig, *Causality and Dispersion Relations* (Academic Press, 1972).
 """
 from __future__ import annotations
 
@@ -133,14 +129,23 @@ class _Sheets:
         ``cols``, an index array of shape (n,))."""
         cols = self.iq if cols is None else cols
         index = (np.arange(a.shape[0])[:, None], cols[None, :])
-        out = 0.0
+        out = np.zeros(a.shape)
         for sten, hi, amp in self.parts:
-            u = a / hi[index]
+            amp_p = amp[index]
+            live = amp_p > 0
+            sub = index if live.all() else tuple(np.broadcast_to(i, a.shape)[live]
+                                                 for i in index)
+            if not live.any():
+                continue                      # only where the sheet is present (Δ > 1 …)
+            u = (a if live.all() else a[live]) / hi[sub]
             if isinstance(sten, kk.TableStencil):
-                V = sten.real(u, index)
+                V = sten.real(u, sub)
             else:
-                V = kk.shape_real(u, sten[0][index], sten[1][index], *self.args[1:3])
-            out = out + math.pi * amp[index] * V / hi[index]
+                V = kk.shape_real(u, sten[0][sub], sten[1][sub], *self.args[1:3])
+            if live.all():
+                out += math.pi * amp_p * V / hi[index]
+            else:
+                out[live] += math.pi * amp_p[live] * V / hi[sub]
         la, lw = self.line[0][index], self.line[1][index]
         with np.errstate(divide="ignore", invalid="ignore"):
             line = 2.0 * la * lw / ((la - a) * (la + a))
@@ -224,7 +229,7 @@ def chain_static_susceptibility(q, T, J, delta, *, line_shape="exact",
 
     References
     ----------
-    Kramers–Kronig at ω = 0 (Nussenzveig 1972); the module notes.
+    Kramers–Kronig at ω = 0 (Nussenzveig 1972).
     """
     T, J, delta = _check(T, J, delta, line_shape, thermal_edge, method)
     q = np.atleast_1d(np.asarray(q, float))
@@ -342,11 +347,8 @@ def rpa_susceptibility(q, q_a, q_b, omega, T, J, J_perp, delta, *, z_perp=4,
     T, J, delta, pts, kT, S, chi = _prepare(q, q_a, q_b, omega, T, J, delta, line_shape,
                                             thermal_edge, method)
     chi = np.where(pts[3] < 0, np.conj(chi), chi)
-    out = {}
-    for key, (_, f, g) in _couplings(pts[0], pts[1], pts[2], J, J_perp, delta,
-                                     z_perp).items():
-        c = f * chi
-        out[key] = c / (1.0 + g * c)
+    out = {key: f * chi / (1.0 + g * f * chi) for key, (_, f, g)
+           in _couplings(pts[0], pts[1], pts[2], J, J_perp, delta, z_perp).items()}
     return out if components else out["zz"] + 2.0 * out["xx"]
 
 
