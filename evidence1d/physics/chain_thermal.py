@@ -112,11 +112,12 @@ def _series(x):
 def _g(y):
     """g(y) = |Γ(1/4 + iy)|² e^{πy} for y ≥ 0: the table below 3, 2π y^{−1/2} e^{R(y)} above."""
     step, g, dg = _g_table()
+    y = np.ascontiguousarray(y, dtype=float)      # the writes through ravel() need views
     u = np.minimum(y, _X_ASYM)
     u *= 1.0 / step
     i = u.astype(np.intp)
     u -= i
-    out = dg[i]
+    out = np.ascontiguousarray(dg[i])
     out *= u
     out += g[i]
     far = np.flatnonzero(y >= _X_ASYM)

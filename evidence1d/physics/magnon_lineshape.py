@@ -110,7 +110,8 @@ def mode_pair(energy, sigma, omega, w, temperature, damping=None):
     v_m, d_m = voigt_pair(E - omega, sig, gamma)
     v_p, d_p = voigt_pair(E + omega, sig, gamma)
     disp = (kappa * kT * gamma / (omega * omega + gamma * gamma)) * (d_m - d_p)
-    out = (W * (n1 - c)) * v_m + (W * (n0 - c)) * v_p - W * disp
+    # C order: the remainder below is added through ravel() views
+    out = np.ascontiguousarray((W * (n1 - c)) * v_m + (W * (n0 - c)) * v_p - W * disp)
     h_w = n1 - 0.5 - kappa * kT / omega                    # h_κ(ω)
     shape = out.shape
     args = [np.broadcast_to(a, shape) for a in (omega, gamma, h_w, kappa * kT, W, sig)]
