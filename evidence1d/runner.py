@@ -299,8 +299,8 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
         An unknown model, or bad sampler settings.
     """
     from .analysis.stage import run_budget, run_sensitivity
-    from .inference.compare import (compare_models, verdict_reliability, with_nested_limits,
-                                    with_reliability)
+    from .inference.compare import compare_models, verdict_reliability, with_reliability
+    from .inference.nested_limits import with_nested_limits
     from .provenance import provenance
     from .figure_settings import figure_settings
 

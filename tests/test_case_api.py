@@ -161,7 +161,8 @@ def test_one_dimensional_limits_key(tmp_path):
     limits count."""
     from types import SimpleNamespace
 
-    from evidence1d.inference.compare import compare_models, with_nested_limits
+    from evidence1d.inference.compare import compare_models
+    from evidence1d.inference.nested_limits import with_nested_limits
     from evidence1d.report.verdict import _one_dimensional_block
     assert evidence1d.load_case(write_valid_case(tmp_path / "a")).one_dimensional_limits \
         == "exclude"

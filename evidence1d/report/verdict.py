@@ -31,7 +31,7 @@ def _fit_warnings(best: str, fits: dict) -> list:
 
 def _one_dimensional_block(cmp_, models) -> dict:
     """What "one-dimensional" means in this run, and P(1D) counting nested limits."""
-    from ..inference.compare import p_one_dimensional_with_limits
+    from ..inference.nested_limits import p_one_dimensional_with_limits
     fams = [n for n in cmp_.names if cmp_.one_dimensional[n]]
     included = getattr(cmp_, "one_dimensional_limits", "exclude") == "include"
     limits, rows = {}, []

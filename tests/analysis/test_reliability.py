@@ -7,8 +7,8 @@ import math
 import numpy as np
 import pytest
 
-from evidence1d.inference.compare import (compare_models, p_one_dimensional_with_limits,
-                                          verdict_reliability, with_reliability)
+from evidence1d.inference.compare import compare_models, verdict_reliability, with_reliability
+from evidence1d.inference.nested_limits import p_one_dimensional_with_limits
 from evidence1d.inference.evidence import log_mean_exp
 
 

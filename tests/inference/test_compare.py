@@ -68,7 +68,8 @@ def test_nested_limits_counted_in_p_one_dimensional():
     the rest of b (1/4, Z e): P(1D) = (1/2 + 3e/4) / (1/2 + e), by hand."""
     import math
 
-    from evidence1d.inference.compare import compare_models, with_nested_limits
+    from evidence1d.inference.compare import compare_models
+    from evidence1d.inference.nested_limits import with_nested_limits
     cmp_ = compare_models({"a": (0.0, 0.0, True), "b": (1.0, 0.0, False)})
     out = with_nested_limits(cmp_, {"b": (math.log(3.0), 0.0)})
     e = math.e
