@@ -58,17 +58,30 @@ def throughput(case, workers: int, replicates: int, seed: int) -> dict:
                             executor=client, progress=True, figures=False)
             wall = time.perf_counter() - t1
             mem = client.run(_rss_mb)
+            from evidence1d.results import load_record
+            task_s = sorted(load_record(f)[0]["run_time"]
+                            for f in (Path(tmp) / "c" / "replicates").glob("*.npz"))
     finally:
         client.close()
         cluster.close()
     n = doc["replicates"]["total"]
     return {"workers": workers, "replicates": n, "failed": doc["replicates"]["failed"],
             "wall_s": wall, "start_up_s": start_up, "per_hour": 3600.0 * n / wall,
-            "worker_rss_mb": sorted(mem.values())}
+            "worker_rss_mb": sorted(mem.values()), "task_s": task_s}
 
 
-def decisions(case) -> dict:
-    """The flagship comparison with the case's full settings and with the fast settings."""
+def replicate_case(case, seed: int, family: str, index: int):
+    """The simulated data of calibration replicate ``family-index`` of ``seed`` as a case
+    variant, and the replicate's fit seed (what ``evidence1d calibrate`` fitted)."""
+    from evidence1d.campaign.calibration import calibration_tasks
+    from evidence1d.campaign.replicate import simulate_data, task_streams
+    task = calibration_tasks(case, index + 1, seed, families=[family])[index]
+    _, noise, fit_seed = task_streams(seed, task["key"])
+    return case.replace(data=simulate_data(case, family, task["truth"], noise)), fit_seed
+
+
+def decisions(case, seed=None) -> dict:
+    """The comparison of ``case`` with its full settings and with the fast settings."""
     import numpy as np
 
     from evidence1d.campaign.replicate import one_dimensional_log_k, replicate_settings
@@ -76,7 +89,7 @@ def decisions(case) -> dict:
     out = {}
     for label, c in (("full", case), ("fast", case.replace(sampler=replicate_settings(case)))):
         t0 = time.perf_counter()
-        res = run(c, progress=False, figures=False, budget=False)
+        res = run(c, seed=seed, progress=False, figures=False, budget=False)
         cmp_ = res.comparison
         lz = {n: float(cmp_.log_z[n]) for n in cmp_.names}
         order = sorted(lz, key=lz.get, reverse=True)
@@ -105,13 +118,22 @@ def main(argv=None) -> int:
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--decisions", action="store_true",
                     help="compare fast and full settings on the case's own data instead")
+    ap.add_argument("--replicate", metavar="FAMILY-INDEX",
+                    help="with --decisions: compare on this calibration replicate of --seed "
+                         "(e.g. spinon_continuum-0) instead of the case's own data")
     ap.add_argument("--json", help="also write the numbers to this file")
     args = ap.parse_args(argv)
     os.environ.setdefault("MPLBACKEND", "Agg")
     import evidence1d
     case = evidence1d.load_case(args.case)
     if args.decisions:
-        result = {"decisions": decisions(case)}
+        if args.replicate:
+            family, index = args.replicate.rsplit("-", 1)
+            variant, fit_seed = replicate_case(case, args.seed, family, int(index))
+            result = {"replicate": args.replicate, "seed": args.seed,
+                      "decisions": decisions(variant, fit_seed)}
+        else:
+            result = {"decisions": decisions(case)}
     else:
         rows = [throughput(case, int(w), args.replicates, args.seed)
                 for w in args.workers.split(",")]
@@ -121,7 +143,8 @@ def main(argv=None) -> int:
             print(f"{r['workers']} worker(s): {r['replicates']} replicates in "
                   f"{r['wall_s']:.0f} s = {r['per_hour']:.1f} per hour (efficiency "
                   f"{r['efficiency']:.2f}); cluster start {r['start_up_s']:.1f} s; worker "
-                  f"memory {', '.join(f'{m:.0f}' for m in r['worker_rss_mb'])} MB", flush=True)
+                  f"memory {', '.join(f'{m:.0f}' for m in r['worker_rss_mb'])} MB; task times "
+                  f"{', '.join(f'{t:.0f}' for t in r['task_s'])} s", flush=True)
         e = rows[-1]["efficiency"]
         model = {n: n * base * e for n in (4, 8, 16, 32, 64)}
         print("model r(n) = n · r(1) · e, e = %.2f: " % e
