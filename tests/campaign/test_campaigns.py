@@ -131,8 +131,11 @@ def test_interrupted_campaign_resumes(two_family_case, tmp_path):
            "--replicates", "2", "--quick", "--out", str(out), "--processes", "--workers",
            "1", "--no-figures"]
     env = dict(os.environ, MPLBACKEND="Agg")
+    # Ctrl-C restored in the child (a suite run in the background of a non-interactive
+    # shell inherits SIGINT ignored, and Python keeps it so)
     proc = subprocess.Popen(cmd, env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                            start_new_session=True)
+                            start_new_session=True,
+                            preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
     deadline = time.time() + 900          # a loaded machine is slow
     while time.time() < deadline and not any((out / "replicates").glob("*.npz")):
         time.sleep(0.2)

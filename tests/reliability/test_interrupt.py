@@ -38,8 +38,15 @@ def _start(case, out, *extra):
     env = dict(os.environ, PYTHONPATH=str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", ""))
     cmd = [sys.executable, "-m", "evidence1d.cli", "run", str(case), "--out", str(out),
            "--seed", str(SEED), "--no-figures", *extra]
+    # Ctrl-C restored in the child: a suite started in the background of a non-interactive
+    # shell inherits SIGINT ignored, and Python then keeps it ignored
     return subprocess.Popen(cmd, cwd=ROOT, env=env, stdout=subprocess.PIPE,
-                            stderr=subprocess.PIPE, start_new_session=True)
+                            stderr=subprocess.PIPE, start_new_session=True,
+                            preexec_fn=_default_sigint)
+
+
+def _default_sigint():
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
 
 
 def _wait_for_checkpoint(proc, out, timeout=90.0):
