@@ -29,9 +29,11 @@ _EXAMPLES = {
     "calibrate": "examples:\n  evidence1d calibrate case.yaml --replicates 50\n"
                  "  evidence1d calibrate case.yaml --from results --out calib-posterior\n"
                  "  evidence1d calibrate case.yaml --scheduler tcp://head-node:8786\n"
+                 "  evidence1d calibrate case.yaml --generators my_generators.py\n"
                  "  (run the same command again to resume an interrupted campaign)",
     "plan": "examples:\n  evidence1d plan case.yaml --counting-times 0.5,1,2,4 --hours 6\n"
-            "  evidence1d plan case.yaml --from results --per-dataset --replicates 20",
+            "  evidence1d plan case.yaml --from results --per-dataset --replicates 20\n"
+            "  evidence1d plan case.yaml --leave-one-out --counting-times 1",
 }
 
 
@@ -140,6 +142,9 @@ def _campaign_parsers(sub, fmt) -> None:
     c.add_argument("--threshold", type=float, default=None, metavar="LNK",
                    help="ln K above which data are called one-dimensional (default 3, "
                         "i.e. 2 ln K > 6)")
+    c.add_argument("--generators", metavar="FILE.py",
+                   help="also draw replicates from the out-of-family generators of this "
+                        "Python file (see README, 'Calibration and planning')")
     pl = sub.add_parser("plan", help="how long to count to separate the families",
                         epilog=_EXAMPLES["plan"], formatter_class=fmt,
                         description="Simulate replicates from one family at several counting "
@@ -158,6 +163,9 @@ def _campaign_parsers(sub, fmt) -> None:
                     help="share of replicates that must reach it (default 0.9)")
     pl.add_argument("--per-dataset", action="store_true",
                     help="also count each spectrum longer on its own")
+    pl.add_argument("--leave-one-out", action="store_true",
+                    help="also fit every replicate without each dataset in turn: what each "
+                         "dataset (or a planned one put in the case) adds to 2 ln K")
 
 
 def _parse_sets(items):
@@ -291,7 +299,8 @@ def _cmd_calibrate(args):
         doc = calibrate(case, out=out, replicates=args.replicates or 20, quick=args.quick,
                         seed=args.seed, source=args.source, executor=ex, workers=args.workers,
                         threshold=DEFAULT_THRESHOLD if args.threshold is None
-                        else args.threshold, figures=not args.no_figures)
+                        else args.threshold, figures=not args.no_figures,
+                        generators=args.generators)
     fr, mr = doc["false_1d_rate"], doc["missed_1d_rate"]
 
     def pct(r):
@@ -317,8 +326,11 @@ def _cmd_plan(args):
         doc = plan(case, out=out, replicates=args.replicates or 10, quick=args.quick,
                    seed=args.seed, source=args.source, truth=args.truth, hours=args.hours,
                    target=args.target, fraction=args.fraction, per_dataset=args.per_dataset,
+                   leave_one_out=args.leave_one_out,
                    executor=ex, workers=args.workers, figures=not args.no_figures, **kw)
     for s in doc["scopes"].values():
+        print(s["statement"])
+    for s in (doc["leave_one_out"] or {}).values():
         print(s["statement"])
     print(f"plan: {out / 'plan.json'}  page: {out / 'plan.md'}")
     return 0

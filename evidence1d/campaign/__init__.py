@@ -4,7 +4,8 @@ replicate on a Dask cluster or a process pool, one result file per replicate.
 
 Modules: :mod:`~.truths` (true parameters), :mod:`~.replicate` (one simulate -> fit job),
 :mod:`~.store` (the campaign folder), :mod:`~.engine` (running the jobs),
-:mod:`~.cluster` (where they run), :mod:`~.scores` (calibration scores),
+:mod:`~.cluster` (where they run), :mod:`~.generators` (out-of-family generator files),
+:mod:`~.scores` (calibration scores),
 :mod:`~.calibration` (:func:`calibrate`), :mod:`~.planning` (:func:`plan`),
 :mod:`~.figures`, :mod:`~.page`.
 """

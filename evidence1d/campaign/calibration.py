@@ -4,7 +4,9 @@ For every family of the case, replicates are drawn: true parameters from the fam
 declared priors (or from the posterior of a finished run, ``--from``), datasets simulated
 with the case's own design, errors and noise model, every family fitted with the fast
 settings (:data:`~evidence1d.campaign.replicate.FAST`), and the evidences, the winner,
-P(1D), ln K and the posterior quantile of each true parameter kept.  The scores
+P(1D), ln K and the posterior quantile of each true parameter kept.  With a generator
+file (:mod:`evidence1d.campaign.generators`), replicates are also drawn from
+out-of-family generators, with the same design and noise.  The scores
 (:mod:`evidence1d.campaign.scores`) go to ``calibration.json``, the figures and a page.
 
 References
@@ -22,8 +24,8 @@ import numpy as np
 from ..errors import InputError
 from ..results import atomic_write, json_ready
 
-__all__ = ["calibrate", "calibration_tasks", "case_fingerprint", "DEFAULT_THRESHOLD",
-           "NOISE_TEXT"]
+__all__ = ["calibrate", "calibration_tasks", "generator_tasks", "case_fingerprint",
+           "DEFAULT_THRESHOLD", "NOISE_TEXT", "GENERATOR_TEXT"]
 
 #: ln K above which a replicate is called one-dimensional: 2 ln K > 6, "strong" on the
 #: scale of Kass & Raftery (1995), §3.2
@@ -33,6 +35,13 @@ NOISE_TEXT = ("values = prediction at the truth + the case's own errors × N(0, 
               "(Student-t for datasets with noise: student_t)")
 #: first element of the task keys of calibration replicates (plans use another)
 _KEY = 1
+#: first element of the task keys of out-of-family generator replicates
+_GENERATOR_KEY = 3
+#: what calibration.json says of out-of-family replicates and coverage
+GENERATOR_TEXT = ("out-of-family generators are no family of the fit: their replicates are "
+                  "rows of the confusion matrix and count in false_1d_rate and "
+                  "missed_1d_rate, but have no parameter coverage (no fitted family holds "
+                  "their parameters) and stay out of accuracy and reliability")
 
 
 def case_fingerprint(case) -> str:
@@ -87,9 +96,31 @@ def calibration_tasks(case, replicates: int, seed: int, posteriors=None,
     return tasks
 
 
+def generator_tasks(gfile, generators: list, replicates: int, seed: int) -> list:
+    """The replicate tasks of out-of-family generators: ``replicates`` per generator.
+
+    Parameters
+    ----------
+    gfile : GeneratorFile
+    generators : list of Generator
+    replicates, seed : int
+
+    Returns
+    -------
+    list of dict
+        Tasks for :func:`~evidence1d.campaign.replicate.run_replicate` (the generator draws
+        its own parameters from the task's truth stream on the worker).
+    """
+    return [{"id": f"{g.name}-{i:04d}", "family": g.name, "truth": {},
+             "generator": {"file": gfile, "name": g.name}, "seed": int(seed),
+             "key": [_GENERATOR_KEY, gi, i]}
+            for gi, g in enumerate(generators) for i in range(int(replicates))]
+
+
 def calibrate(case, *, out, replicates: int = 20, quick: bool = False, seed=None,
               threshold: float = DEFAULT_THRESHOLD, source=None, executor=None,
-              workers=None, progress: bool = True, figures: bool = True) -> dict:
+              workers=None, progress: bool = True, figures: bool = True,
+              generators=None) -> dict:
     """Run (or resume) a calibration campaign of ``case`` into the folder ``out``.
 
     Parameters
@@ -115,6 +146,9 @@ def calibrate(case, *, out, replicates: int = 20, quick: bool = False, seed=None
     progress : bool
     figures : bool
         Draw the figures (PNG at 300 dpi and PDF).
+    generators : str or pathlib.Path, optional
+        A generator file (:mod:`evidence1d.campaign.generators`): ``replicates`` more per
+        out-of-family generator, simulated with the case's design and noise.
 
     Returns
     -------
@@ -124,7 +158,8 @@ def calibrate(case, *, out, replicates: int = 20, quick: bool = False, seed=None
     Raises
     ------
     InputError
-        Fewer than two families, bad numbers, or a folder holding another campaign.
+        Fewer than two families, bad numbers, a bad generator file, or a folder holding
+        another campaign.
     """
     from .engine import run_tasks
     from .page import calibration_page
@@ -143,10 +178,21 @@ def calibrate(case, *, out, replicates: int = 20, quick: bool = False, seed=None
     posteriors = load_posteriors(source, case) if source else None
     truths = f"posterior of {Path(source).resolve()}" if source else "prior"
     families = list(case.models)
-    store = CampaignStore(out, {"command": "calibrate", "seed": seed, "settings": settings,
-                                "truths": truths, "families": families,
-                                "case": case_fingerprint(case), "replicates": replicates})
+    gfile, gens = None, []
+    if generators is not None:
+        from .generators import load_generator_file
+        gfile, gens = load_generator_file(generators, case)
+    gen_doc = [{"name": g.name, "one_dimensional": g.one_dimensional,
+                "description": g.description} for g in gens]
+    manifest = {"command": "calibrate", "seed": seed, "settings": settings,
+                "truths": truths, "families": families,
+                "case": case_fingerprint(case), "replicates": replicates}
+    if gfile is not None:
+        manifest["generators"] = {"sha256": gfile.sha256, "generators": gen_doc}
+    store = CampaignStore(out, manifest)
     tasks = calibration_tasks(case, replicates, seed, posteriors)
+    if gfile is not None:
+        tasks += generator_tasks(gfile, gens, replicates, seed)
     records = run_tasks(run_replicate, (case, settings), tasks, store, executor=executor,
                         workers=workers, progress=progress, label="calibration")
     from .scores import calibration_scores
@@ -154,7 +200,10 @@ def calibrate(case, *, out, replicates: int = 20, quick: bool = False, seed=None
            "case": case.title, "families": families, "seed": seed, "truths": truths,
            "replicates_per_family": int(replicates), "settings": settings,
            "quick": bool(quick), "noise": NOISE_TEXT,
-           **calibration_scores(records, families, threshold)}
+           "generators": gen_doc, "generator_file": gfile.path if gfile else None,
+           "generator_note": GENERATOR_TEXT if gfile else None,
+           **calibration_scores(records, families, threshold,
+                                generators={g.name: g.one_dimensional for g in gens})}
     doc = json_ready(doc)
     import json
     atomic_write(Path(out) / "calibration.json", json.dumps(doc, indent=2) + "\n")

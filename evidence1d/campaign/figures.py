@@ -42,20 +42,25 @@ def calibration_figures(doc: dict, records: list, folder, quick: bool = False) -
 def _confusion(doc, records, quick):
     st = _style()
     fams = doc["families"]
-    m = np.array([[doc["confusion_matrix"][t][c] for c in fams] for t in fams], dtype=float)
-    fig, body = st.new_figure(st.COLUMN_WIDTH, 2.9, quick=quick)
+    truths = doc.get("true_families", fams)
+    m = np.array([[doc["confusion_matrix"][t][c] for c in fams] for t in truths], dtype=float)
+    fig, body = st.new_figure(st.COLUMN_WIDTH, 2.9 + 0.2 * (len(truths) - len(fams)),
+                              quick=quick)
     ax = body.subplots()
     rows = m.sum(axis=1, keepdims=True)
     frac = np.divide(m, rows, out=np.zeros_like(m), where=rows > 0)
     ax.imshow(frac, cmap="Blues", vmin=0, vmax=1)
-    for i in range(len(fams)):
+    for i in range(len(truths)):
         for j in range(len(fams)):
             ax.text(j, i, f"{int(m[i, j])}", ha="center", va="center",
                     color="white" if frac[i, j] > 0.6 else "black")
+    if len(truths) > len(fams):                  # generators below the families' rows
+        ax.axhline(len(fams) - 0.5, color=st.PALETTE["ink"], lw=1.0)
     ax.set_xticks(range(len(fams)), [_short(f) for f in fams], rotation=20, ha="right")
-    ax.set_yticks(range(len(fams)), [_short(f) for f in fams])
+    ax.set_yticks(range(len(truths)), [_short(f) + ("" if f in fams else " (gen.)")
+                                       for f in truths])
     ax.set_xlabel("chosen family (largest posterior probability)")
-    ax.set_ylabel("true family")
+    ax.set_ylabel("true family or generator")
     body.suptitle(st.title_lines(f"Which family wins ({doc['replicates']['finished']} "
                                  "replicates; shade: share of the row)", st.COLUMN_WIDTH))
     return fig
@@ -63,8 +68,10 @@ def _confusion(doc, records, quick):
 
 def _ln_k(doc, records, quick):
     st = _style()
-    fams = doc["families"]
-    fig, body = st.new_figure(st.COLUMN_WIDTH, 2.6, quick=quick)
+    fams = doc.get("true_families", doc["families"])
+    one_d = doc.get("truth_one_dimensional", doc["one_dimensional"])
+    fig, body = st.new_figure(st.COLUMN_WIDTH, 2.6 + 0.2 * (len(fams) - len(doc["families"])),
+                              quick=quick)
     ax = body.subplots()
     rng = np.random.default_rng(0)            # jitter of the points only
     t = doc["threshold"]["ln_k"]
@@ -73,7 +80,7 @@ def _ln_k(doc, records, quick):
     for i, f in enumerate(fams):
         v = np.array([r["ln_k_1d"] for r in records if not r.get("failed")
                       and r["family"] == f and r.get("ln_k_1d") is not None], dtype=float)
-        col = st.PALETTE["one_d"] if doc["one_dimensional"].get(f) else st.PALETTE["three_d"]
+        col = st.PALETTE["one_d"] if one_d.get(f) else st.PALETTE["three_d"]
         if v.size:
             ax.scatter(v, i + rng.uniform(-0.18, 0.18, v.size), s=6,
                        color=col, alpha=0.7, linewidths=0)
@@ -89,7 +96,7 @@ def _ln_k(doc, records, quick):
     ax.set_yticks(range(len(fams)), [_short(f) for f in fams])
     ax.set_ylim(-0.6, len(fams) - 0.4)
     ax.set_xlabel(f"ln K (1D families vs the others; linear within ±{lin:g})")
-    ax.set_ylabel("true family")
+    ax.set_ylabel("true family or generator")
     body.suptitle(st.title_lines(f"ln K per true family (dashed: ±{t:g}; bar: median)",
                                  st.COLUMN_WIDTH))
     return fig
@@ -165,7 +172,7 @@ def plan_figure(doc: dict, folder, quick: bool = False) -> list:
             if not rows:
                 continue
             x = np.array([r["hours"] if hours else r["factor"] for r in rows])
-            label = "all spectra" if scope == "all" else f"{scope} only"
+            label = s.get("label") or ("all spectra" if scope == "all" else f"{scope} only")
             ax.fill_between(x, [r["two_ln_k_q10"] for r in rows],
                             [r["two_ln_k_q90"] for r in rows], color=col, alpha=0.2, lw=0)
             ax.plot(x, [r["two_ln_k_median"] for r in rows], "o-", color=col, ms=3,

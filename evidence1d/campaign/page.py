@@ -51,9 +51,21 @@ def calibration_page(doc: dict, records: list, figures: list, out) -> str:
              f"- the winning family is the true one in {_pct(doc['accuracy'])}", "",
              "| true family | " + " | ".join(f"chosen: {f}" for f in fams) + " |",
              "|---|" + "---|" * len(fams)]
-    for tf in fams:
-        lines.append(f"| {tf} | " + " | ".join(str(doc["confusion_matrix"][tf][c])
-                                               for c in fams) + " |")
+    rows = doc.get("true_families", fams)
+    for tf in rows:
+        mark = " (generator)" if tf not in fams else ""
+        lines.append(f"| {tf}{mark} | " + " | ".join(str(doc["confusion_matrix"][tf][c])
+                                                     for c in fams) + " |")
+    if doc.get("generators"):
+        lines += ["", "### Out-of-family generators", "",
+                  f"Generators of {doc['generator_file']}; {doc['generator_note']}.", "",
+                  "| generator | one-dimensional | called one-dimensional | won by a family "
+                  "of its class | what it is |", "|---|---|---|---|---|"]
+        for g in doc["generators"]:
+            pt = doc["per_truth"][g["name"]]
+            lines.append(f"| {g['name']} | {'yes' if g['one_dimensional'] else 'no'} | "
+                         f"{_pct(pt['called_1d'])} | {_pct(pt['winner_of_its_class'])} | "
+                         f"{g['description'] or '-'} |")
     rel = doc["reliability"]
     lines += ["", "## Does P(1D) mean what it says?", "",
               "Replicates binned by their P(1D); in a reliable comparison the share of "
@@ -94,8 +106,11 @@ def plan_page(doc: dict, figures: list, out) -> str:
              f"Failed replicates: {doc['failed']}.", "", "## Answer", ""]
     for s in doc["scopes"].values():
         lines.append(f"- {s['statement']}.")
+    for s in (doc.get("leave_one_out") or {}).values():
+        lines.append(f"- {s['statement']}.")
     for scope, s in doc["scopes"].items():
-        lines += ["", f"## Counting {'all spectra' if scope == 'all' else scope + ' alone'}",
+        what = s.get("label") or ("all spectra" if scope == "all" else f"'{scope}' alone")
+        lines += ["", f"## Counting {what}",
                   "", "| counting time | replicates | 2 ln K median (10-90 %) | "
                   f"share with 2 ln K > {doc['target_two_ln_k']:g} |", "|---|---|---|---|"]
         for r in s["rows"]:
@@ -108,5 +123,24 @@ def plan_page(doc: dict, figures: list, out) -> str:
             else:
                 q = f = "n/a"
             lines.append(f"| {when} | {r['n']} | {q} | {f} |")
+    loo = doc.get("leave_one_out")
+    if loo:
+        lines += ["", "## What each dataset adds (leave-one-out)", "",
+                  "Every replicate fitted again without one dataset (same truth, same noise "
+                  "on the datasets kept): Δ = 2 ln K(all) − 2 ln K(without it), paired per "
+                  "replicate. A planned measurement is valued the same way when its design "
+                  "is a dataset of the case.", "",
+                  "| dataset | counting time | replicates | Δ median (10-90 %) | mean Δ | "
+                  "share with Δ > 0 |", "|---|---|---|---|---|---|"]
+        for name, s in loo.items():
+            for r in s["rows"]:
+                when = f"{r['factor']:g} ×" + (f" ({r['hours']:.3g} h)" if hours else "")
+                if r["n"]:
+                    lines.append(f"| {name} | {when} | {r['n']} | {r['delta_median']:.3g} "
+                                 f"({r['delta_q10']:.3g} to {r['delta_q90']:.3g}) | "
+                                 f"{r['delta_mean']:.3g} | "
+                                 f"{100 * r['share_positive']:.0f} % |")
+                else:
+                    lines.append(f"| {name} | {when} | 0 | n/a | n/a | n/a |")
     lines += ["", "## Figures", ""] + _figure_lines(figures, out)
     return "\n".join(lines) + "\n"

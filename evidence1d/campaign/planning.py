@@ -8,7 +8,13 @@ noise draws at every counting time (common random numbers), so its ln K changes 
 with counting time.  ``plan.json`` holds, per counting time, the quantiles of 2 ln K of the
 true family against its strongest rival and the fraction of replicates above the target,
 and says which counting time separates the families in the asked fraction of replicates.
-With ``per_dataset``, the same is done for each spectrum counted longer on its own.
+With ``per_dataset``, the same is done for each spectrum counted longer on its own.  With
+``leave_one_out``, every replicate is also fitted without each dataset in turn (same truth,
+same noise on the datasets kept, same fit seed), and ``plan.json`` gives per dataset the
+paired difference 2 ln K(all) − 2 ln K(without it): what that measurement adds to the
+others.  A measurement not yet made is valued the same way: put its planned design (points
+and expected errors, values made by ``evidence1d simulate``) in the case as a dataset, and
+its leave-one-out difference is the expected gain of adding it.
 
 References
 ----------
@@ -21,6 +27,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 from pathlib import Path
 
 import numpy as np
@@ -28,7 +35,7 @@ import numpy as np
 from ..errors import InputError
 from ..results import atomic_write, json_ready
 
-__all__ = ["plan", "plan_tasks", "plan_summary", "DEFAULT_TIMES"]
+__all__ = ["plan", "plan_tasks", "plan_summary", "leave_one_out_summary", "DEFAULT_TIMES"]
 
 #: counting times, as multiples of the case's, scanned by default
 DEFAULT_TIMES = (0.25, 0.5, 1.0, 2.0, 4.0)
@@ -36,14 +43,31 @@ DEFAULT_TIMES = (0.25, 0.5, 1.0, 2.0, 4.0)
 _KEY = 2
 
 
-def _scopes(case, per_dataset: bool) -> dict:
-    """Scope name -> the spectrum datasets counted longer in it."""
+_ID = re.compile(r"^[A-Za-z0-9_.+]+$")
+#: scope name of the fits without one dataset
+_WITHOUT = "without-"
+
+
+def _scopes(case, per_dataset: bool, leave_one_out: bool = False) -> dict:
+    """Scope name -> {"count": spectra counted longer, "drop": datasets left out of the
+    fit, "label": what the scope is}."""
     spectra = [ds.name for ds in case.datasets if ds.spec.is_spectrum]
     if not spectra:
         raise InputError("a plan scales the counting time of spectra; the case has none")
-    scopes = {"all": spectra}
+    bad = [ds.name for ds in case.datasets if not _ID.match(ds.name)]
+    if bad and (per_dataset or leave_one_out):
+        raise InputError(f"dataset name '{bad[0]}': a per-dataset plan names its replicates "
+                         "after the datasets; use letters, digits, '_', '.' or '+'")
+    scopes = {"all": {"count": spectra, "drop": [], "label": "all spectra"}}
     if per_dataset and len(spectra) > 1:
-        scopes.update({n: [n] for n in spectra})
+        scopes.update({n: {"count": [n], "drop": [], "label": f"'{n}' alone"}
+                       for n in spectra})
+    if leave_one_out:
+        if len(case.datasets) < 2:
+            raise InputError("--leave-one-out needs a case with at least two datasets")
+        scopes.update({f"{_WITHOUT}{ds.name}": {
+            "count": [n for n in spectra if n != ds.name], "drop": [ds.name],
+            "label": f"all spectra, '{ds.name}' left out"} for ds in case.datasets})
     return scopes
 
 
@@ -54,8 +78,8 @@ def plan_tasks(case, family: str, times, replicates: int, seed: int, scopes: dic
     Returns
     -------
     list of dict
-        Tasks for :func:`~evidence1d.campaign.replicate.run_replicate` with ``scope`` and
-        ``factor`` (counting time / the case's) added.
+        Tasks for :func:`~evidence1d.campaign.replicate.run_replicate` with ``scope``,
+        ``factor`` (counting time / the case's) and ``drop`` (datasets left out) added.
     """
     from .replicate import task_streams
     from .truths import posterior_truth, prior_truth
@@ -67,17 +91,18 @@ def plan_tasks(case, family: str, times, replicates: int, seed: int, scopes: dic
         truth_rng, _, _ = task_streams(seed, key)
         truth = (posterior_truth(*posteriors[family], truth_rng) if posteriors
                  else prior_truth(problem, truth_rng))
-        for scope, names in scopes.items():
+        for scope, sc in scopes.items():
             for f in times:
                 tasks.append({"id": f"{scope}-x{f:g}-{i:04d}", "family": family,
                               "truth": truth, "seed": int(seed), "key": list(key),
                               "scope": scope, "factor": float(f),
-                              "scale": {n: 1.0 / math.sqrt(f) for n in names}})
+                              "scale": {n: 1.0 / math.sqrt(f) for n in sc["count"]},
+                              "drop": list(sc["drop"])})
     return tasks
 
 
 def plan_summary(tasks, records, times, target: float, fraction: float,
-                 hours: float | None) -> dict:
+                 hours: float | None, labels: dict | None = None) -> dict:
     """Per scope and counting time: quantiles of 2 ln K, the fraction above ``target``,
     and the shortest counting time reaching ``fraction``.
 
@@ -93,6 +118,8 @@ def plan_summary(tasks, records, times, target: float, fraction: float,
         Share of replicates that must reach it.
     hours : float, optional
         The case's counting time in hours (then times are also stated in hours).
+    labels : dict of str to str, optional
+        What each scope is (default: the scope's name).
 
     Returns
     -------
@@ -131,13 +158,64 @@ def plan_summary(tasks, records, times, target: float, fraction: float,
                 f = last["factor"] * target / low
                 sep = {"factor": f, "hours": None if hours is None else f * hours,
                        "extrapolated": True}
-        out[scope] = {"rows": rows, "separates": sep,
-                      "statement": _statement(scope, sep, target, fraction, hours)}
+        what = (labels or {}).get(scope) or ("all spectra" if scope == "all"
+                                             else f"'{scope}' alone")
+        out[scope] = {"label": what, "rows": rows, "separates": sep,
+                      "statement": _statement(what, sep, target, fraction, hours)}
     return {"scopes": out}
 
 
-def _statement(scope, sep, target, fraction, hours) -> str:
-    what = "all spectra" if scope == "all" else f"'{scope}' alone"
+def leave_one_out_summary(tasks, records, times, hours: float | None) -> dict:
+    """What each dataset adds: per dataset and counting time, the paired difference
+    Δ = 2 ln K(all) − 2 ln K(without the dataset) over the replicates.
+
+    Parameters
+    ----------
+    tasks, records : list of dict
+        In the same order (scopes ``all`` and ``without-<dataset>``).
+    times : list of float
+    hours : float, optional
+
+    Returns
+    -------
+    dict
+        Per dataset: ``rows`` (one per counting time: ``n``, ``delta_q10``,
+        ``delta_median``, ``delta_q90``, ``delta_mean``, ``share_positive``) and a
+        ``statement`` at the counting time nearest the case's.
+    """
+    from .scores import wilson_interval
+    val = {(t["scope"], t["factor"], t["key"][-1]): 2.0 * r["ln_k_truth"]
+           for t, r in zip(tasks, records) if not r.get("failed")}
+    out = {}
+    near = min(times, key=lambda f: abs(math.log(f)))
+    for scope in dict.fromkeys(t["scope"] for t in tasks):
+        if not scope.startswith(_WITHOUT):
+            continue
+        name = scope[len(_WITHOUT):]
+        rows = []
+        for f in times:
+            d = np.array([v - val[(scope, float(f), i)] for (s, ff, i), v in val.items()
+                          if s == "all" and ff == float(f) and (scope, ff, i) in val])
+            k = int(np.sum(d > 0))
+            q = np.quantile(d, [0.1, 0.5, 0.9]) if d.size else [None] * 3
+            rows.append({"factor": float(f), "hours": None if hours is None else f * hours,
+                         "n": int(d.size), "delta_q10": q[0], "delta_median": q[1],
+                         "delta_q90": q[2],
+                         "delta_mean": float(np.mean(d)) if d.size else None,
+                         "share_positive": (k / d.size) if d.size else None,
+                         "interval95": wilson_interval(k, int(d.size))})
+        r = next(r for r in rows if r["factor"] == float(near))
+        when = f"{near:g} × the case's counting time" + (
+            f" ({near * hours:.3g} hours)" if hours is not None else "")
+        statement = (f"'{name}' adds a median 2 ln K of {r['delta_median']:.3g} (10-90 % of "
+                     f"replicates: {r['delta_q10']:.3g} to {r['delta_q90']:.3g}) to the "
+                     f"other datasets at {when}" if r["n"] else
+                     f"'{name}': no replicate was fitted both with and without it")
+        out[name] = {"rows": rows, "statement": statement}
+    return out
+
+
+def _statement(what, sep, target, fraction, hours) -> str:
     if sep is None:
         return (f"counting {what} for none of the listed times separates the families at "
                 f"2 ln K > {target:g} in {100 * fraction:.0f} % of replicates, and the "
@@ -151,8 +229,8 @@ def _statement(scope, sep, target, fraction, hours) -> str:
 
 def plan(case, *, out, times=DEFAULT_TIMES, replicates: int = 10, quick: bool = False,
          seed=None, truth=None, source=None, hours=None, target: float = 10.0,
-         fraction: float = 0.9, per_dataset: bool = False, executor=None, workers=None,
-         progress: bool = True, figures: bool = True) -> dict:
+         fraction: float = 0.9, per_dataset: bool = False, leave_one_out: bool = False,
+         executor=None, workers=None, progress: bool = True, figures: bool = True) -> dict:
     """Run (or resume) a counting-time plan of ``case`` into the folder ``out``.
 
     Parameters
@@ -178,6 +256,9 @@ def plan(case, *, out, times=DEFAULT_TIMES, replicates: int = 10, quick: bool = 
         Share of replicates that must reach it.
     per_dataset : bool
         Also count each spectrum longer on its own.
+    leave_one_out : bool
+        Also fit every replicate without each dataset in turn (``leave_one_out`` in
+        ``plan.json``: what each dataset adds).
     executor, workers, progress, figures
         As for :func:`evidence1d.campaign.calibration.calibrate`.
 
@@ -207,7 +288,7 @@ def plan(case, *, out, times=DEFAULT_TIMES, replicates: int = 10, quick: bool = 
             from ..results import load_results
             truth = load_results(source).comparison.best
     case.problem(truth)                                   # an unknown family: one line
-    scopes = _scopes(case, per_dataset)
+    scopes = _scopes(case, per_dataset, leave_one_out)
     settings = replicate_settings(case, quick)
     truths = f"posterior of {Path(source).resolve()}" if source else "prior"
     store = CampaignStore(out, {"command": "plan", "seed": seed, "settings": settings,
@@ -227,7 +308,10 @@ def plan(case, *, out, times=DEFAULT_TIMES, replicates: int = 10, quick: bool = 
            "scaling": "a spectrum counted f × as long has errors / √f; thermodynamic "
                       "data keep theirs",
            "failed": sum(bool(r.get("failed")) for r in records),
-           **plan_summary(tasks, records, times, target, fraction, hours)}
+           **plan_summary(tasks, records, times, target, fraction, hours,
+                          {k: v["label"] for k, v in scopes.items()}),
+           "leave_one_out": (leave_one_out_summary(tasks, records, times, hours)
+                             if leave_one_out else None)}
     doc = json_ready(doc)
     atomic_write(Path(out) / "plan.json", json.dumps(doc, indent=2) + "\n")
     made = []

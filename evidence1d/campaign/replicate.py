@@ -27,7 +27,7 @@ import numpy as np
 from ..errors import InputError
 
 __all__ = ["FAST", "SMOKE", "replicate_settings", "task_streams", "simulate_data",
-           "run_replicate", "one_dimensional_log_k"]
+           "add_noise", "run_replicate", "one_dimensional_log_k"]
 
 #: sampler settings of a replicate, laid under the case's (each the smaller of the two):
 #: the settings of ``evidence1d run --quick``, whose decisions README "Calibration and
@@ -90,20 +90,70 @@ def simulate_data(case, family: str, truth: dict, rng, scale=None) -> dict:
     problem = case.problem(family)
     theta = np.array([[truth[n] for n in problem.full_names]])
     pred = problem.predict(theta)
-    out = {}
+    mu = {}
     for ds in case.datasets:
-        mu = pred[ds.name][0]
-        if not np.all(np.isfinite(mu)):
+        mu[ds.name] = pred[ds.name][0]
+        if not np.all(np.isfinite(mu[ds.name])):
             raise InputError(f"model '{family}' gives non-finite values for dataset "
                              f"'{ds.name}' at the drawn truth")
+    inflate = {ds.name: truth.get(f"{ds.name}:inflate", 1.0) for ds in case.datasets}
+    return add_noise(case, mu, rng, scale, inflate)
+
+
+def add_noise(case, mu: dict, rng, scale=None, inflate=None) -> dict:
+    """The case's noise laid on noiseless values: y = μ + f s σ ε per dataset.
+
+    Parameters
+    ----------
+    case : Case
+    mu : dict of str to ndarray
+        Noiseless values per dataset name (internal units).
+    rng : numpy.random.Generator
+        The noise stream, drawn dataset by dataset in the case's order.
+    scale : dict of str to float, optional
+        Error scale s per dataset (default 1).
+    inflate : dict of str to float, optional
+        Error inflation f of the truth per dataset (default 1).
+
+    Returns
+    -------
+    dict of str to (ndarray, ndarray)
+        Values and errors s σ, for :meth:`~evidence1d.case.Case.replace`.
+    """
+    out = {}
+    for ds in case.datasets:
         if ds.options.get("noise") == "student_t":
             eps = rng.standard_t(ds.options.get("nu", 4.0), size=ds.n)
         else:
             eps = rng.standard_normal(ds.n)
         s = float((scale or {}).get(ds.name, 1.0))
         err = s * ds.err
-        out[ds.name] = (mu + truth.get(f"{ds.name}:inflate", 1.0) * err * eps, err)
+        f = float((inflate or {}).get(ds.name, 1.0))
+        out[ds.name] = (mu[ds.name] + f * err * eps, err)
     return out
+
+
+def without_datasets(case, names=None):
+    """``case`` (a variant of its own, made by :meth:`~evidence1d.case.Case.replace`)
+    without the datasets ``names``: what a leave-one-out fit sees.
+
+    Raises
+    ------
+    InputError
+        An unknown dataset, or no dataset left.
+    """
+    if not names:
+        return case
+    known = [ds.name for ds in case.datasets]
+    bad = [n for n in names if n not in known]
+    if bad:
+        raise InputError(f"unknown dataset '{bad[0]}'; datasets of the case: "
+                         + ", ".join(known))
+    variant = case.replace()                 # a new Case: no joint problem cached yet
+    variant.datasets = [ds for ds in case.datasets if ds.name not in names]
+    if not variant.datasets:
+        raise InputError("leaving out every dataset leaves nothing to fit")
+    return variant
 
 
 def one_dimensional_log_k(log_z: dict, weights: dict, one_d: dict):
@@ -143,7 +193,11 @@ def run_replicate(case, settings: dict, task: dict) -> dict:
         Sampler settings (:func:`replicate_settings`).
     task : dict
         ``id``, ``family`` (the true family), ``truth`` (its parameters), ``seed`` and
-        ``key`` (see :func:`task_streams`), ``scale`` (error scale per dataset, optional).
+        ``key`` (see :func:`task_streams`), ``scale`` (error scale per dataset, optional),
+        ``generator`` (optional: ``{"file": GeneratorFile, "name": str}``, an out-of-family
+        truth drawn by :func:`~evidence1d.campaign.generators.generator_data` from the
+        task's truth stream; ``family`` is then the generator's name), ``drop`` (optional:
+        datasets simulated but left out of the fit).
 
     Returns
     -------
@@ -151,18 +205,28 @@ def run_replicate(case, settings: dict, task: dict) -> dict:
         ``id``, ``family``, ``truth``, ``log_z`` and ``log_z_err`` per family,
         ``one_dimensional`` per family, ``prior_probability``, ``winner``, ``p_1d``,
         ``ln_k_1d`` (:func:`one_dimensional_log_k`), ``ln_k_truth`` (ln Z of the true
-        family minus the largest other), ``reliable``, ``ranks`` (per physical parameter
-        of the true family: the fraction of its posterior samples below the truth),
+        family minus the largest other; None for a generator), ``reliable``, ``ranks``
+        (per physical parameter of the true family: the fraction of its posterior samples
+        below the truth; empty for a generator), ``generator`` (bool), ``dropped``,
         ``run_time`` (s) and ``failed`` (None, or why the fit could not be made).
     """
     from ..runner import run
     t0 = time.perf_counter()
-    _, noise_rng, fit_seed = task_streams(task["seed"], task["key"])
-    rec = {"id": task["id"], "family": task["family"], "truth": dict(task["truth"]),
-           "scale": dict(task.get("scale") or {}), "failed": None}
+    truth_rng, noise_rng, fit_seed = task_streams(task["seed"], task["key"])
+    gen = task.get("generator")
+    rec = {"id": task["id"], "family": task["family"], "truth": dict(task.get("truth") or {}),
+           "scale": dict(task.get("scale") or {}), "generator": bool(gen),
+           "dropped": list(task.get("drop") or []), "failed": None}
     try:
-        data = simulate_data(case, task["family"], task["truth"], noise_rng, task.get("scale"))
-        variant = case.replace(data=data, sampler=settings)
+        if gen:
+            from .generators import generator_data
+            mu, rec["truth"] = generator_data(case, gen["file"], gen["name"], truth_rng)
+            data = add_noise(case, mu, noise_rng, task.get("scale"))
+        else:
+            data = simulate_data(case, task["family"], task["truth"], noise_rng,
+                                 task.get("scale"))
+        variant = without_datasets(case.replace(data=data, sampler=settings),
+                                   task.get("drop"))
         with warnings.catch_warnings():
             # numerical warnings of short chains (emcee's autocorrelation of a stuck
             # walker) would flood a campaign's terminal; the diagnostics keep what matters
@@ -176,12 +240,14 @@ def run_replicate(case, settings: dict, task: dict) -> dict:
     log_z = {n: float(cmp_.log_z[n]) for n in cmp_.names}
     one_d = {n: bool(cmp_.one_dimensional[n]) for n in cmp_.names}
     weights = {n: float(cmp_.prior_probability[n]) for n in cmp_.names}
-    truth_fit = res.models[task["family"]]
-    samples = np.asarray(truth_fit.posterior.samples)
-    ranks = {p: float(np.mean(samples[:, i] < task["truth"][p]))
-             for i, p in enumerate(truth_fit.names)
-             if p in case.models[task["family"]].card.parameters}
-    others = [log_z[n] for n in log_z if n != task["family"]]
+    ranks, others = {}, []
+    if not gen:                         # an out-of-family truth has no parameters to cover
+        truth_fit = res.models[task["family"]]
+        samples = np.asarray(truth_fit.posterior.samples)
+        ranks = {p: float(np.mean(samples[:, i] < task["truth"][p]))
+                 for i, p in enumerate(truth_fit.names)
+                 if p in case.models[task["family"]].card.parameters}
+        others = [log_z[n] for n in log_z if n != task["family"]]
     rec.update(log_z=log_z, log_z_err={n: float(cmp_.log_z_err[n]) for n in cmp_.names},
                one_dimensional=one_d, prior_probability=weights, winner=str(cmp_.best),
                p_1d=float(cmp_.p_one_dimensional),

@@ -73,7 +73,7 @@ def _quantiles(values) -> dict | None:
 
 
 def calibration_scores(records: list, families: list, threshold: float,
-                       n_bins: int = 5) -> dict:
+                       n_bins: int = 5, generators: dict | None = None) -> dict:
     """The scores of a calibration campaign.
 
     Parameters
@@ -82,49 +82,71 @@ def calibration_scores(records: list, families: list, threshold: float,
         Replicate records (:func:`~evidence1d.campaign.replicate.run_replicate`), failed
         ones included (they are counted, not scored).
     families : list of str
-        The families of the case, in order (rows and columns of the confusion matrix).
+        The families of the case, in order (columns of the confusion matrix, and its first
+        rows).
     threshold : float
         ln K above which a replicate is called one-dimensional (ln K of the one-dimensional
         families against the others, :func:`~evidence1d.campaign.replicate.one_dimensional_log_k`).
     n_bins : int
         Equal-width bins of predicted P(1D) in the reliability diagram.
+    generators : dict of str to bool, optional
+        Out-of-family generators (:mod:`evidence1d.campaign.generators`) and whether each
+        counts as one-dimensional: further rows of the confusion matrix, counted in
+        ``false_1d_rate`` and ``missed_1d_rate``; not in ``accuracy``, ``reliability`` and
+        ``coverage`` (no family of the fit is their truth).
 
     Returns
     -------
     dict
-        ``replicates`` (total, finished, failed), ``threshold``, ``confusion_matrix``
-        (true family -> chosen family -> count), ``accuracy``, ``false_1d_rate`` (truth
-        not one-dimensional, called one-dimensional), ``missed_1d_rate`` (truth
-        one-dimensional, not called so), ``reliability`` (bins and Brier score),
-        ``coverage`` (per interval: overall and per family.parameter), ``ln_k_1d`` and
-        ``ln_k_truth`` (quantiles per true family).
+        ``replicates`` (total, finished, failed), ``threshold``, ``true_families`` (the rows),
+        ``truth_one_dimensional`` (per row), ``confusion_matrix`` (true family or generator
+        -> chosen family -> count), ``accuracy``, ``false_1d_rate`` (truth not
+        one-dimensional, called one-dimensional), ``missed_1d_rate`` (truth
+        one-dimensional, not called so), ``per_truth`` (per row: share called
+        one-dimensional, share won by a family of the truth's class), ``reliability``
+        (bins and Brier score), ``coverage`` (per interval: overall and per
+        family.parameter), ``ln_k_1d`` and ``ln_k_truth`` (quantiles per row).
     """
+    generators = dict(generators or {})
+    rows = list(families) + [g for g in generators if g not in families]
     ok = [r for r in records if not r.get("failed")]
-    conf = {t: {c: 0 for c in families} for t in families}
+    in_family = [r for r in ok if not r.get("generator")]
+    conf = {t: {c: 0 for c in families} for t in rows}
     for r in ok:
         conf[r["family"]][r["winner"]] += 1
     one_d = ok[0]["one_dimensional"] if ok else {}
+    truth_1d = {**{f: one_d.get(f) for f in families}, **generators}
     decided = [r for r in ok if r.get("ln_k_1d") is not None]
-    truth_1d = [r for r in decided if one_d[r["family"]]]
-    truth_other = [r for r in decided if not one_d[r["family"]]]
-    false_1d = sum(r["ln_k_1d"] > threshold for r in truth_other)
-    missed = sum(not (r["ln_k_1d"] > threshold) for r in truth_1d)
+    truth_yes = [r for r in decided if truth_1d[r["family"]]]
+    truth_no = [r for r in decided if not truth_1d[r["family"]]]
+    false_1d = sum(r["ln_k_1d"] > threshold for r in truth_no)
+    missed = sum(not (r["ln_k_1d"] > threshold) for r in truth_yes)
+    per_truth = {}
+    for t in rows:
+        mine = [r for r in decided if r["family"] == t]
+        won = [r for r in ok if r["family"] == t]
+        per_truth[t] = {
+            "one_dimensional": truth_1d[t], "generator": t in generators,
+            "called_1d": rate(sum(r["ln_k_1d"] > threshold for r in mine), len(mine)),
+            "winner_of_its_class": rate(sum(one_d.get(r["winner"]) == truth_1d[t]
+                                            for r in won), len(won))}
     edges = np.linspace(0.0, 1.0, n_bins + 1)
     bins = []
     for i, (lo, hi) in enumerate(zip(edges[:-1], edges[1:])):
-        inside = [r for r in ok if lo <= r["p_1d"] < hi or (i == n_bins - 1 and r["p_1d"] == hi)]
+        inside = [r for r in in_family
+                  if lo <= r["p_1d"] < hi or (i == n_bins - 1 and r["p_1d"] == hi)]
         k = sum(one_d.get(r["family"], False) for r in inside)
         bins.append({"p_low": lo, "p_high": hi, "n": len(inside),
                      "mean_predicted": float(np.mean([r["p_1d"] for r in inside]))
                      if inside else None,
                      "observed": (k / len(inside)) if inside else None,
                      "interval95": wilson_interval(k, len(inside))})
-    brier = (float(np.mean([(r["p_1d"] - float(one_d[r["family"]])) ** 2 for r in ok]))
-             if ok else None)
+    brier = (float(np.mean([(r["p_1d"] - float(one_d[r["family"]])) ** 2
+                            for r in in_family])) if in_family else None)
     coverage = {}
     for name, (lo, hi) in INTERVALS.items():
         per, n_all, k_all = {}, 0, 0
-        for r in ok:
+        for r in in_family:
             for p, q in r["ranks"].items():
                 key = f"{r['family']}.{p}"
                 inside = lo < q < hi
@@ -141,14 +163,17 @@ def calibration_scores(records: list, families: list, threshold: float,
                       "rule": "called one-dimensional when ln K(one-dimensional families "
                               "against the others) > ln_k"},
         "one_dimensional": dict(one_d),
+        "true_families": rows,
+        "truth_one_dimensional": truth_1d,
         "confusion_matrix": conf,
-        "accuracy": rate(sum(r["winner"] == r["family"] for r in ok), len(ok)),
-        "false_1d_rate": rate(false_1d, len(truth_other)),
-        "missed_1d_rate": rate(missed, len(truth_1d)),
+        "accuracy": rate(sum(r["winner"] == r["family"] for r in in_family), len(in_family)),
+        "false_1d_rate": rate(false_1d, len(truth_no)),
+        "missed_1d_rate": rate(missed, len(truth_yes)),
+        "per_truth": per_truth,
         "reliability": {"bins": bins, "brier_score": brier},
         "coverage": coverage,
         "ln_k_1d": {f: _quantiles([r["ln_k_1d"] for r in ok if r["family"] == f])
-                    for f in families},
+                    for f in rows},
         "ln_k_truth": {f: _quantiles([r["ln_k_truth"] for r in ok if r["family"] == f])
                        for f in families},
     }
