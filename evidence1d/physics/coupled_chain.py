@@ -68,6 +68,7 @@ import numpy as np
 from ..errors import InputError
 from ..units import K_B_MEV
 from . import coupled_chain_kk as kk
+from . import coupled_chain_kk_table as kk_table
 from .chain import all_sheets
 from .chain_spectrum import LINE_SHAPES, spinon_density
 from .magnon import check_interchain, exchange_sum
@@ -106,7 +107,7 @@ class _Sheets:
     once: per sheet the table stencil (or r), ω_top and A, the bottom line (a, W) and the
     lowest edge, each (n_sets, n_q); ``iq`` maps the points to the unique phases."""
 
-    def __init__(self, q, J, delta, kT, line_shape, thermal_edge, method):
+    def __init__(self, q, J, delta, kT, line_shape, thermal_edge, method, contract=False):
         qu, self.iq = np.unique(np.asarray(q, float), return_inverse=True)
         self.iq = self.iq.reshape(np.shape(q))
         (wl, top, A, _), (wl_s, b, A_s, _), (la, lw) = all_sheets(qu, J, delta)
@@ -117,8 +118,10 @@ class _Sheets:
             if ok.any():
                 hi_ = np.where(ok, hi, 1.0)
                 r, theta = lo / hi_, np.broadcast_to(kT / hi_, hi_.shape)
-                sten = (kk.TableStencil(r, theta, line_shape, thermal_edge)
+                sten = (kk_table.TableStencil(r, theta, line_shape, thermal_edge)
                         if method == "table" else (r, theta))
+                if contract and method == "table":
+                    sten.contract()
                 self.parts.append((sten, hi_, np.where(ok, amp, 0.0)))
         self.line = (la, lw)
         low = np.where(wl > 0, wl, np.inf)
@@ -138,7 +141,7 @@ class _Sheets:
             if not live.any():
                 continue                      # only where the sheet is present (Δ > 1 …)
             u = (a if live.all() else a[live]) / hi[sub]
-            if isinstance(sten, kk.TableStencil):
+            if isinstance(sten, kk_table.TableStencil):
                 V = sten.real(u, sub)
             else:
                 V = kk.shape_real(u, sten[0][sub], sten[1][sub], *self.args[1:3])
@@ -177,7 +180,7 @@ def chain_susceptibility(q, omega, T, J, delta, *, line_shape="exact",
     line_shape, thermal_edge : str, optional
         As the spinon family (defaults 'exact', 'near_pi').
     method : {'table', 'exact'}, optional
-        χ' from the universal table (default; :func:`~.coupled_chain_kk.table_real`) or by
+        χ' from the universal table (default; :func:`~.coupled_chain_kk_table.table_real`) or by
         the transform at each point (:func:`~.coupled_chain_kk.shape_real`, 2K line-shape
         evaluations per point: the reference).
 

@@ -60,7 +60,8 @@ from .chain_thermo import luttinger_velocity
 from .coupled_chain import _check, interchain_exchange
 from .coupled_chain_thermo import neel_temperature
 
-__all__ = ["SOLITON_PREFACTOR", "ordered_state", "ordered_modes", "ordered_continuum"]
+__all__ = ["SOLITON_PREFACTOR", "ordered_state", "ordered_modes", "ordered_continuum",
+           "two_soliton_threshold"]
 
 #: M = 1.85 J (h/J)^{2/3} ln^{1/6}: Affleck & Oshikawa (1999), from memory
 SOLITON_PREFACTOR = 1.85
@@ -205,8 +206,37 @@ def ordered_continuum(q, omega, T, J, J_perp, delta, *, z_perp=4, line_shape="ex
     J, delta = np.asarray(J, float).reshape(-1, 1), np.asarray(delta, float).reshape(-1, 1)
     S = spinon_density(q, np.ascontiguousarray(omega), T, J, delta, line_shape=line_shape,
                        thermal_edge=thermal_edge)
-    wc = np.sqrt((st["velocity"] * np.sin(q)) ** 2 + 4.0 * st["soliton_mass"] ** 2)
+    return np.where(np.abs(omega) > two_soliton_threshold(q, st), S, 0.0)
+
+
+def two_soliton_threshold(q, state):
+    """Lower end of the continuum below T_N, ω_c = √((v sin q)² + 4M²) (0 without order).
+
+    Parameters
+    ----------
+    q : array_like, shape (n,)
+        Chain phase in radians.
+    state : dict
+        :func:`ordered_state` of the parameter sets.
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        ω_c in meV.
+
+    Raises
+    ------
+    InputError
+        A threshold that is not finite.
+
+    References
+    ----------
+    Essler, Tsvelik & Delfino, Phys. Rev. B 56, 11001 (1997) (from memory): two solitons of
+    mass M moving with the spinon velocity v.
+    """
+    q = np.asarray(q, float)
+    wc = np.sqrt((state["velocity"] * np.sin(q)) ** 2 + 4.0 * state["soliton_mass"] ** 2)
     if np.any(~np.isfinite(wc)):
         raise InputError("the ordered-state threshold is not finite; check J and J_perp")
-    return np.where(np.abs(omega) > np.where(st["moment"] > 0, wc, 0.0), S, 0.0)
+    return np.where(state["moment"] > 0, wc, 0.0)
 

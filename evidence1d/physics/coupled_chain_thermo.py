@@ -65,7 +65,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..units import K_B_MEV, R_GAS, chi_star_to_emu_per_mol
-from . import coupled_chain_kk as kk
+from . import coupled_chain_kk_table as kk_table
 from . import magnon, ordered_thermo
 from .chain import all_sheets
 from .chain_thermo import xxz_thermodynamics
@@ -93,7 +93,7 @@ def _staggered(kT, sheets, line_shape, thermal_edge):
         if not np.any(amp > 0):
             continue
         theta = kT / top
-        V = kk.table_real(np.zeros(theta.shape), np.broadcast_to(r, theta.shape), theta,
+        V = kk_table.table_real(np.zeros(theta.shape), np.broadcast_to(r, theta.shape), theta,
                           line_shape, thermal_edge)
         out = out + np.where(amp > 0, math.pi * amp * V / top, 0.0)
     return out
@@ -279,7 +279,7 @@ def coupled_susceptibility(T, J, J_perp, delta, g, *, direction="powder", z_perp
             mine = ordered_thermo.rpa_susceptibility(at_N, J, Jp, kappa, z_perp)
             theirs = ordered_thermo.rpa_susceptibility(at_N, J, Jp_eff, kappa, z_perp)
             low = ordered_thermo.ordered_susceptibility(T, J, Jp_eff, delta, g, comp, z_perp)
-            chi = np.where(below, low * mine / theirs, chi)
+            chi = np.where(below, low * mine / np.where(below, theirs, 1.0), chi)
         out = out + wgt * chi
     return out
 

@@ -76,6 +76,7 @@ def _family(name):
 PARAMS = {
     "spinon_continuum": {"J": 1.0, "delta": 1.0, "g": 2.1},
     "gapped_spin_wave": {"J": 1.0, "J_perp": 0.1, "delta": 1.05, "damping": 0.4, "g": 2.1},
+    "coupled_chains": {"J": 1.0, "J_perp": 0.05, "delta": 1.0, "g": 2.1},
     "paramagnon": {"chi_uniform": 0.01, "theta_sf": 30.0, "xi_par": 8.0, "xi_perp": 2.0,
                    "gamma0": 1.0, "g": 2.1},
     "paramagnon_incommensurate": {"chi_uniform": 0.01, "theta_sf": 30.0, "xi_par": 8.0,

@@ -1,0 +1,163 @@
+"""The resolution-convolved coupled-chain spectrum and the shared energy grid.
+
+References: the Gaussian convolutions of a Gaussian, a step and a ramp in closed form
+(Abramowitz & Stegun 7.1.1, 26.2.2); the random-phase response convolved by adaptive
+quadrature (scipy.integrate.quad) of the pointwise χ''/|1 + κJ_⊥χ|² with the δ-poles added
+analytically (Scalapino, Imry & Pincus, Phys. Rev. B 11, 2042 (1975)); J_⊥ = 0 against the
+spinon family's convolution (Karbach et al., Phys. Rev. B 55, 12510 (1997)).
+"""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from scipy import integrate, special
+
+from evidence1d.physics import coupled_chain as cc
+from evidence1d.physics.chain import all_sheets
+from evidence1d.physics.chain_spectrum import spinon_spectrum
+from evidence1d.physics.coupled_chain_ordered import (ordered_modes, ordered_state,
+                                                      two_soliton_threshold)
+from evidence1d.physics.coupled_chain_spectrum import coupled_spectrum, spectrum_grid
+from evidence1d.physics.coupled_chain_thermo import neel_temperature
+from evidence1d.physics.resolution_grid import RowGrid
+from evidence1d.units import K_B_MEV
+
+
+def _map(n_q=12, n_e=30, e_lo=-2.0, e_hi=14.0):
+    q = np.repeat(np.linspace(0.3, 2 * np.pi - 0.3, n_q), n_e)
+    E = np.tile(np.linspace(e_lo, e_hi, n_e), n_q)
+    return q, E, 0.12 + 0.02 * np.abs(E)
+
+
+# ------------------------------------------------------------------------ the energy grid
+def test_grid_convolves_a_gaussian_a_step_and_a_ramp_as_the_closed_forms():
+    q, E, s = _map()
+    row = np.unique(q, return_inverse=True)[1]
+    g = RowGrid(row, E, s)
+    x, c = g.node_energy, 3.0 + 0.05 * g.node_row
+    C = 3.0 + 0.05 * row
+    f = np.exp(-0.5 * ((x - c) / 0.5) ** 2) / (math.sqrt(2 * math.pi) * 0.5)
+    w = np.sqrt(0.25 + s ** 2)                    # Gaussian ∗ Gaussian: variances add
+    ref = np.exp(-0.5 * ((E - C) / w) ** 2) / (math.sqrt(2 * math.pi) * w)
+    assert np.abs(g.convolve(f[None])[0] - ref).max() < 1e-3 * ref.max()
+    z = (E - C) / s
+    step = 0.5 * special.erfc(-z / math.sqrt(2))  # A&S 26.2.2
+    assert np.abs(g.convolve((x > c)[None].astype(float))[0] - step).max() < 0.05
+    ramp = s * (z * step + np.exp(-0.5 * z * z) / math.sqrt(2 * math.pi))
+    got = g.convolve(np.maximum(x - c, 0.0)[None])[0]
+    assert np.abs(got - ramp).max() < 5e-3 * s.max()
+    np.testing.assert_allclose(g.convolve(np.ones((1, g.size)))[0], 1.0, rtol=1e-12)
+
+
+def test_grid_rejects_bad_widths():
+    with pytest.raises(ValueError):
+        RowGrid([0, 0], [1.0, 2.0], [0.1, 0.0])
+
+
+# ----------------------------------------------------------------- the convolved spectrum
+@pytest.mark.parametrize("T", [0.0, 4.0, 40.0])
+@pytest.mark.parametrize("delta", [0.5, 1.0, 2.0])
+def test_no_interchain_coupling_is_the_spinon_spectrum(T, delta):
+    q, E, s = _map(8, 20)
+    qa = np.where(np.arange(q.size) % 2, np.pi, 0.3)
+    J, d = np.array([[4.0], [6.0]]), np.full((2, 1), delta)
+    got = coupled_spectrum(q, qa, qa, E, s, T, J, np.zeros((2, 1)), d)
+    ref = spinon_spectrum(q, E, s, T, J, d)
+    np.testing.assert_allclose(got, ref, rtol=1e-12, atol=1e-14 * ref.max())
+
+
+def _reference(q, qa, E, s, T, J, Jp, d):
+    """G_σ ∗ S_RPA at one point by adaptive quadrature, δ-poles added analytically."""
+    P = [np.array([[x]]) for x in (J, Jp, d)]
+    one = [np.array([x]) for x in (q, qa, qa)]
+
+    def S(w):
+        return cc.rpa_spectrum(*one, np.array([w]), T, P[0], P[1], P[2])[0, 0]
+
+    (wl, top, _, _), _, _ = all_sheets(one[0], P[0], P[2])
+    poles = cc.rpa_poles(*one, T, P[0], P[1], P[2])
+    brk = [wl[0, 0], top[0, 0]] + [p["omega"][0, 0] for p in poles.values()
+                                   if p["weight"][0, 0] > 0]
+    lo, hi = E - 8 * s, E + 8 * s
+    cuts = [lo] + sorted(x for b in brk for x in (b, -b) if lo < x < hi) + [hi]
+    gauss = lambda x: math.exp(-0.5 * (x / s) ** 2) / (math.sqrt(2 * math.pi) * s)
+    val = sum(integrate.quad(lambda w: gauss(E - w) * S(w), a, b, limit=400,
+                             epsabs=1e-10, epsrel=1e-7)[0] for a, b in zip(cuts, cuts[1:]))
+    kT = K_B_MEV * T
+    for key, p in poles.items():
+        Z, G, wp = p["weight"][0, 0], p["width"][0, 0], p["omega"][0, 0]
+        if Z > 0 and G == 0:
+            n = 1.0 / math.expm1(wp / kT) if kT > 0 else 0.0
+            val += (1 if key == "zz" else 2) * Z * ((n + 1) * gauss(E - wp) + n * gauss(E + wp))
+    return val
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("Jp, delta, T, q, qa", [
+    (0.1, 1.0, 10.0, 0.6 * np.pi, np.pi), (0.1, 1.0, 10.0, 0.93 * np.pi, np.pi),
+    (0.25, 1.0, 15.0, 0.6 * np.pi, 0.0), (0.15, 1.5, 8.0, 0.6 * np.pi, np.pi)])
+def test_convolution_against_adaptive_quadrature(Jp, delta, T, q, qa):
+    J = 5.0
+    assert neel_temperature(np.array([[J]]), np.array([[Jp]]), np.array([[delta]]))[0, 0] < T
+    E = np.linspace(-1.5, 12.0, 10)
+    s = 0.2 + 0.02 * np.abs(E)
+    n = E.size
+    got = coupled_spectrum(np.full(n, q), np.full(n, qa), np.full(n, qa), E, s, T,
+                           np.array([[J]]), np.array([[Jp]]), np.array([[delta]]))[0]
+    ref = np.array([_reference(q, qa, e, si, T, J, Jp, delta) for e, si in zip(E, s)])
+    assert np.abs(got - ref).max() < 0.03 * ref.max(), np.abs(got - ref) / ref.max()
+
+
+def test_ordered_phase_has_modes_below_and_the_chain_continuum_above_threshold():
+    """Below T_N: the chain's convolved continuum well above the two-soliton threshold, and
+    the sharp modes' weight near their energies (Schulz 1996; Essler et al. 1997)."""
+    J, Jp, d = np.array([[5.0]]), np.array([[0.3]]), np.array([[1.0]])
+    T = 2.0
+    assert neel_temperature(J, Jp, d)[0, 0] > 3 * T
+    q = np.full(60, 0.7 * np.pi)
+    E = np.linspace(0.05, 14.0, 60)
+    s = np.full(60, 0.1)
+    got = coupled_spectrum(q, np.full(60, np.pi), np.full(60, np.pi), E, s, T, J, Jp, d)[0]
+    chain = spinon_spectrum(q, E, s, T, J, d)[0]
+    wc = two_soliton_threshold(q[:1], ordered_state(T, J, Jp, d))[0, 0]
+    far = E > wc + 8 * s
+    assert np.abs(got[far] - chain[far]).max() < 1e-3 * chain.max()   # the grid's accuracy
+    assert np.all(got >= -1e-9 * got.max())
+    # below the lowest mode nothing (the chain continuum there is gone), at the modes their
+    # weight w (n + 1) in a Gaussian
+    modes = ordered_modes(q[:1], np.array([np.pi]), np.array([np.pi]), T, J, Jp, d)
+    low = min(m["omega"][0, 0] for m in modes.values())
+    assert low < wc
+    below = E < low - 8 * s
+    assert below.any() and np.all(got[below] < 1e-6 * got.max())
+    # between the highest mode and the threshold the chain has weight, the ordered phase none
+    high = max(m["omega"][0, 0] for m in modes.values())
+    assert high < wc
+    mid, narrow = np.array([0.5 * (high + wc)]), np.array([(wc - high) / 20.0])
+    one = [np.full(1, x) for x in (0.7 * np.pi, np.pi, np.pi)]
+    gap = coupled_spectrum(*one, mid, narrow, T, J, Jp, d)[0, 0]
+    assert spinon_spectrum(one[0], mid, narrow, T, J, d)[0, 0] > 0.05
+    assert gap < 1e-6
+    Et = np.array([m["omega"][0, 0] for m in modes.values()])
+    at = coupled_spectrum(np.full(3, 0.7 * np.pi), np.full(3, np.pi), np.full(3, np.pi), Et,
+                          np.full(3, 0.01), T, J, Jp, d)[0]
+    peak = sum(m["weight"][0, 0] / (math.sqrt(2 * math.pi) * 0.01) for m in modes.values()
+               if abs(m["omega"][0, 0] - Et[0]) < 1e-9)
+    assert at[0] == pytest.approx(peak, rel=0.02)
+
+
+def test_batch_equals_loop_and_detailed_balance_of_the_grid():
+    q, E, s = _map(6, 16, -4.0, 4.0)
+    qa = np.full(q.size, np.pi)
+    rng = np.random.default_rng(5)
+    J = rng.uniform(3, 6, (4, 1))
+    Jp = np.array([[0.0], [0.05], [0.2], [0.4]])
+    d = rng.uniform(0.8, 1.6, (4, 1))
+    grid = spectrum_grid(q, qa, qa, E, s)
+    batch = coupled_spectrum(q, qa, qa, E, s, 6.0, J, Jp, d, grid=grid)
+    loop = np.concatenate([coupled_spectrum(q, qa, qa, E, s, 6.0, J[i:i + 1], Jp[i:i + 1],
+                                            d[i:i + 1]) for i in range(4)])
+    np.testing.assert_allclose(batch, loop, rtol=1e-10, atol=1e-300)
+    assert np.all(np.isfinite(batch))
