@@ -277,14 +277,16 @@ class JointProblem:
 
 
 class LinearBlock:
-    """Datasets whose linear nuisances are integrated out together.
+    """Datasets whose linear nuisances are integrated out together, under their declared
+    priors.
 
     A block holds the datasets that share linear parameters (all susceptibility datasets
     share χ₀ and C_imp; all heat-capacity datasets share γ_e and β; each spectrum has its own
-    scale, background, slope and elastic line).  Its prior on those parameters is Gaussian:
-    a declared normal prior is used as it is; any other prior is replaced by the Gaussian of
-    the same mean and standard deviation, so the marginal likelihood is exact
-    (:mod:`evidence1d.inference.linear`).
+    scale, background, slope and elastic line).  Normal, truncated-normal and uniform priors
+    are integrated exactly, bounds included (:mod:`evidence1d.inference.linear`: the
+    Gaussian marginal times the probability of the prior's box under the conditional
+    posterior); nuisances with other priors (log-uniform, fixed) are left out of the block
+    and sampled (or held) with the physical parameters.
 
     Parameters
     ----------
@@ -296,13 +298,13 @@ class LinearBlock:
     """
 
     def __init__(self, predictors, names, priors):
-        from .inference.linear import gaussian_moments
+        from .inference.linear import linear_prior
         self.predictors = list(predictors)
         self.names = list(names)
         self.label = "+".join(pr.dataset.name for pr in self.predictors)
-        mom = [gaussian_moments(priors[nm]) for nm in self.names]
-        self.mu = np.array([m for m, _ in mom])
-        self.tau = np.array([max(s, 1e-300) for _, s in mom])
+        self.linear_prior = linear_prior([priors[nm] for nm in self.names])
+        self.mu = self.linear_prior.mu
+        self.tau = self.linear_prior.tau
         self._y = np.concatenate([pr.dataset.y for pr in self.predictors])
         self._err = np.concatenate([pr.dataset.err for pr in self.predictors])
         self._inv_err = 1.0 / self._err
@@ -336,35 +338,41 @@ class LinearBlock:
         return resid, design
 
     def log_likelihood(self, p) -> np.ndarray:
-        """Marginal log-likelihood of the block's data, (k,)."""
+        """Marginal log-likelihood of the block's data under the declared priors, (k,)."""
         from .inference.linear import marginal_loglike
         r, d = self._whitened(p)
-        return marginal_loglike(r, d, self._err, self.tau)
+        return marginal_loglike(r, d, self._err, self.tau, self.linear_prior)
 
     def draw(self, p, rng) -> dict:
-        """Conditional-posterior draws {name: (k, 1)} of the block's linear parameters."""
+        """Conditional-posterior draws {name: (k, 1)} of the block's linear parameters,
+        inside their prior support."""
         from .inference.linear import conditional_draw
         r, d = self._whitened(p)
-        a = conditional_draw(r, d, self.tau, self.mu, rng)
+        a = conditional_draw(r, d, self.tau, self.mu, rng, self.linear_prior)
         return {nm: a[:, j:j + 1] for j, nm in enumerate(self.names)}
 
     def conditional_mean(self, p) -> dict:
-        """Conditional-posterior means {name: (k, 1)}."""
+        """Conditional-posterior modes within the prior support {name: (k, 1)} (the means
+        when no bound is reached)."""
+        from .inference.linear import conditional_mode
         r, d = self._whitened(p)
-        dt = np.swapaxes(d, 1, 2)
-        A = dt @ d + np.diag(1.0 / self.tau ** 2)
-        b = (dt @ r[..., None])[..., 0]
-        a = self.mu + np.linalg.solve(A, b[..., None])[..., 0]
+        a = conditional_mode(r, d, self.tau, self.mu, self.linear_prior)
         return {nm: a[:, j:j + 1] for j, nm in enumerate(self.names)}
 
 
 def _linear_blocks(predictors, priors) -> list:
     """Group datasets sharing linear nuisances; keep only blocks that can be marginalised
-    (Gaussian noise without error inflation, no fixed linear parameter)."""
-    from .inference.priors import Fixed
+    (Gaussian noise without error inflation).  Only nuisances whose declared prior the
+    marginalisation integrates exactly (normal, truncated normal, uniform) join a block;
+    the others stay sampled (or fixed) and enter through the offset."""
+    from .inference.linear import linear_prior
+
+    def exact(nm):
+        return linear_prior([priors[nm]]) is not None
+
     groups = []                       # list of (set of predictor ids, set of names)
     for pr in predictors:
-        ids, names = {id(pr)}, set(pr.linear)
+        ids, names = {id(pr)}, {nm for nm in pr.linear if exact(nm)}
         for g in [g for g in groups if g[1] & names]:
             groups.remove(g)
             ids |= g[0]
@@ -375,8 +383,7 @@ def _linear_blocks(predictors, priors) -> list:
         members = [pr for pr in predictors if id(pr) in ids]
         ok = all(pr.dataset.options.get("noise", "gaussian") == "gaussian"
                  and not pr.dataset.options.get("inflate_errors", False) for pr in members)
-        ok = ok and names and not any(isinstance(priors[nm], Fixed) for nm in names)
-        if ok:
+        if ok and names:
             order = [nm for nm in priors if nm in names]
             blocks.append(LinearBlock(members, order, priors))
     return blocks

@@ -221,7 +221,10 @@ class DatasetKind(ColumnLayout):
         return {}
 
     def default_priors(self, dataset, nuisance, extras, sigma=None) -> dict:
-        """Default prior specs of a dataset's nuisances and extras, scaled to its data.
+        """Default prior specs of a dataset's nuisances and extras.
+
+        They never look at the measured values (only at the data's declared units and the
+        ranges of the independent variables), so the data are not used twice.
 
         Parameters
         ----------
@@ -237,9 +240,8 @@ class DatasetKind(ColumnLayout):
             Prior specs; error inflation is log-uniform on [1, 10] (common practice).
         """
         out = self.own_priors(dataset, nuisance, sigma)
-        T = dataset.x.get("T")
         for e in extras:
-            out[e] = self.extra(e).default_prior(dataset.y, T)
+            out[e] = self.extra(e).default_prior()
         if f"{dataset.name}:inflate" in nuisance:
             out[f"{dataset.name}:inflate"] = {"kind": "log_uniform", "lower": 1.0,
                                               "upper": 10.0}

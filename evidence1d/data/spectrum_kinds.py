@@ -21,8 +21,8 @@ from .columns import known_names
 from .geometry import crystal_wavevectors, make_geometry
 from .kind_base import ColumnLayout, DatasetKind
 
-__all__ = ["SpectrumKind", "CrystalSpectrumKind", "PowderSpectrumKind", "CRYSTAL_HKL",
-           "CRYSTAL_SPECTRUM", "POWDER_SPECTRUM"]
+__all__ = ["INTENSITY_CEILING", "SpectrumKind", "CrystalSpectrumKind", "PowderSpectrumKind",
+           "CRYSTAL_HKL", "CRYSTAL_SPECTRUM", "POWDER_SPECTRUM"]
 
 
 def _energy_lines(opt_background: str) -> list:
@@ -30,9 +30,8 @@ def _energy_lines(opt_background: str) -> list:
     return {"flat": ["background"], "linear": ["background", "slope"]}.get(opt_background, [])
 
 
-def _span(y) -> float:
-    lo, hi = np.percentile(y, [2.0, 98.0])
-    return float(max(hi - lo, 1e-12 * max(abs(hi), 1.0), 1e-300))
+#: the largest intensity a default prior allows, in the data's own intensity unit
+INTENSITY_CEILING = 1.0e9
 
 
 @dataclass(frozen=True, eq=False, repr=False, kw_only=True)
@@ -53,26 +52,32 @@ class SpectrumKind(DatasetKind):
         return out
 
     def own_priors(self, dataset, nuisance, sigma) -> dict:
-        """Scale: log-uniform over four decades around the intensity span times the energy
-        span / 3 (S(Q, E) ~ 1/energy); background: uniform one span around the lowest
-        value; slope: ± span per energy range; elastic: uniform [0, 10 span max σ]."""
-        out, name, y = {}, dataset.name, dataset.y
+        """Default priors that never look at the measured intensities.
+
+        With I_max = :data:`INTENSITY_CEILING` = 10⁹ in the data's intensity unit (a count
+        or normalised intensity per point well beyond any instrument's; common practice: a
+        bound wide enough never to be reached) and W the energy window of the points
+        (meV, an independent variable): scale uniform on [0, I_max W] (S(Q, E) is per meV,
+        so an intensity up to I_max); background uniform on [−I_max, I_max]; slope uniform
+        on ±I_max/W; elastic area uniform on [0, I_max √(2π) max σ] (a peak up to I_max,
+        σ the declared resolution).  The bounds are kept exactly in the evidence
+        (:mod:`evidence1d.inference.linear`); the widths enter every family's evidence
+        alike.
+        """
+        out, name = {}, dataset.name
         E = dataset.x["energy"]
-        span = _span(y)
-        e_span = float(max(np.ptp(E), np.max(np.abs(E)), 1e-3))
-        s0 = span * e_span / 3.0
-        out[f"{name}:scale"] = {"kind": "log_uniform", "lower": s0 / 100.0,
-                                "upper": s0 * 100.0}
+        width = float(max(np.ptp(E), np.max(np.abs(E)), 1e-3))
+        top = INTENSITY_CEILING
+        out[f"{name}:scale"] = {"kind": "uniform", "lower": 0.0, "upper": top * width}
         if f"{name}:background" in nuisance:
-            lo = float(np.min(y))
-            out[f"{name}:background"] = {"kind": "uniform", "lower": lo - span,
-                                         "upper": lo + span}
+            out[f"{name}:background"] = {"kind": "uniform", "lower": -top, "upper": top}
         if f"{name}:slope" in nuisance:
-            out[f"{name}:slope"] = {"kind": "uniform", "lower": -span / e_span,
-                                    "upper": span / e_span}
+            out[f"{name}:slope"] = {"kind": "uniform", "lower": -top / width,
+                                    "upper": top / width}
         if f"{name}:elastic" in nuisance:
+            sig = float(np.max(sigma)) if sigma is not None else width
             out[f"{name}:elastic"] = {"kind": "uniform", "lower": 0.0,
-                                      "upper": 10.0 * span * float(np.max(sigma))}
+                                      "upper": top * np.sqrt(2 * np.pi) * sig}
         return out
 
     def nuisance_unit(self, short: str, units: dict) -> str:

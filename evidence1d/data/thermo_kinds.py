@@ -20,7 +20,7 @@ from .. import units as U
 from ..errors import InputError
 from .kind_base import DatasetKind
 
-__all__ = ["Extra", "ThermoKind", "SUSCEPTIBILITY", "HEAT_CAPACITY", "ENTROPY"]
+__all__ = ["Extra", "CEILINGS", "ThermoKind", "SUSCEPTIBILITY", "HEAT_CAPACITY", "ENTROPY"]
 
 
 @dataclass(frozen=True)
@@ -43,10 +43,13 @@ class Extra:
     power : int
         The term is a · T^power (T in K).
     symmetric : bool
-        Default prior uniform on ± the largest |value| (else uniform on [0, largest value]).
+        Default prior uniform on ±:attr:`ceiling` (else uniform on [0, :attr:`ceiling`]).
     part, part_label : str
         Key and legend label of the part of the model figures draw it in (terms with one
         key are drawn summed).
+    ceiling : float
+        The largest |a| the default prior allows, in :attr:`unit` (per mole of magnetic
+        ion); fixed before any data are seen (see :data:`CEILINGS` for the sources).
     """
 
     name: str
@@ -57,6 +60,7 @@ class Extra:
     symmetric: bool
     part: str
     part_label: str
+    ceiling: float = 1.0
 
     def column(self, T: np.ndarray) -> np.ndarray:
         """T^power at the points (the design column of the coefficient), shape (n,)."""
@@ -70,19 +74,29 @@ class Extra:
             return a
         return a / T ** -self.power if self.power < 0 else a * T ** self.power
 
-    def default_prior(self, y: np.ndarray, T: np.ndarray) -> dict:
-        """Uniform prior wide enough for the term to explain every value alone.
-
-        ``[-max|y|, max|y|]`` if :attr:`symmetric`, else ``[0, max(y / T^power)]``.
-        """
-        if self.power == 0:
-            a = y
-        else:
-            a = y * T ** -self.power if self.power < 0 else y / T ** self.power
+    def default_prior(self) -> dict:
+        """Uniform prior on ``[-ceiling, ceiling]`` if :attr:`symmetric`, else on
+        ``[0, ceiling]``: physical bounds fixed in advance, never from the data values."""
         if self.symmetric:
-            m = float(np.max(np.abs(a)))
-            return {"kind": "uniform", "lower": -m, "upper": m}
-        return {"kind": "uniform", "lower": 0.0, "upper": float(np.max(a))}
+            return {"kind": "uniform", "lower": -self.ceiling, "upper": self.ceiling}
+        return {"kind": "uniform", "lower": 0.0, "upper": self.ceiling}
+
+
+#: Default prior bounds of the extras, per mole of magnetic ion (fixed before the data):
+#:
+#: * χ₀: ±0.05 emu/mol, above the core diamagnetism (~1e-4 emu/mol; G. A. Bain &
+#:   J. F. Berry, J. Chem. Educ. 85, 532 (2008)), Pauli and Van Vleck terms of ordinary
+#:   metals and ions (1e-5–1e-3 emu/mol; Kittel Ch. 11 and 14) and the enhanced Pauli
+#:   susceptibility of heavy-fermion metals (~1e-2 emu/mol; G. R. Stewart, Rev. Mod. Phys.
+#:   56, 755 (1984), from memory);
+#: * C_imp: [0, 1] emu K/mol, the Curie constant 0.125 g² S(S + 1) emu K/mol (Kittel Ch. 11)
+#:   of a whole mole of free S = 1, g = 2 spins per mole of magnetic ion, far above any
+#:   impurity fraction;
+#: * γ_e: [0, 2] J/(mol K²), above the largest Sommerfeld coefficients of heavy-fermion
+#:   compounds (~1 J/(mol K²); Stewart 1984, from memory);
+#: * β: [0, 0.5] J/(mol K⁴), the Debye T³ coefficient 12π⁴ n R/(5 θ_D³) (Kittel Ch. 5) of
+#:   n = 32 atoms per magnetic ion with θ_D = 50 K.
+CEILINGS = {"chi0": 0.05, "c_imp": 1.0, "gamma_e": 2.0, "beta_lattice": 0.5}
 
 
 @dataclass(frozen=True, eq=False, repr=False, kw_only=True)
@@ -191,9 +205,9 @@ SUSCEPTIBILITY = ThermoKind(
     noise_floor=1e-5, magnetic_label="model χ (magnetic)",
     derived_panel=("inverse", r"$1/\chi$ (mol emu$^{-1}$)"),
     extras=(Extra("chi0", "emu/mol", "temperature-independent susceptibility χ₀", "chi0", 0,
-                  True, "constant", _CONSTANT),
+                  True, "constant", _CONSTANT, CEILINGS["chi0"]),
             Extra("c_imp", "emu K/mol", "Curie constant of free-spin impurities C_imp",
-                  "impurity", -1, False, "constant", _CONSTANT)),
+                  "impurity", -1, False, "constant", _CONSTANT, CEILINGS["c_imp"])),
     columns={"T": _TEMPERATURE, "chi": ("chi", "x", "susceptibility", "χ", "m/h"),
              "error": ("error", "dchi", "err", "sigma")},
     units={"temperature": U.TEMPERATURE_UNITS, "chi": U.CHI_UNITS},
@@ -208,9 +222,11 @@ HEAT_CAPACITY = ThermoKind(
     noise_floor=1e-3, magnetic_label="magnetic",
     derived_panel=("over_T", r"$C/T$ (J mol$^{-1}$ K$^{-2}$)"), entropy_by_integration=True,
     extras=(Extra("gamma_e", "J/(mol K^2)", "electronic heat-capacity coefficient γ_e",
-                  "electronic", 1, False, "electronic", r"electronic $\gamma_e T$"),
+                  "electronic", 1, False, "electronic", r"electronic $\gamma_e T$",
+                  CEILINGS["gamma_e"]),
             Extra("beta_lattice", "J/(mol K^4)", "lattice (Debye) T³ coefficient β",
-                  "lattice", 3, False, "lattice", r"lattice $\beta T^3$")),
+                  "lattice", 3, False, "lattice", r"lattice $\beta T^3$",
+                  CEILINGS["beta_lattice"])),
     columns={"T": _TEMPERATURE, "C": ("c", "cp", "c_p", "heat_capacity"),
              "error": ("error", "dc", "err", "sigma")},
     units={"temperature": U.TEMPERATURE_UNITS, "heat_capacity": U.HEAT_UNITS},

@@ -207,19 +207,22 @@ def test_thermo_extras_follow_the_options():
 def test_extra_terms_priors_and_columns_against_their_formulas(rng):
     """χ₀ + C_imp/T (Curie law of impurities) and γ_e T + β T³ (Kittel, Ch. 5 and 11)."""
     T = np.geomspace(2.0, 100.0, 7)
-    y = rng.uniform(0.1, 1.0, 7)
     a = rng.uniform(0.0, 2.0, (3, 1))
-    want = {"chi0": (np.ones(7), a + 0 * T, max(abs(y))),
-            "c_imp": (1 / T, a / T, max(y * T)),
-            "gamma_e": (T, a * T, max(y / T)),
-            "beta_lattice": (T ** 3, a * T ** 3, max(y / T ** 3))}
+    # default prior bounds fixed before the data (thermo_kinds.CEILINGS): the Debye T³
+    # coefficient 12π⁴ n R/(5 θ_D³) of n = 32 atoms with θ_D = 50 K (Kittel Ch. 5) is 0.5;
+    # the Curie constant 0.125 g² S(S + 1) of S = 1, g = 2 (Kittel Ch. 11) is 1
+    debye = 12 * np.pi ** 4 * 32 * 8.314462618 / (5 * 50.0 ** 3)
+    want = {"chi0": (np.ones(7), a + 0 * T, 0.05),
+            "c_imp": (1 / T, a / T, 0.125 * 4 * 2),
+            "gamma_e": (T, a * T, 2.0),
+            "beta_lattice": (T ** 3, a * T ** 3, round(debye, 2))}
     for kind in (KINDS["susceptibility"], KINDS["heat_capacity"]):
         for e in kind.extras:
             col, term, top = want[e.name]
             np.testing.assert_allclose(e.column(T), col, rtol=1e-15)
             np.testing.assert_allclose(np.broadcast_to(e.term(a, T), (3, 7)), term,
                                        rtol=1e-15)
-            prior = e.default_prior(y, T)
+            prior = e.default_prior()
             assert prior["upper"] == pytest.approx(top, rel=1e-15)
             assert prior["lower"] == pytest.approx(-top if e.name == "chi0" else 0.0)
 
