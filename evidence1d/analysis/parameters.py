@@ -184,8 +184,8 @@ def parameter_table(problem, samples, nuisance_samples=None) -> dict:
     if nuis and nuisance_samples is not None:
         params.update(_rows(np.asarray(nuisance_samples, float), nuis, units,
                             {n: problem.declared_priors[n] for n in nuis}, problem.card,
-                            " (integrated out analytically under the Gaussian of the same "
-                            "mean and standard deviation)"))
+                            " (integrated out analytically under this prior, bounds "
+                            "included)"))
         for n in nuis:
             params[n]["marginalised"] = True
     fixed = {n: {"value": float(pr.value), "unit": units.get(n, "") or "1"}

@@ -48,8 +48,8 @@ import numpy as np
 
 from .truncated import box_mode, log_box_probability, log_ndtr_diff, truncated_draw
 
-__all__ = ["marginal_loglike", "conditional_draw", "conditional_mode", "gaussian_moments",
-           "LinearPrior", "linear_prior", "UNIFORM_WIDTH_FACTOR"]
+__all__ = ["marginal_loglike", "conditional_draw", "conditional_mode", "LinearPrior",
+           "linear_prior", "UNIFORM_WIDTH_FACTOR"]
 
 #: working-Gaussian width of a uniform prior, in units of its width
 UNIFORM_WIDTH_FACTOR = 1.0e4
@@ -239,25 +239,3 @@ def conditional_mode(resid_w, design_w, tau, mu, prior: LinearPrior | None = Non
     if prior is None or not prior.bounded:
         return mean
     return box_mode(mean, A, prior.lo, prior.hi)
-
-
-def gaussian_moments(prior, n: int = 4001):
-    """Mean and standard deviation of a one-dimensional prior.
-
-    Computed from the inverse CDF on a midpoint grid in the unit interval, which works for
-    every prior kind of :mod:`evidence1d.inference.priors`.
-
-    Parameters
-    ----------
-    prior : Prior
-    n : int
-        Grid points.
-
-    Returns
-    -------
-    (float, float)
-        Mean and standard deviation in the parameter's unit.
-    """
-    u = (np.arange(n) + 0.5) / n
-    x = np.asarray(prior.transform(u), dtype=float)
-    return float(np.mean(x)), float(np.std(x))
