@@ -37,6 +37,7 @@ p. 571; C. P. Robert, Stat. Comput. 5, 121 (1995): Gibbs sampling of truncated n
 """
 from __future__ import annotations
 
+import functools
 import itertools
 
 import numpy as np
@@ -202,19 +203,29 @@ def _sov_log(mean, cov, lo, hi, points, logw):
     return special.logsumexp(total + logw[None, :], axis=1)
 
 
+def _frozen(*arrays):
+    for a in arrays:
+        a.flags.writeable = False
+    return arrays
+
+
+@functools.lru_cache(maxsize=None)
 def _gauss_legendre():
+    """Gauss–Legendre nodes on (0, 1) as a (N, 1) point set and their log weights."""
     x, w = np.polynomial.legendre.leggauss(_GL_NODES)
-    return (0.5 * (x + 1.0))[:, None], np.log(0.5 * w)
+    return _frozen((0.5 * (x + 1.0))[:, None], np.log(0.5 * w))
 
 
+@functools.lru_cache(maxsize=None)
 def _lattice(q):
     """A fixed shifted rank-1 lattice in (0, 1)^(q−1) (Richtmyer: multiples of √prime)."""
-    primes = np.array([2, 3, 5, 7, 11, 13, 17, 19, 23, 29][:q - 1], float)
+    primes = [n for n in range(2, 600) if all(n % d for d in range(2, int(n ** 0.5) + 1))]
+    gen = np.sqrt(np.array(primes[:q - 1], float))
     i = np.arange(1, N_LATTICE + 1)[:, None]
     shift = np.random.default_rng(20261203).random(q - 1)
-    pts = np.mod(i * np.sqrt(primes)[None, :] + shift[None, :], 1.0)
+    pts = np.mod(i * gen[None, :] + shift[None, :], 1.0)
     pts = np.abs(2.0 * pts - 1.0)                      # baker's transform (Genz & Bretz §4.1)
-    return np.clip(pts, 1e-12, 1 - 1e-12), np.full(N_LATTICE, -np.log(N_LATTICE))
+    return _frozen(np.clip(pts, 1e-12, 1 - 1e-12), np.full(N_LATTICE, -np.log(N_LATTICE)))
 
 
 def log_box_probability(mean, cov, lo, hi) -> np.ndarray:
