@@ -107,7 +107,8 @@ class JointProblem:
 
         ``theta`` holds the sampled parameters (:attr:`names`) or, with the marginalised
         nuisances appended, :attr:`full_names`; without them the marginalised nuisances are
-        set to their conditional posterior means.
+        set to their conditional posterior modes inside their prior support (the means when
+        no bound is reached).
         """
         theta, _ = self._as_batch(theta)
         m = len(self.names)
