@@ -43,7 +43,7 @@ DEFAULT_TIMES = (0.25, 0.5, 1.0, 2.0, 4.0)
 _KEY = 2
 
 
-_ID = re.compile(r"^[A-Za-z0-9_.+]+$")
+_ID = re.compile(r"^[A-Za-z0-9_.+-]+$")
 #: scope name of the fits without one dataset
 _WITHOUT = "without-"
 
@@ -57,7 +57,7 @@ def _scopes(case, per_dataset: bool, leave_one_out: bool = False) -> dict:
     bad = [ds.name for ds in case.datasets if not _ID.match(ds.name)]
     if bad and (per_dataset or leave_one_out):
         raise InputError(f"dataset name '{bad[0]}': a per-dataset plan names its replicates "
-                         "after the datasets; use letters, digits, '_', '.' or '+'")
+                         "after the datasets; use letters, digits, '_', '.', '+' or '-'")
     scopes = {"all": {"count": spectra, "drop": [], "label": "all spectra"}}
     if per_dataset and len(spectra) > 1:
         scopes.update({n: {"count": [n], "drop": [], "label": f"'{n}' alone"}
