@@ -51,7 +51,7 @@ from evidence1d.runner import effective_settings  # noqa: E402
 from evidence1d.simulate import write_template  # noqa: E402
 
 FLAGSHIP = ROOT / "case_studies" / "flagship" / "case.yaml"
-FAMILIES = ("spinon_continuum", "gapped_spin_wave", "paramagnon")
+FAMILIES = ("spinon_continuum", "gapped_spin_wave", "coupled_chains", "paramagnon")
 
 #: speed targets (seconds); they live here, never in unit tests
 TARGETS = {"kernel_ms_per_set": 0.2, "flagship_run_s": 180.0, "flagship_run_goal_s": 60.0,
@@ -68,7 +68,7 @@ datasets:
   - {name: map, kind: crystal_spectrum, file: map.csv, temperature: 1.5,
      units: {energy: meV, wavevector: rlu, intensity: arb},
      resolution: {fwhm: [0.08, 0.02]}, background: linear}
-models: [spinon_continuum, gapped_spin_wave, paramagnon]
+models: [spinon_continuum, gapped_spin_wave, coupled_chains, paramagnon]
 """
 
 

@@ -112,6 +112,26 @@ def _evidences(case, names, settings, seeds, store, progress, workers: int,
     return {n: evidences[n] for n in names}
 
 
+#: fractions below which a family's dimensionality measures count as "near one dimension"
+NEAR_LIMIT_FRACTIONS = (0.01, 0.05)
+
+
+def _near_limit(problem, samples, max_draws=1000):
+    """Posterior of the family's dimensionality measures (median, 95th percentile and the
+    probability of lying below each of :data:`NEAR_LIMIT_FRACTIONS`), or None."""
+    draws = samples[np.linspace(0, len(samples) - 1, min(max_draws, len(samples))).astype(int)]
+    p = problem.prior.expand(draws)
+    phys = {k: v for k, v in p.items() if k in problem.family.parameters}
+    out = {}
+    for key, text, val in problem.family.dimensionality(phys):
+        val = np.asarray(val, float)
+        out[key] = {"description": text, "median": float(np.median(val)),
+                    "p95": float(np.percentile(val, 95)),
+                    "p_below": {f"{f:g}": float(np.mean(val < f))
+                                for f in NEAR_LIMIT_FRACTIONS}}
+    return out or None
+
+
 def _run_model(problem, sample, settings, streams, ev, store, progress, position=None,
                figures=None):
     """Everything after the evidence for one family: a pool job (it receives the family's
@@ -158,7 +178,8 @@ def _run_model(problem, sample, settings, streams, ev, store, progress, position
         sd = savage_dickey(samples[:, i], pr, nested["value"],
                            rng=np.random.default_rng(sd_seed))
         sd = dict(sd.to_dict() if hasattr(sd, "to_dict") else sd)
-        sd.update(parameter=nested["parameter"], value=nested["value"])
+        sd.update(parameter=nested["parameter"], value=nested["value"],
+                  near_limit=_near_limit(problem, samples))
     loo = None
     try:
         draws = samples[np.linspace(0, len(samples) - 1, min(400, len(samples))).astype(int)]

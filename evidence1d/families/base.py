@@ -228,6 +228,25 @@ class Family:
         """Magnetic entropy S(T) in J/(mol K) per mol of magnetic ion, shape (n_sets, n)."""
         raise NotImplementedError
 
+    def dimensionality(self, p: dict) -> list:
+        """Dimensionless measures of how far each parameter set is from one dimension.
+
+        Reported with the family's nested one-dimensional limit (the posterior probability
+        that each measure lies below 1 % and 5 %), so that a reader can see what
+        "one-dimensional" means when a family with such a limit wins.
+
+        Parameters
+        ----------
+        p : dict of str to ndarray (n_sets, 1)
+            Physical parameters.
+
+        Returns
+        -------
+        list of (str, str, ndarray (n_sets,))
+            Name, description and value of each measure; the base family has none.
+        """
+        return []
+
     def overlays(self, p: dict, pts: SpectralPoints) -> list:
         """Characteristic energies E(Q) drawn over a map of the family's spectrum.
 

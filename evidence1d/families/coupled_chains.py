@@ -178,6 +178,19 @@ class CoupledChainsFamily(Family):
         return cct.neel_temperature(_col(p["J"]), _col(p["J_perp"]), _col(p["delta"]),
                                     z_perp=self.z_perp, line_shape=self.line_shape)
 
+    def dimensionality(self, p: dict) -> list:
+        """J_⊥/J and k_BT_N/J (this family's random-phase T_N) per set.
+
+        References
+        ----------
+        Schulz, Phys. Rev. Lett. 77, 2790 (1996) (k_BT_N ∝ J_⊥ up to a logarithm).
+        """
+        from ..units import K_B_MEV
+        J = _col(p["J"])
+        return [("J_perp/J", "interchain over chain exchange", (_col(p["J_perp"]) / J)[:, 0]),
+                ("kT_N/J", "k_B T_N / J, the random-phase Néel temperature over J",
+                 (K_B_MEV * self.neel_temperature(p) / J)[:, 0])]
+
     def overlays(self, p: dict, pts: SpectralPoints) -> list:
         """The lower and upper bounds of the chain's two-spinon continuum (meV), as the
         spinon family draws them (des Cloizeaux & Pearson, Phys. Rev. 128, 2131 (1962))."""

@@ -166,6 +166,19 @@ class SpinWaveFamily(Family):
                                             p["delta"], self.z_perp)[0]
         return [("magnon dispersion ħω$_Q$", omega)]
 
+    def dimensionality(self, p: dict) -> list:
+        """J_⊥/J and k_BT_N/J (Schulz's T_N) per set.
+
+        References
+        ----------
+        Schulz, Phys. Rev. Lett. 77, 2790 (1996).
+        """
+        from ..units import K_B_MEV
+        J = _col(p["J"])
+        return [("J_perp/J", "interchain over chain exchange", (_col(p["J_perp"]) / J)[:, 0]),
+                ("kT_N/J", "k_B T_N / J, Schulz's Néel temperature over J",
+                 (K_B_MEV * self.neel_temperature(p) / J)[:, 0])]
+
     def neel_temperature(self, p: dict) -> np.ndarray:
         """Néel temperature in K from Schulz's coupled-chain relation, shape (n_sets, 1).
 

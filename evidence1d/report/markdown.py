@@ -129,11 +129,13 @@ def _comparison(s) -> list:
     if sd:
         out += ["Savage–Dickey density ratio of each family's nested one-dimensional limit "
                 "(positive ln BF favours the limit):", ""]
-        out += _table(["family", "limit", "ln BF (limit / full, nats)"],
+        out += _table(["family", "limit", "ln BF (limit / full, nats)",
+                       "how close (posterior median, 95 %, P below 1 % / 5 %)"],
                       [[f"`{n}`", f"{d['parameter']} = {d['value']:g}",
                         f"{_f(d['ln_bf_nested_vs_full'])} ± {_f(d['ln_bf_err'])}"
                         if d["ln_bf_nested_vs_full"] is not None else
-                        "−∞ (no posterior mass at the limit)"] for n, d in sd])
+                        "−∞ (no posterior mass at the limit)", _near(d.get("near_limit"))]
+                       for n, d in sd])
     loo = [(n, m["loo"]) for n, m in s["models"].items() if m["loo"]]
     if loo:
         out += ["PSIS-LOO predictive check (a cross-check, not the comparison itself):", ""]
@@ -238,6 +240,15 @@ _MOVE_WORDS = {"population": "independence proposals from a kernel density estim
                "snooker": "snooker moves", "stretch": "stretch moves"}
 _MOVE_REFS = {"population": ["tierney", "kde"], "differential_evolution": ["de"],
               "snooker": ["de"], "stretch": ["goodman"]}
+
+
+def _near(near) -> str:
+    """One cell: each dimensionality measure's median, 95th percentile and P below 1 %/5 %."""
+    if not near:
+        return "—"
+    return "; ".join(f"{k}: {v['median']:.2g} (95 % < {v['p95']:.2g}), P = "
+                     + " / ".join(f"{x:.2g}" for x in v["p_below"].values())
+                     for k, v in near.items())
 
 
 def _families(names) -> str:

@@ -129,6 +129,15 @@ SUMMARY_FIELDS = (
     _F(f"{_M}.savage_dickey.ln_bf_err", "number|null", "nats", "bootstrap error"),
     _F(f"{_M}.savage_dickey.reflected", "boolean", "", "density estimated with boundary "
        "reflection"),
+    _F(f"{_M}.savage_dickey.near_limit", "mapping[object]|null", "", "how close the "
+       "posterior comes to the limit, per dimensionless measure of the family (for coupled "
+       "chains and the ordered family J_perp/J and kT_N/J = k_B T_N/J); null if the family "
+       "defines none", required=False),
+    _F(f"{_M}.savage_dickey.near_limit.*.description", "string", "", "what the measure is"),
+    _F(f"{_M}.savage_dickey.near_limit.*.median", "number", "", "its posterior median"),
+    _F(f"{_M}.savage_dickey.near_limit.*.p95", "number", "", "its 95th percentile"),
+    _F(f"{_M}.savage_dickey.near_limit.*.p_below", "mapping[number]", "", "posterior "
+       "probability that it lies below each fraction (keys '0.01', '0.05')"),
     _F(f"{_M}.loo", "object|null", "", "PSIS-LOO predictive check (or its error)"),
     _F(f"{_M}.loo.elpd_loo", "number|null", "nats", "expected log predictive density",
        required=False),
@@ -235,6 +244,16 @@ SUMMARY_FIELDS = (
        "Savage–Dickey ln BF of the limit against the full family"),
     _F(f"{_C}.one_dimensional.nested_limits[].counted", "boolean", "", "whether it counts "
        "in p_one_dimensional (true with one_dimensional_limits: include)"),
+    _F(f"{_C}.one_dimensional.nested_limits[].near_limit", "mapping[object]|null", "",
+       "the family's savage_dickey.near_limit", required=False),
+    _F(f"{_C}.one_dimensional.nested_limits[].near_limit.*.description", "string", "",
+       "what the measure is"),
+    _F(f"{_C}.one_dimensional.nested_limits[].near_limit.*.median", "number", "",
+       "its posterior median"),
+    _F(f"{_C}.one_dimensional.nested_limits[].near_limit.*.p95", "number", "",
+       "its 95th percentile"),
+    _F(f"{_C}.one_dimensional.nested_limits[].near_limit.*.p_below", "mapping[number]", "",
+       "posterior probability below 0.01 and 0.05"),
     _F(f"{_C}.one_dimensional.p_with_nested_limits", "number", "", "P(1D | data) counting "
        "every nested limit as a hypothesis with half its family's prior probability"),
     _F(f"{_C}.one_dimensional.p_with_nested_limits_err", "number", "", "its error (linear "

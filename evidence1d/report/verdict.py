@@ -42,7 +42,7 @@ def _one_dimensional_block(cmp_, models) -> dict:
         limits[n] = (sd["ln_bf_nested_vs_full"], sd["ln_bf_err"])
         rows.append({"family": n, "parameter": sd["parameter"], "value": float(sd["value"]),
                      "ln_bf_limit_vs_full": sd["ln_bf_nested_vs_full"],
-                     "counted": included})
+                     "counted": included, "near_limit": sd.get("near_limit")})
     p, err = (p_one_dimensional_with_limits(cmp_, limits) if limits
               else (float(cmp_.p_one_dimensional), float(cmp_.p_one_dimensional_err)))
     definition = ("P(one-dimensional | data) is the summed posterior probability of the "
@@ -59,6 +59,13 @@ def _one_dimensional_block(cmp_, models) -> dict:
                      "p_with_nested_limits counts each as a separate hypothesis with half "
                      "its family's prior probability and evidence Z × BF(limit/full) from "
                      "the Savage–Dickey ratio."))
+    near = [f"{r['family']}: " + "; ".join(
+        f"P({k} < {f}) = {v['p_below'][f]:.2g}" for k, v in r["near_limit"].items()
+        for f in v["p_below"]) for r in rows if r.get("near_limit")]
+    if near:
+        definition += (" How close the families with a nested limit come to it (posterior "
+                       "probability that each measure lies below 1 % and 5 %): "
+                       + " | ".join(near) + ".")
     return {"definition": definition, "families": fams, "nested_limits": rows,
             "p_with_nested_limits": float(p), "p_with_nested_limits_err": float(err)}
 

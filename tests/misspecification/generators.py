@@ -152,6 +152,7 @@ class Scenario:
     temperature: float = 1.5
     extra_case: str = ""
     model_options: dict = field(default_factory=dict)   # family -> options for the case
+    extra_models: tuple = ()               # fitted besides the three standard families
 
 
 def _counts(I, exposure, rng):
@@ -252,6 +253,6 @@ seed: 4242
     models = "\n".join(
         f"  - {{name: {m}" + (f", options: {scen.model_options[m]}" if m in scen.model_options
                              else "") + "}"
-        for m in ("spinon_continuum", "gapped_spin_wave", "paramagnon"))
+        for m in ("spinon_continuum", "gapped_spin_wave", "paramagnon") + scen.extra_models)
     (folder / "case.yaml").write_text(text.replace("{models}", models))
     return folder / "case.yaml"

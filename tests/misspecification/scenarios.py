@@ -101,14 +101,11 @@ def _ordered_thermo(J, J_perp, z, T_N, jump, D):
             (T_c, _extras_heat(T_c, c), 0.015, 2e-3, "C"))
 
 
-def ordered_with_continuum(design=None):
-    """(c) Weakly coupled chains below T_N ≈ 4 K (J_⊥ = 0.16 J, 4 neighbouring chains):
-    a sharp transverse magnon ω² = ((π/2) J sin q)² + Δ_T² + π J J_⊥ (1 + cos q_a),
-    Δ_T = 0.35 meV, carrying 40 % of the two-spinon weight, and the exact two-spinon
-    continuum (60 %) pushed above 2Δ_T (ω → sqrt(ω² + 4Δ_T²)).  Differs from the ordered
-    family by the continuum, from the spinon family by the gapped mode and the order."""
-    J, Jp, gap, frac, T = J_CHAIN, 0.16, 0.35, 0.4, 1.5
-    D = design or G.design()
+def mode_and_continuum_spectra(D, J, Jp, gap, frac, T):
+    """Spectra of weakly coupled chains below T_N: a sharp transverse magnon
+    ω² = ((π/2) J sin q)² + gap² + π J J_⊥ (1 + cos q_a) carrying ``frac`` of the two-spinon
+    weight (brighter where softer) and the exact two-spinon continuum (the rest) pushed above
+    2 gap (ω → sqrt(ω² + 4 gap²)), both with the Bose factor, for the design's map and cut."""
     spectra = {}
     for key, bkg, slope in (("map", 0.6, 0.05), ("cut", 0.5, 0.0)):
         L, H, E = D[key]
@@ -128,9 +125,21 @@ def ordered_with_continuum(design=None):
             mode = G.mode_spectrum(np.array([E[i]]), wm, w_mode, T, damping=0.02)[0]
             S[i] = 2.0 * ((1.0 - frac) * cont + mode)
         spectra[key] = (S, bkg, slope)
+    return spectra
+
+
+def ordered_with_continuum(design=None):
+    """(c) Weakly coupled chains below T_N ≈ 4 K (J_⊥ = 0.16 J, 4 neighbouring chains):
+    a sharp transverse magnon ω² = ((π/2) J sin q)² + Δ_T² + π J J_⊥ (1 + cos q_a),
+    Δ_T = 0.35 meV, carrying 40 % of the two-spinon weight, and the exact two-spinon
+    continuum (60 %) pushed above 2Δ_T (ω → sqrt(ω² + 4Δ_T²)).  Differs from the ordered
+    family by the continuum, from the spinon family by the gapped mode and the order."""
+    J, Jp, gap, frac, T = J_CHAIN, 0.16, 0.35, 0.4, 1.5
+    D = design or G.design()
+    spectra = mode_and_continuum_spectra(D, J, Jp, gap, frac, T)
     chi, heat = _ordered_thermo(J, Jp, 4, schulz_neel_temperature(J, Jp, 4), 0.6, D)
-    return (Scenario("ordered_with_continuum", ordered_with_continuum.__doc__, "ordered", J),
-            spectra, chi, heat, T)
+    return (Scenario("ordered_with_continuum", ordered_with_continuum.__doc__, "ordered", J,
+                     extra_models=("coupled_chains",)), spectra, chi, heat, T)
 
 
 def magnon_lswt(design, J, Jp, z, delta, T, damping=0.03, renormalisation=np.pi / 2):

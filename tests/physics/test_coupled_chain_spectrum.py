@@ -95,19 +95,25 @@ def _reference(q, qa, E, s, T, J, Jp, d):
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize("Jp, delta, T, q, qa", [
-    (0.1, 1.0, 10.0, 0.6 * np.pi, np.pi), (0.1, 1.0, 10.0, 0.93 * np.pi, np.pi),
-    (0.25, 1.0, 15.0, 0.6 * np.pi, 0.0), (0.15, 1.5, 8.0, 0.6 * np.pi, np.pi)])
-def test_convolution_against_adaptive_quadrature(Jp, delta, T, q, qa):
+@pytest.mark.parametrize("Jp, delta, T, q, qa, window", [
+    # a pole 5e-4 meV below a thermally rounded edge (the hardest case measured)
+    (0.1, 1.0, 10.0, 0.93 * np.pi, np.pi, (0.5, 3.0)),
+    # a pole 0.0125 meV below a sharp edge; the same q away from the ordering vector
+    (0.25, 1.0, 15.0, 0.6 * np.pi, np.pi, (6.0, 9.0)),
+    (0.25, 1.0, 15.0, 0.6 * np.pi, 0.0, (6.0, 9.0)),
+    # easy axis
+    (0.15, 1.5, 8.0, 0.6 * np.pi, np.pi, (7.5, 11.0))])
+def test_convolution_against_adaptive_quadrature(Jp, delta, T, q, qa, window):
+    """Within 2 % of the peak (measured 0.2–1.5 % at 6 nodes per σ)."""
     J = 5.0
     assert neel_temperature(np.array([[J]]), np.array([[Jp]]), np.array([[delta]]))[0, 0] < T
-    E = np.linspace(-1.5, 12.0, 10)
+    E = np.linspace(*window, 8)
     s = 0.2 + 0.02 * np.abs(E)
     n = E.size
     got = coupled_spectrum(np.full(n, q), np.full(n, qa), np.full(n, qa), E, s, T,
                            np.array([[J]]), np.array([[Jp]]), np.array([[delta]]))[0]
     ref = np.array([_reference(q, qa, e, si, T, J, Jp, delta) for e, si in zip(E, s)])
-    assert np.abs(got - ref).max() < 0.03 * ref.max(), np.abs(got - ref) / ref.max()
+    assert np.abs(got - ref).max() < 0.02 * ref.max(), np.abs(got - ref) / ref.max()
 
 
 def test_ordered_phase_has_modes_below_and_the_chain_continuum_above_threshold():

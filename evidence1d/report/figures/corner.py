@@ -55,6 +55,13 @@ def _ticks(ax, axis, lim):
     inner = [t for t in ticks if lo + 0.12 * (hi - lo) <= t <= hi - 0.12 * (hi - lo)]
     if len(inner) > 3:
         inner = inner[::2]
+    if len(inner) > 2:             # long labels (a narrow range far from 0): two ticks only
+        def width(t):
+            d = next((d for d in range(10) if abs(round(t, d) - t) <= 1e-9 * max(1.0, abs(t))),
+                     10)
+            return len(f"{t:.{d}f}")
+        if max(width(t) for t in inner) >= 6:
+            inner = [inner[0], inner[-1]]
     fmt = ScalarFormatter(useOffset=False)
     fmt.set_scientific(False)
     a = ax.xaxis if axis == "x" else ax.yaxis
