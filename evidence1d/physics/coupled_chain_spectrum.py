@@ -288,8 +288,15 @@ def _ordered(rows, grid, chain, pts, T, J, Jp, delta, z_perp, ls, te):
     cut = np.sqrt(np.clip(wc - edge, 0.0, h))
     D = np.where(has_edge & (F_e > 0), -_edge_integral(rq, edge, cut, T, J, delta, ls, te,
                                                        lambda om, c: 1.0), 0.0)
-    S = spinon_density(rq[nr], a, T, J, delta, line_shape=ls, thermal_edge=te)
-    X = S * ((a > wc[:, nr]).astype(float) - F_e[:, nr])
+    # only nodes above some set's threshold (or of a set whose edge step is cut) carry
+    # weight: strongly ordered sets (thresholds beyond the data) cost nothing here
+    weight = (a > wc[:, nr]).astype(float) - F_e[:, nr]
+    cols = np.flatnonzero(np.any(weight != 0.0, axis=0))
+    X = np.zeros(weight.shape)
+    if cols.size:
+        S = spinon_density(rq[nr[cols]], a[cols], T, J, delta, line_shape=ls,
+                           thermal_edge=te)
+        X[:, cols] = S * weight[:, cols]
     X = _signed(_edge_terms(grid, edge, X, w, nr, kT), w, kT)
     out = (F_e[:, grid.point_row] * chain + grid.convolve(X)
            + _edge_gaussians(grid, edge, D, kT))
