@@ -17,12 +17,15 @@ Method, per parameter set:
   (Owen 1956, eq. 2.1; ``scipy.special.owens_t``), exact to rounding, combined over the box
   corners; below P = 1e-10, where the sum loses relative precision, the separation of
   variables of Genz (1992) written as one integral over the first variable, evaluated in
-  logarithms by 96-point Gauss–Legendre quadrature (its accuracy is measured in
-  ``tests/inference/test_truncated.py``);
+  logarithms by 96-point Gauss–Legendre quadrature (measured against an independent
+  adaptive quadrature: |Δ ln P| below 4e-6 down to P ~ 1e-130, below 2e-7 on the Owen
+  branch; ``tests/inference/test_truncated.py``);
 * three or more dimensions left: the same separation of variables with the most restrictive
   variable first (Genz & Bretz 2009, §4.1.3) over a fixed shifted rank-1 lattice of
-  :data:`N_LATTICE` points (deterministic, so the likelihood stays a function of θ);
-  accuracy measured in the same tests.
+  :data:`N_LATTICE` = 1024 points (deterministic, so the likelihood stays a function of θ);
+  measured against scipy's Genz algorithm over 40 random orthants: relative error in P of
+  median 7e-5 and worst 2e-3 in three dimensions, median 3e-4 and worst 2e-2 (0.02 nats
+  in ln P) in four.  The default priors leave at most two bounds in reach.
 
 References
 ----------

@@ -94,8 +94,9 @@ def test_higher_dimensional_orthant_against_scipy(dim, rng):
         ours = log_box_probability(m[None], C[None], np.zeros(dim), np.full(dim, np.inf))[0]
         ref = stats.multivariate_normal.cdf(np.zeros(dim), mean=-m, cov=C, abseps=1e-7,
                                             releps=1e-5)
-        # measured worst relative error 1e-3 over 50 random cases in three dimensions
-        assert np.exp(ours) == pytest.approx(ref, rel=5e-3)
+        # measured over 40 random cases with 1024 lattice points: relative error in P median
+        # 7e-5, worst 2e-3 in three dimensions; median 3e-4, worst 2e-2 in four
+        assert np.exp(ours) == pytest.approx(ref, rel=1e-2 if dim == 3 else 5e-2)
 
 
 def test_far_bounds_are_dropped_exactly_enough():
