@@ -67,8 +67,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..units import K_B_MEV
-from . import coupled_chain_kk as kk
-from . import coupled_chain_kk_table as kk_table
+from . import coupled_chain_kk as kk, coupled_chain_kk_table as kk_table
 from .chain import all_sheets
 from .chain_spectrum import LINE_SHAPES, spinon_density
 from .magnon import check_interchain, exchange_sum
@@ -120,8 +119,7 @@ class _Sheets:
                 r, theta = lo / hi_, np.broadcast_to(kT / hi_, hi_.shape)
                 sten = (kk_table.TableStencil(r, theta, line_shape, thermal_edge)
                         if method == "table" else (r, theta))
-                if contract and method == "table":
-                    sten.contract()
+                sten = sten.contract() if contract and method == "table" else sten
                 self.parts.append((sten, hi_, np.where(ok, amp, 0.0)))
         self.line = (la, lw)
         low = np.where(wl > 0, wl, np.inf)
