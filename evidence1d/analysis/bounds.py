@@ -9,8 +9,9 @@ bound is flagged when the mass exceeds ``BOUND_MASS_MAX`` (5 %, five times that:
 reporting choice of this package).  Such a posterior is shaped by the prior's edge, not
 only by the data: quantiles, the evidence (through its Occam factor) and the Bayes factor
 then depend on where the edge was put, so the edge must be widened or justified.  Mass
-beyond the bound can only come from nuisances integrated out under a Gaussian stand-in of
-their declared prior; it is reported as such.  When the bound is the family's nested
+beyond the bound would mean draws outside the declared prior; the analytic marginalisation
+keeps the declared bounds (:mod:`evidence1d.inference.truncated`), so it is reported (and
+expected to be 0) as a check.  When the bound is the family's nested
 one-dimensional limit (e.g. an interchain coupling of zero), the pile-up is itself a
 finding, and the Savage–Dickey ratio is the number to read.
 
@@ -97,10 +98,9 @@ def bound_flags(names, samples, priors, nested=None) -> list:
                 advice = ("this bound is the family's nested one-dimensional limit: the "
                           "pile-up favours that limit; read the Savage–Dickey ratio")
             elif outside > 0:
-                advice = (f"{outside:.0%} of the posterior lies beyond the declared bound "
-                          "(the parameter was integrated out under a Gaussian stand-in of "
-                          "its prior); sample it (sampler: {marginalise: false}) or justify "
-                          "the bound")
+                advice = (f"{outside:.0%} of the posterior lies beyond the declared bound, "
+                          "which the marginalisation should not allow: sample the parameter "
+                          "(sampler: {marginalise: false}) and report the problem")
             else:
                 advice = ("the posterior is cut by the prior: widen the prior if the bound "
                           "is not physical, or state why it is")

@@ -174,7 +174,7 @@ SUMMARY_FIELDS = (
     _F(f"{_M}.prior_bounds[].mass", "number", "", "posterior fraction within the window or "
        "beyond the bound"),
     _F(f"{_M}.prior_bounds[].mass_outside", "number", "", "posterior fraction beyond the "
-       "bound (only for nuisances integrated out under a Gaussian stand-in)"),
+       "bound (a check: 0 when every draw respects the declared prior)"),
     _F(f"{_M}.prior_bounds[].nested_limit", "boolean", "", "the bound is the family's nested "
        "one-dimensional limit"),
     _F(f"{_M}.prior_bounds[].advice", "string", "", "what to do"),
