@@ -1,9 +1,13 @@
 """True parameters of simulated replicates: drawn from the priors a fit declares, or from the
 saved posterior of a finished run.
 
-Every parameter a family's predictions need is drawn: physical parameters, sample extras
-and per-dataset nuisances (the linear nuisances that the fit integrates out analytically
-included, from the priors the case declares for them).
+Every parameter a family's predictions need is set: the sampled parameters (physical ones,
+sample extras and any sampled nuisance) are drawn from the priors the case declares; the
+linear nuisances that the fit integrates out analytically are set to their best fit (the
+constrained conditional mode) to the case's own data at the drawn parameters.  Their
+default priors do not look at the data, so on data in arbitrary units they carry no scale:
+a draw from them would give intensities of order 10⁹ and counting errors far below any
+real measurement.
 
 References
 ----------
@@ -22,7 +26,8 @@ __all__ = ["prior_truth", "posterior_truth", "load_posteriors"]
 
 
 def prior_truth(problem, rng) -> dict:
-    """One draw of every parameter of ``problem`` from its declared prior.
+    """One draw of the sampled parameters from their declared priors, the marginalised
+    linear nuisances at their best fit to the case's data given that draw (module notes).
 
     Parameters
     ----------
@@ -34,8 +39,10 @@ def prior_truth(problem, rng) -> dict:
     dict of str to float
         :attr:`~evidence1d.problem.JointProblem.full_names` to values, in their units.
     """
-    return {n: float(np.asarray(problem.declared_priors[n].sample(rng)).ravel()[0])
-            for n in problem.full_names}
+    theta = np.array([[float(np.asarray(problem.declared_priors[n].sample(rng)).ravel()[0])
+                       for n in problem.names]])
+    full = problem.params(theta)
+    return {n: float(np.asarray(full[n]).ravel()[0]) for n in problem.full_names}
 
 
 def load_posteriors(folder, case) -> dict:
