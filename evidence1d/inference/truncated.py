@@ -157,6 +157,14 @@ def truncated_normal_ppf(a, b, w):
 
 
 # ---------------------------------------------------------------------- box probability
+def _bound_groups(active):
+    """Rows grouped by which coordinates have a bound in reach: (rows, those coordinates)."""
+    keys = active @ (1 << np.arange(active.shape[1]))
+    for key in np.unique(keys):
+        rows = np.flatnonzero(keys == key)
+        yield rows, np.flatnonzero(active[rows[0]])
+
+
 def _standardised(mean, cov, lo, hi):
     sd = np.sqrt(np.diagonal(cov, axis1=-2, axis2=-1))
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -259,10 +267,7 @@ def log_box_probability(mean, cov, lo, hi) -> np.ndarray:
     out = np.zeros(k)
     sd, za, zb = _standardised(mean, cov, lo, hi)
     active = np.isfinite(za) | np.isfinite(zb)
-    keys = active @ (1 << np.arange(p))
-    for key in np.unique(keys):
-        rows = np.flatnonzero(keys == key)
-        dims = np.flatnonzero(active[rows[0]])
+    for rows, dims in _bound_groups(active):
         if dims.size == 0:
             continue
         if dims.size == 1:
@@ -403,10 +408,7 @@ def truncated_draw(mean, prec, chol, lo, hi, rng, tries: int = 4, sweeps: int = 
     cov = np.swapaxes(Linv, 1, 2) @ Linv
     _, za, zb = _standardised(m, cov, lo, hi)
     active = np.isfinite(za) | np.isfinite(zb)
-    keys = active @ (1 << np.arange(p))
-    for key in np.unique(keys):
-        g = np.flatnonzero(keys == key)
-        S = np.flatnonzero(active[g[0]])
+    for g, S in _bound_groups(active):
         R = np.flatnonzero(~active[g[0]])
         if S.size == 0:
             S, R = np.arange(p), np.array([], int)
