@@ -55,13 +55,6 @@ def _table(line_shape, thermal_edge):
     return V, u_top
 
 
-@functools.lru_cache(maxsize=None)
-def _windows(line_shape, thermal_edge):
-    """The table seen as windows of four consecutive nodes: (n_r, n_θ, 2, K − 4, 4), a view."""
-    return np.lib.stride_tricks.sliding_window_view(_table(line_shape, thermal_edge)[0], 4,
-                                                    axis=-1)
-
-
 def _lagrange4(t):
     """Cubic Lagrange weights at nodes −1, 0, 1, 2 for offsets t (…) → (…, 4)."""
     return np.stack([-t * (t - 1.0) * (t - 2.0) / 6.0, (t + 1.0) * (t - 1.0) * (t - 2.0) / 2.0,
@@ -92,7 +85,6 @@ class TableStencil:
 
     def __init__(self, r, theta, line_shape="exact", thermal_edge="near_pi"):
         r, theta = np.broadcast_arrays(np.asarray(r, float), np.asarray(theta, float))
-        self.windows = _windows(line_shape, thermal_edge)
         self.shape_args = (line_shape, thermal_edge)
         tab_top = _table(line_shape, thermal_edge)[1]
         xr, lt = _axes()
@@ -112,6 +104,9 @@ class TableStencil:
         self.rows = (i0[..., None] + np.arange(4))[..., :, None]
         self.cols = (j0[..., None] + np.arange(4))[..., None, :]
         self.weights = wr[..., :, None] * wt[..., None, :]
+        # flat offset of the node axis of each of the 4 × 4 (r, θ) table rows (side 0)
+        n_t, n_k = tab_top.shape[1], _table(line_shape, thermal_edge)[0].shape[-1]
+        self.offsets = (self.rows * n_t + self.cols) * (2 * n_k)
         self.u_top = np.einsum("...ab,...ab->...", self.weights, tab_top[self.rows, self.cols])
         self.r2 = r * r
         self.lam2 = (1.0 - self.r2) / reference_nodes()[GRID_NODES - 1] ** 2
@@ -153,11 +148,11 @@ class TableStencil:
         if self.line is not None:                   # contracted: 4 values per energy
             at = index if index is not None else np.indices(side.shape, sparse=True)
             out = np.einsum("...k,...k->...", self.line[tuple(at) + (side, k0)], wk)
-        else:
-            vals = self.windows[pick(self.rows), pick(self.cols), side[..., None, None],
-                                k0[..., None, None]]
-            out = np.einsum("...abk,...ab,...k->...", vals, pick(self.weights), wk,
-                            optimize=True)
+        else:                                       # 64 table values per energy
+            tab = _table(*self.shape_args)[0]
+            at = pick(self.offsets) + (side * tab.shape[-1] + k0)[..., None, None]
+            vals = tab.reshape(-1)[at[..., None] + np.arange(4)].astype(float)
+            out = np.einsum("...abk,...ab,...k->...", vals, pick(self.weights), wk)
         out += _top_log(pick(self.u_top), u * u)
         far = ay > rho[-1]                          # beyond the nodes: −2M₁/ω² tail
         if far.any():

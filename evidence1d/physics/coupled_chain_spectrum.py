@@ -64,10 +64,15 @@ M. Abramowitz & I. A. Stegun, *Handbook of Mathematical Functions* (1964), 25.4.
 """
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from ..units import K_B_MEV
-from .chain_spectrum import spinon_density, spinon_spectrum
+from . import chain_exact
+from .chain import all_sheets
+from .chain_spectrum import _EDGE_WINDOW, _cold_density, spinon_spectrum
+from .chain_thermal import thermal_density
 from .coupled_chain import _check, _chi2, _couplings, _Sheets, rpa_poles
 from .coupled_chain_ordered import ordered_modes, ordered_state, two_soliton_threshold
 from .coupled_chain_thermo import neel_temperature
@@ -110,6 +115,58 @@ def spectrum_grid(q, q_a, q_b, E, sigma):
     return rows, RowGrid(inverse.ravel(), E, sigma, nodes_per_sigma=NODES_PER_SIGMA)
 
 
+def _row_sheets(rq, J, delta):
+    """The two sheets (ω_L, ω_top, A) per set and row, each (n_sets, n_rows), and the
+    highest upper edge, above which the chain's density vanishes."""
+    (wl, top, A, _), (wl_s, b, A_s, _), _ = all_sheets(rq, J, delta)
+    high = np.maximum(np.where(A > 0, top, 0.0), np.where(A_s > 0, b, 0.0))
+    return ((wl, top, A), (wl_s, b, A_s)), high
+
+
+def _density(sheets, si, ci, a, kT, ls, te):
+    """The chain's S_1D at loss-side energies a ≥ 0 (meV) of (set, row) pairs (flat arrays),
+    1/meV: :func:`evidence1d.physics.chain_spectrum.spinon_density` term by term (the same
+    numbers), with the sheets of each set and row computed once and each sheet evaluated
+    only where present."""
+    out = np.zeros(a.shape)
+    for lo, hi, amp in sheets:
+        A = amp[si, ci]
+        k = np.flatnonzero(A > 0)
+        if not k.size:
+            continue
+        sk, ck, x = si[k], ci[k], a[k]
+        lo_, hi_ = lo[sk, ck], hi[sk, ck]
+        cold = _cold_density(x, lo_, hi_, ls)
+        if kT > 0:
+            dens = thermal_density(x, lo_, kT)
+            if ls == "exact":
+                dens = dens * chain_exact.profile_ratio(x, lo_, hi_, kT)
+            dens = np.where(x <= hi_, dens, 0.0)
+            w = 1.0 / (1.0 + (lo_ / (_EDGE_WINDOW * kT)) ** 2) if te == "near_pi" else 1.0
+            dens = w * dens + (1.0 - w) * cold
+        else:
+            dens = np.where(x > 0, cold, 0.0)
+        out[k] += A[k] * dens
+    return out
+
+
+def _real(sh, a, si, ci):
+    """χ'_1D at energies a ≥ 0 (meV) of (set, row) pairs, 1/meV: ``_Sheets.real`` of
+    :mod:`evidence1d.physics.coupled_chain` on flat pairs (the same numbers)."""
+    qi = sh.iq[ci]
+    out = np.zeros(a.shape)
+    for sten, hi, amp in sh.parts:
+        A = amp[si, qi]
+        k = np.flatnonzero(A > 0)
+        if k.size:
+            sub = (si[k], qi[k])
+            out[k] += math.pi * A[k] * sten.real(a[k] / hi[sub], sub) / hi[sub]
+    la, lw = sh.line[0][si, qi], sh.line[1][si, qi]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        line = 2.0 * la * lw / ((la - a) * (la + a))
+    return out + np.where(lw > 0, line, 0.0)
+
+
 def _bose(a, kT):
     """n(a) + 1 and n(a) at energies a > 0 (1 and 0 at T = 0)."""
     if kT <= 0:
@@ -118,45 +175,33 @@ def _bose(a, kT):
     return n + 1.0, n
 
 
-def _signed(X_loss, w, kT):
-    """Values at signed nodes from loss-side values: detailed balance on the gain side."""
-    if kT <= 0:
-        return np.where(w < 0, 0.0, X_loss)
-    return np.where(w < 0, X_loss * np.exp(-np.abs(w) / kT), X_loss)
-
-
 #: graded panels in t = √(ω − ω_L) over the first step above the edge (fractions of √h)
 _T_PANELS = np.array([0.0, 1e-4, 1e-3, 1e-2, 0.05, 0.2, 0.5, 1.0])
 
 
 def _edge_nodes(upper):
     """Nodes t and weights of ∫₀^upper f(t) dt: 4-point Gauss–Legendre on each panel of
-    :data:`_T_PANELS` (graded towards t = 0), shape (n_sets, n_rows, n_nodes)."""
+    :data:`_T_PANELS` (graded towards t = 0), shape (k, n_nodes) for k intervals."""
     t0, t1 = _T_PANELS[:-1, None], _T_PANELS[1:, None]
     x = (t0 + (t1 - t0) * _GL_T[None, :]).ravel()
     wx = ((t1 - t0) * _GL_W[None, :]).ravel()
     return upper[..., None] * x, upper[..., None] * wx
 
 
-def _edge_integral(rq, edge, upper, T, J, delta, ls, te, weight):
-    """∫ S_1D(ω) weight(ω, rows) dω over [ω_L, ω_L + upper²] per set and row, in
-    t = √(ω − ω_L): S_1D dω = 2t S_1D dt is finite at the inverse-square-root edge, and the
-    graded panels resolve a dressing that varies on any scale down to 10⁻⁸ of the step.
-    ``weight`` takes energies (n_sets, k) and their rows (k,)."""
-    t, wt = _edge_nodes(upper)                              # (n_sets, n_rows, K)
-    k = t.shape[-1]
-    om = (edge[..., None] + t * t).reshape(t.shape[0], -1)
-    cols = np.repeat(np.arange(rq.size), k)
-    S = spinon_density(rq[cols], om, T, J, delta, line_shape=ls, thermal_edge=te)
-    f = (2.0 * t * wt).reshape(om.shape) * S * weight(om, cols)
-    return f.reshape(t.shape).sum(-1)
-
-
-def _edge_terms(grid, edge, X, w, nr, kT):
-    """Zero the grid function over the first step above ±ω_L (its weight is the edge term)."""
-    e = edge[:, nr]
-    first = (np.abs(w) >= e) & (np.abs(w) < e + grid.base_step)
-    return np.where(first, 0.0, X)
+def _edge_integral(edge, upper, live, integrand):
+    """∫ S_1D(ω) w(ω) dω over [ω_L, ω_L + upper²] per set and row where ``live`` (else 0),
+    in t = √(ω − ω_L): S_1D dω = 2t S_1D dt is finite at the inverse-square-root edge, and
+    the graded panels resolve a dressing that varies on any scale down to 10⁻⁸ of the step.
+    ``integrand`` gives S_1D w at flat energies (meV) of flat (set, row) pairs."""
+    out = np.zeros(edge.shape)
+    si, ci = np.nonzero(live)
+    if si.size:
+        t, wt = _edge_nodes(upper[si, ci])                  # (k, K)
+        K = t.shape[-1]
+        om = (edge[si, ci][:, None] + t * t).ravel()
+        f = integrand(om, np.repeat(si, K), np.repeat(ci, K)).reshape(t.shape)
+        out[si, ci] = (2.0 * t * wt * f).sum(-1)
+    return out
 
 
 def _edge_gaussians(grid, edge, D, kT):
@@ -169,24 +214,30 @@ def _edge_gaussians(grid, edge, D, kT):
     return out
 
 
+def _grid_values(grid, shape, si, ni, vals, kT):
+    """Loss-side values at (set, node) pairs onto the signed grid (n_sets, m), zero
+    elsewhere; detailed balance S(−ω) = e^{−ω/k_BT} S(ω) at the gain-side nodes."""
+    w = grid.node_energy[ni]
+    X = np.zeros(shape)
+    X[si, ni] = (np.where(w < 0, np.exp(-np.abs(w) / kT), 1.0) * vals if kT > 0
+                 else np.where(w < 0, 0.0, vals))
+    return X
+
+
 def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
     kT = K_B_MEV * T
     rq, rqa, rqb = rows.T
-    nr, w = grid.node_row, grid.node_energy
-    a = np.abs(w)
-    S = spinon_density(rq[nr], a, T, J, delta, line_shape=ls, thermal_edge=te)
-    a2 = np.broadcast_to(a, S.shape)
-    # one (r, θ) contraction per row and set, then 4 table reads per node
+    nr, a = grid.node_row, np.abs(grid.node_energy)
+    sheets, high = _row_sheets(rq, J, delta)
+    # one (r, θ) contraction per row and set, then 4 table reads per energy
     sh_rows = _Sheets(rq, J, delta, kT, ls, te, "table", contract=True)
-    chi = sh_rows.real(a2, sh_rows.iq[nr]) + 1j * _chi2(S, a2, kT)
-    coup = _couplings(rq[nr], rqa[nr], rqb[nr], J, Jp, delta, z_perp)
-    coup_rows = _couplings(rq, rqa, rqb, J, Jp, delta, z_perp)
+    coup = _couplings(rq, rqa, rqb, J, Jp, delta, z_perp)
 
-    def dressing(om, cols, keys=("zz", "xx")):   # F at energies (n_sets, k) of rows (k,)
-        Sr = spinon_density(rq[cols], om, T, J, delta, line_shape=ls, thermal_edge=te)
-        c = sh_rows.real(om, sh_rows.iq[cols]) + 1j * _chi2(Sr, om, kT)
-        return Sr, sum(m * f[:, cols] / np.abs(1.0 + g[:, cols] * f[:, cols] * c) ** 2
-                       for m, f, g in (coup_rows[k] for k in keys))
+    def dressing(om, si, ci, keys=("zz", "xx")):   # S_1D and F at flat (set, row) pairs
+        S = _density(sheets, si, ci, om, kT, ls, te)
+        c = _real(sh_rows, om, si, ci) + 1j * _chi2(S, om, kT)
+        return S, [m * f[si, ci] / np.abs(1.0 + g[si, ci] * f[si, ci] * c) ** 2
+                   for m, f, g in (coup[k] for k in keys)]
 
     # the plateau just above the edge's first step, and the step's own weight (the dip of
     # the dressing where |χ_1D| diverges), integrated exactly
@@ -194,32 +245,56 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
     has_edge = np.isfinite(row_edge)
     edge = np.where(has_edge, row_edge, 0.0)
     h = grid.base_step
-    F_e = np.where(has_edge, dressing(edge + h, np.arange(rq.size))[1], 1.0)
-    D = np.where(has_edge, _edge_integral(rq, edge, np.full(edge.shape, np.sqrt(h)), T, J,
-                                          delta, ls, te,
-                                          lambda om, c: dressing(om, c)[1] - F_e[:, c]), 0.0)
-    poles = rpa_poles(rq, rqa, rqb, T, J, Jp, delta, z_perp=z_perp, line_shape=ls,
-                      thermal_edge=te)
-    X = -F_e[:, nr] * S
+    si, ci = np.nonzero(has_edge)
+    F_e = np.ones(edge.shape)
+    F_e[si, ci] = sum(dressing(edge[si, ci] + h, si, ci)[1])
+
+    def dip(om, s_, c_):
+        S, F = dressing(om, s_, c_)
+        return S * (sum(F) - F_e[s_, c_])
+
+    D = _edge_integral(edge, np.full(edge.shape, np.sqrt(h)), has_edge, dip)
+    poles = _poles(rows, coup, T, J, Jp, delta, z_perp, ls, te)
+    # the grid function S_1D (F − F_e) where S_1D ≠ 0 (|ω| up to the top), outside the
+    # first step above the edge
+    e = edge[:, nr]
+    si, ni = np.nonzero((a <= high[:, nr]) & ~((a >= e) & (a < e + h)))
+    ci, x = nr[ni], a[ni]
+    S, F = dressing(x, si, ci)
+    vals = -F_e[si, ci] * S
     extra = 0.0
-    for key, (m, f, g) in coup.items():
-        term = S * f / np.abs(1.0 + g * f * chi) ** 2
-        pl = poles[key]
+    for (key, pl), Fk in zip(poles.items(), F):
         wp = np.nan_to_num(pl["omega"], nan=0.0)
         w0 = 0.5 * np.minimum(wp, edge - wp)
         sharp = (pl["weight"] > 0) & (w0 > 0) & (pl["width"] < SHARP * w0)
         if sharp.any():
             lo = np.where(sharp, np.maximum(wp - _WINDOW * h, 0.5 * wp), 0.0)
             hi = np.where(sharp, np.minimum(wp + _WINDOW * h, edge), 0.0)
-            inside = (a >= lo[:, nr]) & (a < hi[:, nr])
-            term = np.where(inside, 0.0, term)
-            gain, loss = _pole_window(wp, lo, hi, pl, sharp, kT, np.arange(rq.size),
-                                      lambda om, c: dressing(om, c, (key,)))
+            Fk = np.where((x >= lo[si, ci]) & (x < hi[si, ci]), 0.0, Fk)
+            gain, loss = _pole_window(wp, lo, hi, pl, sharp, kT,
+                                      lambda om, s_, c_: dressing(om, s_, c_, (key,)))
             extra = extra + _pair(grid, wp, loss, gain)
-        X = X + m * term
-    X = _signed(_edge_terms(grid, edge, X, w, nr, kT), w, kT)
+        vals = vals + S * Fk
+    X = _grid_values(grid, (J.shape[0], grid.size), si, ni, vals, kT)
     return (F_e[:, grid.point_row] * chain + grid.convolve(X) + extra
             + _edge_gaussians(grid, edge, D, kT))
+
+
+def _poles(rows, coup, T, J, Jp, delta, z_perp, ls, te):
+    """:func:`~evidence1d.physics.coupled_chain.rpa_poles` per row, searched only in the rows
+    where some set has κ_a J_⊥(Q_⊥) < 0 (elsewhere D_a has no zero below the edge)."""
+    rq, rqa, rqb = rows.T
+    cand = np.flatnonzero(np.any((coup["zz"][2] < 0) | (coup["xx"][2] < 0), axis=0))
+    out = {key: {"omega": np.full(J.shape[:1] + rq.shape, np.nan),
+                 "weight": np.zeros(J.shape[:1] + rq.shape),
+                 "width": np.zeros(J.shape[:1] + rq.shape)} for key in ("zz", "xx")}
+    if cand.size:
+        found = rpa_poles(rq[cand], rqa[cand], rqb[cand], T, J, Jp, delta, z_perp=z_perp,
+                          line_shape=ls, thermal_edge=te)
+        for key, res in found.items():
+            for k, v in res.items():
+                out[key][k][:, cand] = v
+    return out
 
 
 #: half width of the window around a sharp pole, in grid steps h₀
@@ -227,39 +302,40 @@ _WINDOW = 2.0
 _LOG_PANELS = 12             # panels in ln|ω − ω_p| on each side of a sharp pole
 
 
-def _pole_window(wp, lo, hi, pole, sharp, kT, rows, dressing):
+def _pole_window(wp, lo, hi, pole, sharp, kT, dressing):
     """∫ S_1D F_a dω over [lo, hi] around a sharp pole (loss side, and with e^{−ω/k_BT}),
     plus the δ-function's Z (n + 1), Z n where the pole has no width (T = 0).
 
     Two-point Gauss–Legendre on panels uniform in ln|ω − ω_p| from 10⁻² Γ (or 10⁻⁹ of the
     window) to the window's ends on both sides, one panel across the core: the Lorentzian
     of any width and the 1/(ω − ω_p) remainder of the linearisation are both smooth there.
+    Evaluated at the sharp (set, row) pairs only.
     """
-    G = np.where(sharp, pole["width"], 0.0)
-    span = np.maximum(hi - lo, 1e-300)
-    x0 = np.maximum(1e-2 * G, 1e-9 * span)
+    si, ci = np.nonzero(sharp)
+    wp_, lo_, hi_ = wp[si, ci], lo[si, ci], hi[si, ci]
+    G = pole["width"][si, ci]
+    x0 = np.maximum(1e-2 * G, 1e-9 * np.maximum(hi_ - lo_, 1e-300))
     t, wt = np.polynomial.legendre.leggauss(2)
-    nodes, weights = [wp + x0 * tk for tk in t], [x0 * wk for wk in wt]
-    for side, end in ((1.0, hi - wp), (-1.0, wp - lo)):
+    nodes, weights = [wp_ + x0 * tk for tk in t], [x0 * wk for wk in wt]
+    for side, end in ((1.0, hi_ - wp_), (-1.0, wp_ - lo_)):
         L0, L1 = np.log(x0), np.log(np.maximum(end, 2.0 * x0))
         edges = np.linspace(0.0, 1.0, _LOG_PANELS + 1)
         for u0, u1 in zip(edges[:-1], edges[1:]):
             for tk, wk in zip(t, wt):
                 u = u0 + (u1 - u0) * 0.5 * (tk + 1.0)
                 x = np.exp(L0 + (L1 - L0) * u)
-                nodes.append(wp + side * x)
+                nodes.append(wp_ + side * x)
                 weights.append(x * (L1 - L0) * (u1 - u0) * 0.5 * wk)
-    om = np.stack(nodes, -1)                                 # (n_sets, n_rows, K)
-    wts = np.stack(weights, -1)
-    cols = np.repeat(rows, om.shape[-1])
-    n_sets = om.shape[0]
-    om_f = np.where(sharp[..., None], om, 1.0).reshape(n_sets, -1)
-    S, F = dressing(om_f, cols)
-    val = (S * F).reshape(om.shape) * np.where(sharp[..., None], wts, 0.0)
-    loss = val.sum(-1)
-    gain = (val * np.exp(-om / kT)).sum(-1) if kT > 0 else np.zeros_like(loss)
+    om = np.stack(nodes, -1)                                 # (k, K)
+    K = om.shape[-1]
+    S, F = dressing(om.ravel(), np.repeat(si, K), np.repeat(ci, K))
+    val = (S * F[0]).reshape(om.shape) * np.stack(weights, -1)
+    loss, gain = np.zeros(wp.shape), np.zeros(wp.shape)
+    loss[si, ci] = val.sum(-1)
+    if kT > 0:
+        gain[si, ci] = (val * np.exp(-om / kT)).sum(-1)
     nb1, nb = _bose(np.where(sharp, wp, 1.0), kT)
-    delta_part = np.where(sharp & (G <= 0), pole["weight"], 0.0)
+    delta_part = np.where(sharp & (pole["width"] <= 0), pole["weight"], 0.0)
     return gain + delta_part * nb, loss + delta_part * nb1
 
 
@@ -273,10 +349,10 @@ def _pair(grid, wp, loss, gain):
 def _ordered(rows, grid, chain, pts, T, J, Jp, delta, z_perp, ls, te):
     kT = K_B_MEV * T
     rq = rows[:, 0]
-    nr, w = grid.node_row, grid.node_energy
-    a = np.abs(w)
+    nr, a = grid.node_row, np.abs(grid.node_energy)
     st = ordered_state(T, J, Jp, delta, z_perp=z_perp, line_shape=ls, thermal_edge=te)
     wc = two_soliton_threshold(rq, st)                      # (n_sets, n_rows)
+    sheets, high = _row_sheets(rq, J, delta)
     sh_rows = _Sheets(rq, J, delta, kT, ls, te, "table")
     row_edge = sh_rows.edge[:, sh_rows.iq]                 # per row (sheets are per phase)
     has_edge = np.isfinite(row_edge)
@@ -286,18 +362,16 @@ def _ordered(rows, grid, chain, pts, T, J, Jp, delta, z_perp, ls, te):
     # the part of the step below ω_c is then taken out exactly
     F_e = np.where(~has_edge | (wc < edge + h), 1.0, 0.0)
     cut = np.sqrt(np.clip(wc - edge, 0.0, h))
-    D = np.where(has_edge & (F_e > 0), -_edge_integral(rq, edge, cut, T, J, delta, ls, te,
-                                                       lambda om, c: 1.0), 0.0)
-    # only nodes above some set's threshold (or of a set whose edge step is cut) carry
-    # weight: strongly ordered sets (thresholds beyond the data) cost nothing here
-    weight = (a > wc[:, nr]).astype(float) - F_e[:, nr]
-    cols = np.flatnonzero(np.any(weight != 0.0, axis=0))
-    X = np.zeros(weight.shape)
-    if cols.size:
-        S = spinon_density(rq[nr[cols]], a[cols], T, J, delta, line_shape=ls,
-                           thermal_edge=te)
-        X[:, cols] = S * weight[:, cols]
-    X = _signed(_edge_terms(grid, edge, X, w, nr, kT), w, kT)
+    D = -_edge_integral(edge, cut, has_edge & (F_e > 0) & (cut > 0),
+                        lambda om, s_, c_: _density(sheets, s_, c_, om, kT, ls, te))
+    # only (set, node) pairs where the weight Θ(|ω| − ω_c) − F_e is not 0 and the chain
+    # has weight (|ω| up to the top), outside the first step above the edge: strongly
+    # ordered sets (thresholds beyond the data) cost nothing here
+    e, c = edge[:, nr], wc[:, nr]
+    weight = (a > c).astype(float) - F_e[:, nr]
+    si, ni = np.nonzero((weight != 0.0) & (a <= high[:, nr]) & ~((a >= e) & (a < e + h)))
+    vals = _density(sheets, si, nr[ni], a[ni], kT, ls, te) * weight[si, ni]
+    X = _grid_values(grid, weight.shape, si, ni, vals, kT)
     out = (F_e[:, grid.point_row] * chain + grid.convolve(X)
            + _edge_gaussians(grid, edge, D, kT))
     q, q_a, q_b, E, s = pts
