@@ -24,8 +24,12 @@ the Gaussian resolution G_σ is split as
   (:func:`evidence1d.physics.chain_spectrum.spinon_spectrum`, edges handled exactly), so
   that J_⊥ = 0 gives the spinon family's spectrum to rounding;
 * the bracket on the shared energy grid of :class:`evidence1d.physics.resolution_grid.RowGrid`
-  (:data:`NODES_PER_SIGMA` nodes per σ; detailed balance S(−ω) = e^{−ω/k_BT} S(ω) at the
-  gain-side nodes);
+  (:data:`NODES_PER_SIGMA` nodes per σ for the points within :data:`FINE_REACH` σ of a
+  feature of the bracket — ω = 0, the sheets' edges and tops, the Δ > 1 line, the poles,
+  the threshold below T_N — and a quarter of them, every fourth node, for the others, where
+  the bracket is smooth over the window; detailed balance S(−ω) = e^{−ω/k_BT} S(ω) at the
+  gain-side nodes).  The chain's density and χ'_1D are evaluated only at the (set, node)
+  pairs that the points' rules read and where the bracket can be non-zero;
 * "poles": each pole whose Lorentzian half width Γ is below half of
   w₀ = ½ min(ω_p, ω_L − ω_p) (a sharp bound state, unresolved by any grid) has its
   component's S_1D F_a integrated exactly over the window [ω_p − 2h₀, min(ω_p + 2h₀, ω_L)]
@@ -47,7 +51,8 @@ within the first step above ω_L, whose part below ω_c is then subtracted exact
 Accuracy (tests, against adaptive quadrature of the pointwise response with the δ-poles
 added analytically): within 1.5 % of the peak above T_N at 6 nodes per σ, also with a pole
 within 10⁻³ meV of a thermally rounded edge (5 % at 3 nodes per σ, where the dressing's
-variation near the edge is under-resolved); the step at ω_c below T_N costs O(h₀/σ) of the
+variation near the edge is under-resolved); 4e-5 of the peak at the points on the coarse
+rule (and the same against the fine rule everywhere); the step at ω_c below T_N costs O(h₀/σ) of the
 continuum's value there (10⁻⁴ of the peak far above it).  The π-shifted sheet of Δ > 1 (its own edges)
 and the Δ > 1 line at the continuum bottom (dressed by the constant F_e; its bound state is
 a pole) are approximations.
@@ -90,6 +95,9 @@ SHARP = 0.5
 #: the poles (measured: 1.5 % of the peak at 6, 5 % at 3, for a pole 5e-4 meV below a
 #: thermally rounded edge)
 NODES_PER_SIGMA = 6.0
+#: points farther than this many σ (plus 2h₀) from every feature take the coarse rule of
+#: the grid (NODES_PER_SIGMA/4 per σ)
+FINE_REACH = 5.0
 
 
 def spectrum_grid(q, q_a, q_b, E, sigma):
@@ -116,11 +124,32 @@ def spectrum_grid(q, q_a, q_b, E, sigma):
 
 
 def _row_sheets(rq, J, delta):
-    """The two sheets (ω_L, ω_top, A) per set and row, each (n_sets, n_rows), and the
-    highest upper edge, above which the chain's density vanishes."""
-    (wl, top, A, _), (wl_s, b, A_s, _), _ = all_sheets(rq, J, delta)
+    """Per set and row, each (n_sets, n_rows): the two sheets (ω_L, ω_top, A), the highest
+    upper edge (above which the chain's density vanishes), the lowest edge (ω_L or the
+    Δ > 1 line's energy; 0 where neither) and the line (energy, weight); meV."""
+    (wl, top, A, _), (wl_s, b, A_s, _), line = all_sheets(rq, J, delta)
     high = np.maximum(np.where(A > 0, top, 0.0), np.where(A_s > 0, b, 0.0))
-    return ((wl, top, A), (wl_s, b, A_s)), high
+    edge = np.minimum(np.where(wl > 0, wl, np.inf), np.where(line[1] > 0, line[0], np.inf))
+    return ((wl, top, A), (wl_s, b, A_s)), high, np.where(np.isfinite(edge), edge, 0.0), line
+
+
+def _fine(grid, features):
+    """True (n_sets, n) where a point takes the fine rule of the grid: a feature of the
+    grid function (an energy per set and row in meV, NaN for none; ω = 0 always) lies
+    within :data:`FINE_REACH` σ + 2h₀ of ±E."""
+    pr, E = grid.point_row, np.abs(grid.point_energy)
+    reach = FINE_REACH * grid.point_sigma + 2.0 * grid.base_step
+    fine = E <= reach
+    for f in features:
+        with np.errstate(invalid="ignore"):
+            fine = fine | (np.abs(E - f[:, pr]) <= reach)
+    return np.broadcast_to(fine, (features[0].shape[0], E.size))
+
+
+def _sheet_features(sheets, line):
+    """The edges of both sheets and the Δ > 1 line's energy (NaN where absent), meV."""
+    out = [np.where(amp > 0, x, np.nan) for lo, hi, amp in sheets for x in (lo, hi)]
+    return out + [np.where(line[1] > 0, line[0], np.nan)]
 
 
 def _density(sheets, si, ci, a, kT, ls, te):
@@ -228,7 +257,7 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
     kT = K_B_MEV * T
     rq, rqa, rqb = rows.T
     nr, a = grid.node_row, np.abs(grid.node_energy)
-    sheets, high = _row_sheets(rq, J, delta)
+    sheets, high, edge, line = _row_sheets(rq, J, delta)
     # one (r, θ) contraction per row and set, then 4 table reads per energy
     sh_rows = _Sheets(rq, J, delta, kT, ls, te, "table", contract=True)
     coup = _couplings(rq, rqa, rqb, J, Jp, delta, z_perp)
@@ -241,9 +270,7 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
 
     # the plateau just above the edge's first step, and the step's own weight (the dip of
     # the dressing where |χ_1D| diverges), integrated exactly
-    row_edge = sh_rows.edge[:, sh_rows.iq]                 # per row (sheets are per phase)
-    has_edge = np.isfinite(row_edge)
-    edge = np.where(has_edge, row_edge, 0.0)
+    has_edge = edge > 0
     h = grid.base_step
     si, ci = np.nonzero(has_edge)
     F_e = np.ones(edge.shape)
@@ -256,9 +283,10 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
     D = _edge_integral(edge, np.full(edge.shape, np.sqrt(h)), has_edge, dip)
     poles = _poles(rows, coup, T, J, Jp, delta, z_perp, ls, te)
     # the grid function S_1D (F − F_e) where S_1D ≠ 0 (|ω| up to the top), outside the
-    # first step above the edge
+    # first step above the edge, at the nodes that the points' rules read
+    fine = _fine(grid, _sheet_features(sheets, line) + [p["omega"] for p in poles.values()])
     e = edge[:, nr]
-    si, ni = np.nonzero((a <= high[:, nr]) & ~((a >= e) & (a < e + h)))
+    si, ni = np.nonzero(grid.needed(fine) & (a <= high[:, nr]) & ~((a >= e) & (a < e + h)))
     ci, x = nr[ni], a[ni]
     S, F = dressing(x, si, ci)
     vals = -F_e[si, ci] * S
@@ -276,7 +304,7 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
             extra = extra + _pair(grid, wp, loss, gain)
         vals = vals + S * Fk
     X = _grid_values(grid, (J.shape[0], grid.size), si, ni, vals, kT)
-    return (F_e[:, grid.point_row] * chain + grid.convolve(X) + extra
+    return (F_e[:, grid.point_row] * chain + grid.convolve(X, fine) + extra
             + _edge_gaussians(grid, edge, D, kT))
 
 
@@ -352,11 +380,8 @@ def _ordered(rows, grid, chain, pts, T, J, Jp, delta, z_perp, ls, te):
     nr, a = grid.node_row, np.abs(grid.node_energy)
     st = ordered_state(T, J, Jp, delta, z_perp=z_perp, line_shape=ls, thermal_edge=te)
     wc = two_soliton_threshold(rq, st)                      # (n_sets, n_rows)
-    sheets, high = _row_sheets(rq, J, delta)
-    sh_rows = _Sheets(rq, J, delta, kT, ls, te, "table")
-    row_edge = sh_rows.edge[:, sh_rows.iq]                 # per row (sheets are per phase)
-    has_edge = np.isfinite(row_edge)
-    edge = np.where(has_edge, row_edge, 0.0)
+    sheets, high, edge, line = _row_sheets(rq, J, delta)
+    has_edge = edge > 0
     h = grid.base_step
     # F = Θ(|ω| − ω_c): the plateau above the first step is 1 if ω_c lies below its end;
     # the part of the step below ω_c is then taken out exactly
@@ -364,16 +389,24 @@ def _ordered(rows, grid, chain, pts, T, J, Jp, delta, z_perp, ls, te):
     cut = np.sqrt(np.clip(wc - edge, 0.0, h))
     D = -_edge_integral(edge, cut, has_edge & (F_e > 0) & (cut > 0),
                         lambda om, s_, c_: _density(sheets, s_, c_, om, kT, ls, te))
+    out = F_e[:, grid.point_row] * chain + _edge_gaussians(grid, edge, D, kT)
     # only (set, node) pairs where the weight Θ(|ω| − ω_c) − F_e is not 0 and the chain
-    # has weight (|ω| up to the top), outside the first step above the edge: strongly
-    # ordered sets (thresholds beyond the data) cost nothing here
-    e, c = edge[:, nr], wc[:, nr]
-    weight = (a > c).astype(float) - F_e[:, nr]
-    si, ni = np.nonzero((weight != 0.0) & (a <= high[:, nr]) & ~((a >= e) & (a < e + h)))
-    vals = _density(sheets, si, nr[ni], a[ni], kT, ls, te) * weight[si, ni]
-    X = _grid_values(grid, weight.shape, si, ni, vals, kT)
-    out = (F_e[:, grid.point_row] * chain + grid.convolve(X)
-           + _edge_gaussians(grid, edge, D, kT))
+    # has weight (|ω| up to the top), outside the first step above the edge, at the nodes
+    # the points' rules read: strongly ordered sets (thresholds beyond the data) cost
+    # nothing here
+    reach = np.maximum.reduceat(a, np.flatnonzero(np.diff(nr, prepend=-1)))  # per row
+    act = np.flatnonzero(np.any((F_e > 0) | (wc < reach), axis=1))
+    if act.size:
+        sheets_a = tuple(tuple(x[act] for x in sh) for sh in sheets)
+        fine = _fine(grid, _sheet_features(sheets_a, tuple(x[act] for x in line))
+                     + [wc[act]])
+        e, c = edge[act][:, nr], wc[act][:, nr]
+        weight = (a > c).astype(float) - F_e[act][:, nr]
+        si, ni = np.nonzero((weight != 0.0) & (a <= high[act][:, nr])
+                            & ~((a >= e) & (a < e + h)) & grid.needed(fine))
+        vals = _density(sheets_a, si, nr[ni], a[ni], kT, ls, te) * weight[si, ni]
+        X = _grid_values(grid, weight.shape, si, ni, vals, kT)
+        out[act] += grid.convolve(X, fine)
     q, q_a, q_b, E, s = pts
     for mode in ordered_modes(q, q_a, q_b, T, J, Jp, delta, z_perp=z_perp, line_shape=ls,
                               thermal_edge=te).values():
