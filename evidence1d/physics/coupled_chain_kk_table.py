@@ -124,8 +124,11 @@ class TableStencil:
             self.
         """
         tab = _table(*self.shape_args)[0]                   # (n_r, n_θ, 2, K − 1)
-        full = np.einsum("...abzk,...ab->...zk", tab[self.rows, self.cols],
-                         self.weights.astype(np.float32), optimize=True)
+        n = tab.shape[2] * tab.shape[3]
+        vals = tab.reshape(tab.shape[:2] + (n,))[self.rows, self.cols]     # (…, 4, 4, n)
+        lead = vals.shape[:-3]
+        w = self.weights.astype(np.float32).reshape(lead + (1, 16))
+        full = (w @ vals.reshape(lead + (16, n))).reshape(lead + tab.shape[2:])
         self.line = np.lib.stride_tricks.sliding_window_view(full, 4, axis=-1)
         return self
 
