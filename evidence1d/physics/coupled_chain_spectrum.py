@@ -146,10 +146,11 @@ def _fine(grid, features):
     return np.broadcast_to(fine, (features[0].shape[0], E.size))
 
 
-def _sheet_features(sheets, line):
-    """The edges of both sheets and the Δ > 1 line's energy (NaN where absent), meV."""
+def _sheet_features(sheets, line, edge):
+    """The edges of both sheets, the Δ > 1 line's energy and the lowest edge (whose first
+    grid step is taken out), NaN where absent, meV."""
     out = [np.where(amp > 0, x, np.nan) for lo, hi, amp in sheets for x in (lo, hi)]
-    return out + [np.where(line[1] > 0, line[0], np.nan)]
+    return out + [np.where(line[1] > 0, line[0], np.nan), np.where(edge > 0, edge, np.nan)]
 
 
 def _density(sheets, si, ci, a, kT, ls, te):
@@ -264,9 +265,13 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
 
     def dressing(om, si, ci, keys=("zz", "xx")):   # S_1D and F at flat (set, row) pairs
         S = _density(sheets, si, ci, om, kT, ls, te)
-        c = _real(sh_rows, om, si, ci) + 1j * _chi2(S, om, kT)
-        return S, [m * f[si, ci] / np.abs(1.0 + g[si, ci] * f[si, ci] * c) ** 2
-                   for m, f, g in (coup[k] for k in keys)]
+        c1, c2 = _real(sh_rows, om, si, ci), _chi2(S, om, kT)
+        out = []
+        for m, f, g in (coup[k] for k in keys):     # m f/|1 + κJ_⊥ f χ|², in real numbers
+            f_ = f[si, ci]
+            gf = g[si, ci] * f_
+            out.append(m * f_ / ((1.0 + gf * c1) ** 2 + (gf * c2) ** 2))
+        return S, out
 
     # the plateau just above the edge's first step, and the step's own weight (the dip of
     # the dressing where |χ_1D| diverges), integrated exactly
@@ -284,7 +289,8 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
     poles = _poles(rows, coup, T, J, Jp, delta, z_perp, ls, te)
     # the grid function S_1D (F − F_e) where S_1D ≠ 0 (|ω| up to the top), outside the
     # first step above the edge, at the nodes that the points' rules read
-    fine = _fine(grid, _sheet_features(sheets, line) + [p["omega"] for p in poles.values()])
+    fine = _fine(grid, _sheet_features(sheets, line, edge)
+                 + [p["omega"] for p in poles.values()])
     e = edge[:, nr]
     si, ni = np.nonzero(grid.needed(fine) & (a <= high[:, nr]) & ~((a >= e) & (a < e + h)))
     ci, x = nr[ni], a[ni]
@@ -398,8 +404,8 @@ def _ordered(rows, grid, chain, pts, T, J, Jp, delta, z_perp, ls, te):
     act = np.flatnonzero(np.any((F_e > 0) | (wc < reach), axis=1))
     if act.size:
         sheets_a = tuple(tuple(x[act] for x in sh) for sh in sheets)
-        fine = _fine(grid, _sheet_features(sheets_a, tuple(x[act] for x in line))
-                     + [wc[act]])
+        fine = _fine(grid, _sheet_features(sheets_a, tuple(x[act] for x in line),
+                                           edge[act]) + [wc[act]])
         e, c = edge[act][:, nr], wc[act][:, nr]
         weight = (a > c).astype(float) - F_e[act][:, nr]
         si, ni = np.nonzero((weight != 0.0) & (a <= high[act][:, nr])
