@@ -54,6 +54,9 @@ _PARAM_SPEC = Spec({
 _NESTED_SPEC = Spec({
     "parameter": Field(as_str, required=True, help="parameter that vanishes in the 1D limit"),
     "value": Field(as_float, required=True, help="its value in the 1D limit"),
+    "equals": Field(as_str, default=None, help="the family this one is at the limit (same "
+                    "likelihood, same priors on shared parameters), if it is one; then the "
+                    "direct Bayes factor is checked against the Savage–Dickey ratio"),
 }, what="nested_1d_limit")
 
 _CARD_SPEC = Spec({
@@ -81,7 +84,8 @@ class ModelCard:
     parameters : dict of str to dict
         ``{name: {"unit", "description", "prior" (a Prior), "latex"}}`` in sampling order.
     nested_1d_limit : dict or None
-        ``{"parameter": str, "value": float}`` if the family contains its 1D limit.
+        ``{"parameter": str, "value": float, "equals": str or None}`` if the family
+        contains its 1D limit; ``equals`` names the family it then is, if any.
     assumptions, limitations, references : list of str
     options : dict
     path : pathlib.Path

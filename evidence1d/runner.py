@@ -261,6 +261,28 @@ def run_context(case, names, quick: bool, figures) -> dict:
             "figure_settings": figures}
 
 
+def _nested_checks(case, results) -> dict:
+    """Direct ln K against Savage–Dickey for every family whose card says it equals another
+    family of the run at its nested limit (:mod:`evidence1d.inference.nested_check`)."""
+    from .inference.nested_check import nested_consistency, priors_agree
+    out = {}
+    for n, r in results.items():
+        lim = case.problem(n).card.nested_1d_limit or {}
+        other = lim.get("equals")
+        if not other or other not in results or not r.savage_dickey:
+            continue
+        full, nested = case.problem(n), case.problem(other)
+        differ = priors_agree(full.declared_priors, nested.declared_priors, lim["parameter"])
+        # options both families have (line_shape, ...) must agree for the limit to be exact
+        differ += [f"option {k}" for k in sorted(set(full.card.options) & set(nested.card.options))
+                   if full.card.options[k] != nested.card.options[k]]
+        out[n] = nested_consistency(
+            n, other, {k: v.evidence.log_z for k, v in results.items()},
+            {k: v.evidence.log_z_err for k, v in results.items()}, r.savage_dickey,
+            differing_priors=differ)
+    return out
+
+
 def run(case, *, seed: int | None = None, quick: bool = False, models=None,
         progress: bool = True, workers: int | None = None, budget: bool | None = None,
         figures: bool = True, store=None, executor=None) -> RunResults:
@@ -362,7 +384,8 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
                               {n: r.evidence.island_log_z for n, r in results.items()},
                               {n: r.diagnostics.ok for n, r in results.items()},
                               {n: list(r.diagnostics.warnings) for n, r in results.items()},
-                              {n: list(r.evidence.warnings) for n, r in results.items()})
+                              {n: list(r.evidence.warnings) for n, r in results.items()},
+                              _nested_checks(case, results))
     comparison = with_reliability(comparison, rel)
     reliable = bool(rel["verdict_reliable"])
     for n, note in rel["posterior_notes"].items():

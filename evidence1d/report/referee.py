@@ -54,6 +54,22 @@ def reliability_section(s) -> list:
            f"{'passed' if r['winner_diagnostics_ok'] else 'FAILED'}). Each family's own "
            "posterior is judged separately below: a losing family's failed chain is a note "
            "on that family, not on the verdict.", ""]
+    for full, c in (r.get("nested_checks") or {}).items():
+        if not c["checked"]:
+            out += [f"- `{full}` equals `{c['nested']}` at its nested limit, but the direct "
+                    f"ln K was not checked against Savage–Dickey: {c['why_not']}."]
+            continue
+        sd = c["ln_k_savage_dickey"]
+        sd_txt = "−∞" if sd == float("-inf") else \
+            f"{sd:.2f} ± {fmt(c['ln_k_savage_dickey_err'])}"
+        out += [f"- Cross-check: ln K of `{c['nested']}` over `{full}` is "
+                f"{c['ln_k_direct']:.2f} ± {fmt(c['ln_k_direct_err'])} nats from the "
+                f"evidences and {sd_txt} from the Savage–Dickey ratio of `{full}`'s "
+                "posterior (the same quantity, Dickey 1971): "
+                + ("consistent." if c["consistent"] else
+                   "**INCONSISTENT** — at least one of the two evidences is biased.")]
+    if r.get("nested_checks"):
+        out.append("")
     for n, note in r["posterior_notes"].items():
         out += [f"- Note on `{n}`: {note}"]
     if r["posterior_notes"]:

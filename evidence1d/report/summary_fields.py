@@ -127,8 +127,8 @@ SUMMARY_FIELDS = (
     _F(f"{_M}.savage_dickey.ln_bf_nested_vs_full", "number|null", "nats", "ln Bayes factor "
        "of the 1D limit against the full family (null: posterior density zero there)"),
     _F(f"{_M}.savage_dickey.ln_bf_err", "number|null", "nats", "bootstrap error"),
-    _F(f"{_M}.savage_dickey.reflected", "boolean", "", "density estimated with boundary "
-       "reflection"),
+    _F(f"{_M}.savage_dickey.reflected", "boolean", "", "the limit lies on the prior's "
+       "bound: density from a local-linear boundary kernel (Jones 1993)"),
     _F(f"{_M}.savage_dickey.near_limit", "mapping[object]|null", "", "how close the "
        "posterior comes to the limit, per dimensionless measure of the family (for coupled "
        "chains and the ordered family J_perp/J and kT_N/J = k_B T_N/J); null if the family "
@@ -284,6 +284,13 @@ SUMMARY_FIELDS = (
        "islands that agree"),
     _F(f"{_C}.reliability.winner_diagnostics_ok", "boolean", "", "the winner's posterior "
        "passed its diagnostics"),
+    _F(f"{_C}.reliability.nested_consistent", "boolean", "", "where a family equals another "
+       "of the run at its nested limit (card `nested_1d_limit.equals`) and one of them leads, "
+       "the direct ln K agrees with the Savage–Dickey ratio"),
+    _F(f"{_C}.reliability.nested_checks", "mapping[object]", "", "full family -> direct "
+       "ln K (`ln_k_direct`, `ln_k_direct_err`) against Savage–Dickey (`ln_k_savage_dickey`, "
+       "`ln_k_savage_dickey_err`), `difference`, `z`, `checked`, `consistent`, `why_not` "
+       "(nats)"),
     _F(f"{_C}.reliability.posterior_notes", "mapping[string]", "", "family -> note on a "
        "losing family's failed posterior"),
     _F(f"{_C}.reliability.thresholds", "mapping[number]", "", "thresholds applied"),
