@@ -47,7 +47,7 @@ from evidence1d.schema import Field, Spec, check_mapping, integer, real
 
 from .progress import stage_bar
 from .records import frozen_array
-from .tempering import IslandRun, log_mean_exp, run_island
+from .tempering import IMPORTANCE_MIN_ESS, IslandRun, log_mean_exp, run_island
 
 # IslandRun, run_island and log_mean_exp are defined in .tempering and used here
 __all__ = ["EvidenceResult", "tempered_evidence", "island_seeds", "combine_islands",
@@ -89,8 +89,9 @@ class EvidenceResult:
     wall_time: float
     settings: dict
     method: str = ("sequential Monte Carlo with adaptive tempering (conditional ESS), "
-                   "independent-t and random-walk moves fitted to the other half; "
-                   "error from independent islands")
+                   "independent-t and random-walk moves fitted to the other half, then "
+                   "importance sampling from a defensive t mixture fitted to the final "
+                   "population; error from independent islands")
     warnings: tuple = field(default_factory=tuple)
 
     @property
@@ -187,6 +188,25 @@ def combine_islands(islands, names, settings: dict, warnings=(), wall_time=None)
         err *= math.sqrt((r - 1.0) / (r - 3.0))
     else:
         warnings.append(f"only {r} islands: the error bar is itself very uncertain; use ≥ 4")
+    imp = [isl.importance for isl in islands if getattr(isl, "importance", None)]
+    used = [d for d in imp if d.get("used")]
+    if used:
+        # the importance weights' own error, combined over the islands that used them, is a
+        # floor under the spread of the islands (which can be small by chance for few islands)
+        err = max(err, float(math.sqrt(sum(d["log_z_err"] ** 2 for d in used)) / r))
+    if imp and len(used) < len(imp):
+        warnings.append(f"the final importance stage covered the posterior poorly on "
+                        f"{len(imp) - len(used)} of {len(imp)} islands (effective sample size "
+                        f"below {IMPORTANCE_MIN_ESS:.0%} of its draws): those islands keep the "
+                        "tempered estimate, which is biased low when the moves did not "
+                        "equilibrate (run more particles)")
+    if used:
+        shift = float(np.mean([isl.log_z - isl.log_z_tempered for isl in islands
+                               if isl.importance and isl.importance.get("used")]))
+        if abs(shift) > max(1.0, 3.0 * err):
+            warnings.append(f"the tempered sequence alone gives ln Z {-shift:+.2f} nats from "
+                            "the final importance estimate: its moves did not equilibrate "
+                            "the population (the importance estimate is quoted)")
     if wall_time is None:
         wall_time = float(sum(isl.wall_time for isl in islands))
     return EvidenceResult(log_z=float(log_mean_exp(lz)), log_z_err=err,

@@ -55,6 +55,7 @@ from scipy import optimize, special
 from evidence1d.errors import InputError
 from evidence1d.inference.priors import LogUniform
 
+from .importance import importance_evidence
 from .records import frozen_array
 from .target import LogTarget
 
@@ -62,6 +63,16 @@ __all__ = ["IslandRun", "run_island", "log_mean_exp", "systematic_resample"]
 
 #: Acceptance rate the random-walk step size is steered to (Roberts, Gelman & Gilks 1997).
 _TARGET_ACC = 0.25
+
+#: The final importance estimate replaces the tempered one when its effective sample size is
+#: at least this fraction of its draws (common practice: below it the proposal missed part of
+#: the posterior and the weights' variance estimate is itself unreliable)
+IMPORTANCE_MIN_ESS = 0.05
+
+#: Draws of the final importance stage per particle (measured on the coupled-chains family on
+#: chain data, 4 parameters, 150 particles: ESS 10 % of the draws, ln Z within 0.2 nat of an
+#: independent estimate, about 10 % of the island's likelihood evaluations)
+IMPORTANCE_DRAWS_PER_PARTICLE = 6
 
 
 def log_mean_exp(x, axis=None):
@@ -124,6 +135,14 @@ class IslandRun:
         Parameter sets passed to the log-likelihood.
     wall_time : float
         Seconds.
+    log_z_tempered : float
+        ln Ẑ of the tempered sequence alone (nats); ``log_z`` is this unless the final
+        importance stage was used.
+    importance : dict or None
+        The final importance stage (:func:`evidence1d.inference.importance.importance_evidence`:
+        ``log_z``, ``log_z_err``, ``ess``, ``n_draws``, ``n_evaluations``) and ``used``
+        (whether ``log_z`` is its estimate: its effective sample size reached
+        :data:`IMPORTANCE_MIN_ESS` of its draws); None if not run.
     """
 
     log_z: float
@@ -135,6 +154,8 @@ class IslandRun:
     n_sweeps: np.ndarray
     n_evaluations: int
     wall_time: float
+    log_z_tempered: float = math.nan
+    importance: dict | None = None
 
 
 class _WorkSpace:
@@ -250,7 +271,8 @@ def _split_sweep(z, ll, lbase, beta, scale, call, prior, space, rng):
     return acc_i / n, acc_l / n
 
 
-def _run_island(call, prior, rng, n, rho, moved, min_sweeps, max_sweeps, max_temps, bar):
+def _run_island(call, prior, rng, n, rho, moved, min_sweeps, max_sweeps, max_temps, bar,
+                importance_draws=0):
     start = time.perf_counter()
     n0 = call.n_evaluations
     m = prior.n_free
@@ -296,16 +318,27 @@ def _run_island(call, prior, rng, n, rho, moved, min_sweeps, max_sweeps, max_tem
         lls.append(ll.copy())
         accs.append(acc)
         sweeps.append(k_sweeps)
-    run = IslandRun(log_z=float(log_z), betas=frozen_array(betas), log_z_increments=frozen_array(incs),
+    imp, final = None, float(log_z)
+    if importance_draws:
+        imp = importance_evidence(call, prior, space, z, rng, int(importance_draws))
+        imp["used"] = bool(imp["ess"] >= IMPORTANCE_MIN_ESS * imp["n_draws"]
+                           and math.isfinite(imp["log_z"]))
+        if imp["used"]:
+            final = imp["log_z"]
+    run = IslandRun(log_z=final, betas=frozen_array(betas), log_z_increments=frozen_array(incs),
                     samples=frozen_array(np.stack(samples)), log_likelihood=frozen_array(np.stack(lls)),
                     acceptance=frozen_array(accs), n_sweeps=frozen_array(sweeps),
-                    n_evaluations=call.n_evaluations - n0, wall_time=time.perf_counter() - start)
+                    n_evaluations=call.n_evaluations - n0, wall_time=time.perf_counter() - start,
+                    log_z_tempered=float(log_z), importance=imp)
     return run, warn
 
 
 def run_island(log_likelihood, prior, seed, *, n_particles=200, target_cess=0.5, moved=0.9,
-               min_sweeps=5, max_sweeps=20, max_temperatures=500, bar=None):
-    """One tempered population from the prior (β = 0) to the posterior (β = 1).
+               min_sweeps=5, max_sweeps=20, max_temperatures=500, bar=None,
+               importance_draws=None):
+    """One tempered population from the prior (β = 0) to the posterior (β = 1), then a
+    final importance estimate of Z from a proposal fitted to it
+    (:mod:`evidence1d.inference.importance`).
 
     Parameters
     ----------
@@ -318,6 +351,10 @@ def run_island(log_likelihood, prior, seed, *, n_particles=200, target_cess=0.5,
         As in :func:`evidence1d.inference.evidence.tempered_evidence`.
     bar : progress display, optional
         Advanced by the β steps.
+    importance_draws : int, optional
+        Draws of the final importance stage (default
+        :data:`IMPORTANCE_DRAWS_PER_PARTICLE` × ``n_particles``; 0: none, the tempered
+        estimate alone).
 
     Returns
     -------
@@ -328,7 +365,10 @@ def run_island(log_likelihood, prior, seed, *, n_particles=200, target_cess=0.5,
     References
     ----------
     .. [1] Del Moral, Doucet & Jasra, JRSS B 68, 411 (2006).
+    .. [2] Hesterberg, Technometrics 37, 185 (1995): the defensive importance stage.
     """
+    draws = (IMPORTANCE_DRAWS_PER_PARTICLE * int(n_particles) if importance_draws is None
+             else int(importance_draws))
     return _run_island(LogTarget(log_likelihood), prior, np.random.default_rng(seed),
                        int(n_particles), target_cess, moved, int(min_sweeps),
-                       int(max_sweeps), int(max_temperatures), bar)
+                       int(max_sweeps), int(max_temperatures), bar, importance_draws=draws)
