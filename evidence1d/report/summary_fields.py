@@ -66,7 +66,8 @@ SUMMARY_FIELDS = (
     _F(f"{_M}.one_dimensional", "boolean", "", "whether the family is one-dimensional physics"),
     _F(f"{_M}.posterior_reliable", "boolean", "", "whether this family's emcee posterior "
        "passed its convergence diagnostics (its parameter table can be quoted)"),
-    _F(f"{_M}.log_evidence", "number", "nats", "ln Z from the tempered sequence"),
+    _F(f"{_M}.log_evidence", "number", "nats", "ln Z (tempered sequence, then importance "
+       "sampling from its final population; see the README)"),
     _F(f"{_M}.log_evidence_err", "number", "nats", "standard error of ln Z from independent "
        "islands"),
     _F(f"{_M}.island_log_evidence", "array[number]", "nats", "ln Z of each island"),
