@@ -158,7 +158,7 @@ def _rows_panel(ax, labels, values, errors, right, reference=None):
     _right_labels(ax, y, right)
 
 
-def _budget_panel(ax, budget, titles):
+def _budget_panel(ax, budget, titles, wrap_at=70):
     rows = budget.get("sequential") or []
     a, b = (budget.get("families") or ["A", "B"])[:2]
     _rows_panel(ax, [r["dataset"] for r in rows], [r.get("ln_k") for r in rows],
@@ -168,10 +168,10 @@ def _budget_panel(ax, budget, titles):
     ax.set_xlabel(f"contribution to ln K of {a} over {b} (nats)")
     if titles:
         ax.set_title(wrap(f"evidence budget: ln K = {_pm(budget['ln_k'], budget['ln_k_err'])} "
-                          "by dataset, each given those above it", 70), fontsize=7)
+                          "by dataset, each given those above it", wrap_at), fontsize=7)
 
 
-def _sensitivity_panel(ax, sens, titles, symbols):
+def _sensitivity_panel(ax, sens, titles, symbols, wrap_at=70):
     rows = sens.get("rows") or []
     a, b = (sens.get("families") or ["A", "B"])[:2]
     _rows_panel(ax, [f"{symbols.get(r['parameter'], r['parameter'])}: {r['change']}"
@@ -182,7 +182,7 @@ def _sensitivity_panel(ax, sens, titles, symbols):
     ax.set_xlabel(f"ln K of {a} over {b} (nats)")
     if titles:
         ax.set_title(wrap(f"prior sensitivity: ln K = {_pm(sens['ln_k'], 0.0)} with the "
-                          "declared priors (line)", 70), fontsize=7)
+                          "declared priors (line)", wrap_at), fontsize=7)
 
 
 @styled
@@ -220,10 +220,12 @@ def comparison_figure(comparison: dict, quick: bool = False, titles: bool = True
                            height_ratios=(top, bottom) if extra else None)
     _evidence_panel(body.add_subplot(gs[0, 0]), comparison, names, titles)
     _probability_panel(body.add_subplot(gs[0, 1]), comparison, names)
+    # side by side, each title wraps to its own panel's width (about 40 characters at 7 pt)
+    wrap_at = 70 if len(extra) == 1 else 40
     for k, (kind, block) in enumerate(extra):
         ax = body.add_subplot(gs[1, :] if len(extra) == 1 else gs[1, k])
         if kind == "budget":
-            _budget_panel(ax, block, titles)
+            _budget_panel(ax, block, titles, wrap_at)
         else:
-            _sensitivity_panel(ax, block, titles, comparison.get("symbols") or {})
+            _sensitivity_panel(ax, block, titles, comparison.get("symbols") or {}, wrap_at)
     return fig
