@@ -288,10 +288,28 @@ SUMMARY_FIELDS = (
     _F(f"{_C}.reliability.nested_consistent", "boolean", "", "where a family equals another "
        "of the run at its nested limit (card `nested_1d_limit.equals`) and one of them leads, "
        "the direct ln K agrees with the Savage–Dickey ratio"),
-    _F(f"{_C}.reliability.nested_checks", "mapping[object]", "", "full family -> direct "
-       "ln K (`ln_k_direct`, `ln_k_direct_err`) against Savage–Dickey (`ln_k_savage_dickey`, "
-       "`ln_k_savage_dickey_err`), `difference`, `z`, `checked`, `consistent`, `why_not` "
-       "(nats)"),
+    _F(f"{_C}.reliability.nested_checks", "mapping[object]", "", "full family -> the "
+       "cross-check of its ln K against the family it equals at its nested limit"),
+    _F(f"{_C}.reliability.nested_checks.*.full", "string", "", "the family with the limit"),
+    _F(f"{_C}.reliability.nested_checks.*.nested", "string", "", "the family it equals there"),
+    _F(f"{_C}.reliability.nested_checks.*.ln_k_direct", "number", "nats",
+       "ln Z_nested − ln Z_full from the evidences"),
+    _F(f"{_C}.reliability.nested_checks.*.ln_k_direct_err", "number", "nats", "its error"),
+    _F(f"{_C}.reliability.nested_checks.*.ln_k_savage_dickey", "number|null", "nats",
+       "the same Bayes factor from the full family's posterior at the limit (Dickey 1971)"),
+    _F(f"{_C}.reliability.nested_checks.*.ln_k_savage_dickey_err", "number|null", "nats",
+       "its bootstrap error"),
+    _F(f"{_C}.reliability.nested_checks.*.difference", "number|null", "nats",
+       "direct − Savage–Dickey"),
+    _F(f"{_C}.reliability.nested_checks.*.z", "number|null", "", "difference over the "
+       "combined error"),
+    _F(f"{_C}.reliability.nested_checks.*.checked", "boolean", "", "the comparison was made"),
+    _F(f"{_C}.reliability.nested_checks.*.consistent", "boolean", "", "they agree (true "
+       "when not checked)"),
+    _F(f"{_C}.reliability.nested_checks.*.why_not", "string|null", "", "why it was not "
+       "checked"),
+    _F(f"{_C}.reliability.nested_checks.*.thresholds", "mapping[number]", "", "the "
+       "thresholds applied (standard errors and nats)"),
     _F(f"{_C}.reliability.posterior_notes", "mapping[string]", "", "family -> note on a "
        "losing family's failed posterior"),
     _F(f"{_C}.reliability.thresholds", "mapping[number]", "", "thresholds applied"),

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import copy
+import json
 import math
 
 import pytest
@@ -19,7 +20,7 @@ def test_run_summary_is_valid(summary):
 #: (no fixed parameter, no parameter on a prior bound, no nested limit), and the evidence
 #: budget, which quick runs skip (its fields are checked in test_budget_summary_fields)
 _MAYBE_ABSENT = (".savage_dickey.", ".laplace.", ".fixed_parameters.*.", ".prior_bounds[].",
-                 ".nested_limits[].", "comparison.evidence_budget.")
+                 ".nested_limits[].", "comparison.evidence_budget.", ".nested_checks.*.")
 
 
 def test_every_required_field_appears_in_a_real_summary(summary):
@@ -30,6 +31,22 @@ def test_every_required_field_appears_in_a_real_summary(summary):
             continue
         hits = [1 for _, parent, key in _nodes(summary, f.path) if key in parent]
         assert hits or any(t in f.path for t in _MAYBE_ABSENT), f.path
+
+
+def test_nested_check_summary_fields(summary):
+    """A summary carrying a nested cross-check (coupled chains against the spinon family)
+    validates; an undocumented key in it is refused."""
+    from evidence1d.inference.nested_check import nested_consistency
+    doc = copy.deepcopy(summary)
+    c = nested_consistency("coupled_chains", "spinon_continuum",
+                           {"coupled_chains": -480.5, "spinon_continuum": -467.7},
+                           {"coupled_chains": 0.07, "spinon_continuum": 0.25},
+                           {"ln_bf_nested_vs_full": 8.1, "ln_bf_err": 0.04})
+    doc["comparison"]["reliability"]["nested_checks"] = {"coupled_chains": c}
+    validate_summary(json.loads(json.dumps(doc)))
+    doc["comparison"]["reliability"]["nested_checks"]["coupled_chains"]["extra"] = 1.0
+    with pytest.raises(InputError):
+        validate_summary(json.loads(json.dumps(doc)))
 
 
 def test_budget_summary_fields(summary):
