@@ -1,8 +1,11 @@
 """Parameters whose posterior piles up on a bound of their prior.
 
 For every parameter with a finite prior bound, the posterior mass within ``BOUND_WINDOW``
-(1 %) of the prior width of that bound, plus any mass beyond it, is measured on the
-posterior samples.  The width is measured where the prior is flat: in ln θ for a
+(1 %) of the prior width of that bound — or within half the posterior's own standard
+deviation if that is narrower, so that a posterior far narrower than a very wide prior (the
+data-free default priors of the intensity scales span ten decades) is judged on its own
+scale: 2.9 ± 0.1 is not "within 1 % of the width" of 0 on [0, 3.6 × 10⁹] in any useful sense
+— plus any mass beyond it, is measured on the posterior samples.  The width is measured where the prior is flat: in ln θ for a
 log-uniform prior, in θ otherwise; for a truncated normal it is the truncation interval.
 A posterior that the data do not constrain puts about 1 % of its mass in each window; a
 bound is flagged when the mass exceeds ``BOUND_MASS_MAX`` (5 %, five times that: a
@@ -82,8 +85,10 @@ def bound_flags(names, samples, priors, nested=None) -> list:
             continue
         f = _flat_coordinate(pr)
         flo, fhi = float(f(np.array(lo))), float(f(np.array(hi)))
-        win = BOUND_WINDOW * (fhi - flo)
         v = f(x[:, j])
+        spread = float(np.std(v[np.isfinite(v)])) if np.isfinite(v).any() else 0.0
+        win = min(BOUND_WINDOW * (fhi - flo), 0.5 * spread) if spread > 0 else \
+            BOUND_WINDOW * (fhi - flo)
         for side, edge, near, beyond in (
                 ("lower", lo, v <= flo + win, x[:, j] < lo),
                 ("upper", hi, v >= fhi - win, x[:, j] > hi)):

@@ -60,8 +60,9 @@ def reliability_section(s) -> list:
                     f"ln K was not checked against Savage–Dickey: {c['why_not']}."]
             continue
         sd = c["ln_k_savage_dickey"]
-        sd_txt = "−∞" if sd == float("-inf") else \
-            f"{sd:.2f} ± {fmt(c['ln_k_savage_dickey_err'])}"
+        # −∞ (no posterior mass at the limit) is stored as null in summary.json
+        sd_txt = "−∞ (no posterior mass at the limit)" if sd is None or sd == float("-inf") \
+            else f"{sd:.2f} ± {fmt(c['ln_k_savage_dickey_err'])}"
         out += [f"- Cross-check: ln K of `{c['nested']}` over `{full}` is "
                 f"{c['ln_k_direct']:.2f} ± {fmt(c['ln_k_direct_err'])} nats from the "
                 f"evidences and {sd_txt} from the Savage–Dickey ratio of `{full}`'s "

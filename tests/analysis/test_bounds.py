@@ -56,3 +56,16 @@ def test_mass_beyond_a_bound_and_the_nested_limit(rng):
 def test_unbounded_priors_are_skipped(rng):
     x = rng.normal(0.0, 1.0, size=(1000, 1))
     assert bound_flags(["g"], x, {"g": Normal(0.0, 1.0)}) == []
+
+
+def test_a_narrow_posterior_far_from_the_bound_of_a_very_wide_prior_is_not_flagged(rng):
+    # an intensity scale 2.9 ± 0.1 under a data-free prior on [0, 3.6e9]: the whole posterior
+    # lies within 1 % of the prior width of 0, yet 29 of its own standard deviations away
+    x = rng.normal(2.9, 0.1, size=(20_000, 1))
+    assert bound_flags(["s"], x, {"s": Uniform(0.0, 3.6e9)}) == []
+    # piled against that bound on its own scale (exponential, mean 0.1), it is flagged: the
+    # mass within half a standard deviation of 0 is 1 − e^{−1/2} = 0.39
+    x = rng.exponential(0.1, size=(20_000, 1))
+    f = bound_flags(["s"], x, {"s": Uniform(0.0, 3.6e9)})
+    assert [g["bound"] for g in f] == ["lower"]
+    assert f[0]["mass"] == pytest.approx(1 - math.exp(-0.5), abs=0.02)
