@@ -167,8 +167,8 @@ SUMMARY_FIELDS = (
        "the limit while some posterior draw is below it (a curved or multimodal posterior: "
        "the median is no fit)"),
     _F(f"{_M}.prior_bounds", "array[object]", "", "prior bounds on which the posterior piles "
-       "up: more than 5 % of the posterior within 1 % of the prior width of the bound (or "
-       "beyond it)"),
+       "up: more than 5 % of the posterior within 1 % of the prior width of the bound, or half "
+       "the posterior's standard deviation if narrower (or beyond it)"),
     _F(f"{_M}.prior_bounds[].parameter", "string", "", "the parameter"),
     _F(f"{_M}.prior_bounds[].bound", "string", "", "'lower' or 'upper'"),
     _F(f"{_M}.prior_bounds[].bound_value", "number", "param", "the bound"),
