@@ -52,8 +52,21 @@ def test_posterior_stays_near_one_dimension_on_chain_data(chain_fit):
 def test_savage_dickey_favours_no_interchain_coupling_on_chain_data(chain_fit):
     sd = chain_fit.models["coupled_chains"].savage_dickey
     assert sd["ln_bf_nested_vs_full"] is not None
-    # measured: Savage–Dickey ln BF = 8.1 +- 0.04 for J_⊥ = 0
+    # measured: Savage–Dickey ln BF = 8.30 +- 0.06 for J_⊥ = 0
     assert sd["ln_bf_nested_vs_full"] - 2 * sd["ln_bf_err"] > 0, sd
     lz = {n: (m.evidence.log_z, m.evidence.log_z_err) for n, m in chain_fit.models.items()}
     (a, ea), (b, eb) = lz["spinon_continuum"], lz["coupled_chains"]
     assert a - b > -3 * np.hypot(ea, eb), lz
+
+
+@pytest.mark.slow
+def test_direct_bayes_factor_agrees_with_savage_dickey(chain_fit):
+    """The coupled family at J_⊥ = 0 is the spinon family, so ln Z_spinon − ln Z_coupled and
+    the Savage–Dickey ratio measure one Bayes factor (Dickey 1971).  Measured: 8.23 ± 0.09
+    from the evidences, 8.30 ± 0.06 from Savage–Dickey, 8.25 ± 0.15 from an importance
+    sampler written outside the package; the tempered sequence alone had the coupled
+    family's ln Z 4.5 nats low (J_⊥ piled at 0), which the final importance stage removes."""
+    c = chain_fit.comparison.reliability["nested_checks"]["coupled_chains"]
+    assert c["nested"] == "spinon_continuum" and c["checked"], c
+    assert c["consistent"], c
+    assert abs(c["difference"]) < 1.0, c
