@@ -22,9 +22,12 @@ from .schema import (Field, Spec, as_any, as_bool, as_float_list, as_int, as_map
 __all__ = ["Sample", "ModelChoice", "Case", "load_case"]
 
 
-_LATTICE = Spec({"a": Field(as_positive_float, required=True, help="Å"),
-                 "b": Field(as_positive_float, required=True, help="Å"),
-                 "c": Field(as_positive_float, required=True, help="Å"),
+# lengths of real crystals lie well inside 0.5–1000 Å (common practice); outside it the
+# reciprocal lattice under- or overflows in double precision
+_LENGTH = real(0.5, 1000.0, note="Å, a crystal's length")
+_LATTICE = Spec({"a": Field(_LENGTH, required=True, help="Å"),
+                 "b": Field(_LENGTH, required=True, help="Å"),
+                 "c": Field(_LENGTH, required=True, help="Å"),
                  "alpha": Field(as_positive_float, default=90.0, help="degrees, b to c"),
                  "beta": Field(as_positive_float, default=90.0, help="degrees, a to c"),
                  "gamma": Field(as_positive_float, default=90.0, help="degrees, a to b")},
@@ -36,8 +39,7 @@ _SAMPLE = Spec({
     "charge": Field(as_int, required=True, help="ionic charge, e.g. 2 for Cu2+"),
     "spin": Field(as_positive_float, default=0.5, help="spin quantum number S"),
     "g": Field(as_mapping, default=None, help="prior of the g factor {kind: normal, ...}"),
-    "spin_spacing": Field(as_positive_float, required=True,
-                          help="spin spacing d along the chain in Å"),
+    "spin_spacing": Field(_LENGTH, required=True, help="spin spacing d along the chain in Å"),
     "lattice": Field(as_any, required=True, help="{a, b, c} in Å, {alpha, beta, gamma} in °"),
     "chain": Field(as_any, default="c", help="chain direction: a crystal axis (a, b, c) or a "
                                            "real-space vector [u, v, w]"),

@@ -139,7 +139,7 @@ def _mutations():
         ("negative dataset temperature", case_edit("temperature: 2.0", "temperature: -2.0"),
          "case.yaml:", ["datasets[0].temperature", "> 0"]),
         ("zero spin spacing", case_edit("spin_spacing: 3.0", "spin_spacing: 0"),
-         "case.yaml:", ["sample.spin_spacing", "> 0"]),
+         "case.yaml:", ["sample.spin_spacing", "0.5"]),
         ("lattice missing c", case_edit("{a: 7.0, b: 7.5, c: 6.0}", "{a: 7.0, b: 7.5}"),
          "case.yaml:", ["missing required key 'c'", "sample.lattice"]),
         ("lattice not a mapping", case_edit("{a: 7.0, b: 7.5, c: 6.0}", "7.0"),
