@@ -181,7 +181,7 @@ def verdict_reliability(cmp_: Comparison, island_log_z: dict, posterior_ok: dict
     """Whether the verdict can be trusted, separately from each family's posterior.
 
     The verdict (which family wins, how strongly, and P(1D)) rests on the evidences, which
-    come from the tempered sequence, and on the winner's posterior (its parameters and
+    come from the evidence stage (tempered sequence, then importance draws), and on the winner's posterior (its parameters and
     nested-limit ratio are quoted with it).  It is reliable when
 
     1. every ln Z has a finite error;
@@ -294,7 +294,8 @@ def verdict_reliability(cmp_: Comparison, island_log_z: dict, posterior_ok: dict
         first = (warn.get(n) or ["see the diagnostics"])[0]
         notes[n] = (f"the emcee posterior of {n} failed the convergence diagnostics "
                     f"({first}): its parameter table is not to be quoted. Its ln Z comes "
-                    "from the tempered sequence, not from this chain, so it does not make "
+                    "from the evidence stage (tempered sequence and importance draws), not "
+                    "from this chain, so it does not make "
                     f"the verdict unreliable ({n} lies ln K = {gap:.2f} ± {gerr:.2f} nats "
                     f"behind {best}).")
     return {"verdict_reliable": not reasons, "reasons": reasons, "winner": best,

@@ -54,6 +54,8 @@ METHOD_REFERENCES = {
     "kde": "L. Breiman, W. Meisel and E. Purcell, Technometrics 19, 135 (1977); G. R. Terrell "
            "and D. W. Scott, Ann. Statist. 20, 1236 (1992).",
     "ppc": "A. Gelman, X.-L. Meng and H. Stern, Statistica Sinica 6, 733 (1996).",
+    "defensive": "T. Hesterberg, \"Weighted average importance sampling and defensive "
+                 "mixture distributions\", Technometrics 37, 185 (1995).",
 }
 
 #: posterior-to-prior 68 % width ratios: below the first "constrained", below the second
@@ -278,6 +280,8 @@ def _methods(s, ctx) -> tuple:
         keys.append("goodman")                            # autocorrelation time
     if smc:
         keys += ["smc", "adaptive", "independent", "resampling"]
+        if any(m["sampler"].get("evidence_importance_draws", 0) for m in models.values()):
+            keys.append("defensive")
     if any("stepping" in t for t in methods):
         keys.append("stepping")
     keys += ["rhat", "arviz", "kass", "ppc"]
@@ -335,8 +339,24 @@ def _methods(s, ctx) -> tuple:
                          f"independent-proposal and random-walk moves {cite('independent')} "
                          f"({lo}–{hi} sweeps per temperature) and systematic resampling "
                          f"{cite('resampling')}, with {n} particles in each of {r} "
-                         "independent islands; ln Z is the log of the mean island evidence "
-                         "and its error the standard error across islands. ")
+                         "independent islands. ")
+            imp = {f: s["models"][f]["sampler"].get("evidence_importance_islands", 0)
+                   for f in fams}
+            draws = max(s["models"][f]["sampler"].get("evidence_importance_draws", 0)
+                        for f in fams)
+            if draws:
+                counts = ", ".join(f"{f} {k} of {r}" for f, k in imp.items())
+                parts.append(f"Each island then drew {draws} points from a defensive "
+                             f"mixture fitted to its final population {cite('defensive')} "
+                             "(half a Student t with ν = 5 and 1.5 times the population's "
+                             "covariance, half Gaussian kernels on the particles, 10 % of the "
+                             "prior) and quotes that importance estimate of its evidence when "
+                             "the weights' effective sample size reaches 5 % of the draws, "
+                             f"else its tempered estimate (importance estimate quoted on "
+                             f"{counts} islands). ")
+            parts.append("ln Z is the log of the mean island evidence and its error the "
+                         "standard error across islands, floored by the importance weights' "
+                         "own error. ")
     else:
         parts.append("Evidences ln Z were computed by: " + "; ".join(sorted(methods)) + ". ")
     th = next(iter(models.values()))["diagnostics"]["thresholds"]
@@ -362,9 +382,11 @@ def _methods(s, ctx) -> tuple:
                  f"it claims more than a bare mention (ln K + {rt['ln_k_sigmas']:g}σ ≥ "
                  f"{rt['ln_k_claim']:g} nat), more than {rt['island_majority']:.0%} of the "
                  "paired islands rank the two leading families alike, their tempered "
-                 "sequences reach the posterior without the temperature cap, and the winner's "
-                 "posterior passes the thresholds above; a losing family's posterior is "
-                 "judged on its own. Goodness of fit is the χ² at the posterior median and "
+                 "sequences reach the posterior without the temperature cap, the direct ln K "
+                 "of a family and its nested one-dimensional limit (where the limit is "
+                 "another family of the run) agrees with their Savage–Dickey ratio, and "
+                 "the winner's posterior passes the thresholds above; a losing family's "
+                 "posterior is judged on its own. Goodness of fit is the χ² at the posterior median and "
                  f"the posterior-predictive p-value of the χ² discrepancy {cite('ppc')}. ")
     if has_lap:
         parts.append(f"A Laplace approximation of ln Z {cite('laplace')} is shown as an "

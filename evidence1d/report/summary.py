@@ -81,7 +81,13 @@ def _sampler_block(rec, ev) -> dict:
             "evidence_islands": int(st.get("n_islands", 0)),
             "evidence_target_cess": float(st.get("target_cess", math.nan)),
             "evidence_min_sweeps": int(st.get("min_sweeps", 0)),
-            "evidence_max_sweeps": int(st.get("max_sweeps", 0))}
+            "evidence_max_sweeps": int(st.get("max_sweeps", 0)),
+            "evidence_importance_islands": sum(
+                1 for isl in ev.islands
+                if (getattr(isl, "importance", None) or {}).get("used")),
+            "evidence_importance_draws": max(
+                [int((getattr(isl, "importance", None) or {}).get("n_draws", 0))
+                 for isl in ev.islands] or [0])}
 
 
 def build_summary(results) -> dict:

@@ -213,6 +213,10 @@ SUMMARY_FIELDS = (
        "temperature"),
     _F(f"{_M}.sampler.evidence_max_sweeps", "integer", "", "most move sweeps per "
        "temperature"),
+    _F(f"{_M}.sampler.evidence_importance_islands", "integer", "", "islands whose ln Z is "
+       "the final importance estimate (the others quote their tempered estimate)"),
+    _F(f"{_M}.sampler.evidence_importance_draws", "integer", "", "draws of the final "
+       "importance stage per island (0: not run)"),
     _F(_C, "object", "", "comparison of the families"),
     _F(f"{_C}.best", "string", "", "family with the largest ln Z"),
     _F(f"{_C}.strength", "string", "", "Kass–Raftery wording of 2 ln K, best against "

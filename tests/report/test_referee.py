@@ -94,6 +94,14 @@ def test_methods_text_follows_what_ran(summary, context):
         assert f"{share:.0%}" in _methods(base)
     assert f"{s0['evidence_particles']} particles in each of {s0['evidence_islands']}" \
         in _methods(base)
+    # the final importance stage is described with what it did on each family
+    assert s0["evidence_importance_draws"] > 0
+    assert f"drew {s0['evidence_importance_draws']} points from a defensive" in _methods(base)
+    for n, m in summary["models"].items():
+        k = m["sampler"]["evidence_importance_islands"]
+        assert 0 <= k <= m["sampler"]["evidence_islands"]
+        assert f"{n} {k} of {m['sampler']['evidence_islands']}" in _methods(base)
+    assert "Hesterberg" in base.split("## Methods", 1)[1]
     doc = copy.deepcopy(summary)
     for m in doc["models"].values():
         m["sampler"]["moves"] = [{"move": "differential_evolution", "share": 0.6},
@@ -109,6 +117,10 @@ def test_methods_text_follows_what_ran(summary, context):
     assert "60% differential-evolution moves" in text and "20% stretch moves" in text
     assert "every nuisance was sampled" in text and "integrated out" not in text
     assert "123 particles in each of 5 independent islands" in text
+    for m in doc["models"].values():
+        m["sampler"]["evidence_importance_draws"] = 0
+    text0 = render_markdown(doc, context)
+    assert "defensive" not in _methods(text0) and "Hesterberg" not in text0
     assert "34 walkers" in text and "R-hat below 1.2" in text
     full = render_markdown(doc, context)
     refs = full.split("## Methods", 1)[1].split("## For a referee", 1)[0]
