@@ -19,7 +19,18 @@ particles drawn from the prior is moved through them:
    scaled by a step adapted towards 25 % acceptance (Roberts, Gelman & Gilks 1997).  The
    number of sweeps per temperature is chosen so that a fraction ``moved`` of particles is
    expected to have moved at least once, ⌈ln(1 − moved)/ln(1 − acceptance)⌉ (Drovandi &
-   Pettitt 2011, from memory), within [``min_sweeps``, ``max_sweeps``].
+   Pettitt 2011, from memory), within [``min_sweeps``, ``max_sweeps``] (default [3, 20]).
+4. After β = 1, a final importance stage (:mod:`evidence1d.inference.importance`) gives an
+   estimate of Z that does not rely on the moves having equilibrated the population.
+
+Why at least 3 sweeps and not more: with the final importance stage the moves only have to
+carry the population to the posterior, not equilibrate it for an unbiased tempered estimate.
+Measured (2026-12-03, 8 islands × 200 particles, flagship case study, spinon family):
+``min_sweeps`` = 5 gave ln Z = −1523.375 ± 0.015 with 160 000 likelihood evaluations, 2 gave
+−1523.375 ± 0.014 with 107 000, the importance ESS 43–51 % of its draws in both.  On the
+hard case of a coupled-chain posterior piled against J_⊥ = 0 (4 × 150 particles) the
+``moved`` rule already asks for 6–7 sweeps per temperature, and 2 left one island of four
+with an importance ESS of 1 % (a fallback to its tempered estimate); 3 keeps a margin there.
 
 Parameters are moved in a working space where log-uniform parameters are replaced by their
 logarithm (the Jacobian is included), so scale parameters spanning decades mix well.
@@ -334,7 +345,7 @@ def _run_island(call, prior, rng, n, rho, moved, min_sweeps, max_sweeps, max_tem
 
 
 def run_island(log_likelihood, prior, seed, *, n_particles=200, target_cess=0.5, moved=0.9,
-               min_sweeps=5, max_sweeps=20, max_temperatures=500, bar=None,
+               min_sweeps=3, max_sweeps=20, max_temperatures=500, bar=None,
                importance_draws=None):
     """One tempered population from the prior (β = 0) to the posterior (β = 1), then a
     final importance estimate of Z from a proposal fitted to it
