@@ -60,7 +60,15 @@ def _ticks(ax, axis, lim):
             d = next((d for d in range(10) if abs(round(t, d) - t) <= 1e-9 * max(1.0, abs(t))),
                      10)
             return len(f"{t:.{d}f}")
-        if max(width(t) for t in inner) >= 6:
+        # room between neighbouring ticks on the page, in points, against the widest label
+        # (6-pt digits are about 0.6 em wide; x labels lie side by side, y labels are short
+        # rows, so only x needs the check)
+        box = ax.get_position()
+        span = (box.width * ax.figure.get_figwidth() if axis == "x"
+                else box.height * ax.figure.get_figheight()) * 72.0
+        gap = span * (inner[1] - inner[0]) / max(hi - lo, 1e-300)
+        label = max(width(t) for t in inner) * 0.6 * 6.0
+        if max(width(t) for t in inner) >= 6 or (axis == "x" and gap < 1.5 * label):
             inner = [inner[0], inner[-1]]
     fmt = ScalarFormatter(useOffset=False)
     fmt.set_scientific(False)
