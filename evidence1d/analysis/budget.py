@@ -105,8 +105,9 @@ def subset_island(problem, labels, seed, **options) -> tuple:
 
     Returns
     -------
-    (float, str or None)
-        ln Ẑ of the island (nats) and the sampler's warning, if any.
+    (float, str or None, float)
+        ln Ẑ of the island (nats), the sampler's warning, if any, and the relative error of
+        its final importance estimate (0 when the island quotes its tempered estimate).
 
     References
     ----------
@@ -114,17 +115,21 @@ def subset_island(problem, labels, seed, **options) -> tuple:
     """
     from ..inference.evidence import run_island
     run, warn = run_island(SubsetLikelihood(problem, labels), problem.prior, seed, **options)
-    return float(run.log_z), warn
+    imp = run.importance or {}
+    return float(run.log_z), warn, float(imp["log_z_err"]) if imp.get("used") else 0.0
 
 
-def combine_subset(values) -> tuple:
+def combine_subset(values, floors=None) -> tuple:
     """ln Z of a subset from its islands: log-mean-exp and the standard error s/√R, times
-    √((R − 1)/(R − 3)) for R ≥ 4 (as :func:`~evidence1d.inference.evidence.combine_islands`).
+    √((R − 1)/(R − 3)) for R ≥ 4, floored by the importance weights' own error
+    √(Σ e_r²)/R (as :func:`~evidence1d.inference.evidence.combine_islands`).
 
     Parameters
     ----------
     values : sequence of float
         ln Ẑ of each island.
+    floors : sequence of float, optional
+        Relative error of each island's final importance estimate (0: none).
 
     Returns
     -------
@@ -137,6 +142,8 @@ def combine_subset(values) -> tuple:
     err = float(np.std(v, ddof=1) / math.sqrt(r)) if r > 1 else math.inf
     if r >= 4:
         err *= math.sqrt((r - 1.0) / (r - 3.0))
+    if floors is not None:
+        err = max(err, float(math.sqrt(float(np.sum(np.square(floors)))) / r))
     return mean, err
 
 

@@ -70,6 +70,17 @@ def budget(families):
                            {"n_particles": 150, "n_islands": 5})
 
 
+def test_subset_error_is_floored_by_the_importance_weights():
+    # four islands that agree by chance to 1e-4 nat cannot claim less than their importance
+    # weights allow: √(Σ e_r²)/R (the rule of evidence1d.inference.evidence.combine_islands)
+    values = [-10.0, -10.0001, -9.9999, -10.0]
+    mean, err = combine_subset(values)
+    assert mean == pytest.approx(-10.0, abs=1e-4) and err < 1e-3
+    _, floored = combine_subset(values, [0.05, 0.04, 0.06, 0.05])
+    assert floored == pytest.approx(np.sqrt(0.05**2 + 0.04**2 + 0.06**2 + 0.05**2) / 4)
+    assert combine_subset(values, [0.0] * 4)[1] == err
+
+
 def test_subsets_of_the_budget():
     assert budget_subsets(["A", "B", "C"]) == [("A",), ("A", "B"), ("B", "C"), ("A", "C")]
     assert budget_subsets(["A", "B"]) == [("A",), ("B",)]
