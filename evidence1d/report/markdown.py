@@ -398,8 +398,10 @@ def _methods(s, ctx) -> tuple:
     if has_loo:
         parts.append(f"Predictive accuracy was checked by PSIS-LOO {cite('loo')}. ")
     if has_budget:
+        nb = s["comparison"]["evidence_budget"].get("n_islands")
         parts.append(f"The evidence budget takes differences of the evidences of subsets "
-                     f"of the data, each by the same tempered sequence {cite('smc')}. ")
+                     f"of the data, each by the same tempered sequence {cite('smc')}"
+                     + (f" in {nb} islands per subset" if nb else "") + ". ")
     parts.append(f"Dataset sensitivities use the Fisher information of Gaussian data "
                  f"{cite('fisher')}.")
     refs = [f"{ref[k]}. {METHOD_REFERENCES[k]}" for k in keys]
