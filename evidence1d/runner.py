@@ -285,7 +285,8 @@ def _nested_checks(case, results) -> dict:
 
 def run(case, *, seed: int | None = None, quick: bool = False, models=None,
         progress: bool = True, workers: int | None = None, budget: bool | None = None,
-        figures: bool = True, store=None, executor=None) -> RunResults:
+        prior_reruns: bool | None = None, figures: bool = True, store=None,
+        executor=None) -> RunResults:
     """Compare the model families of a case: computation only.
 
     No file is written unless a ``store`` is given (the command line passes a
@@ -314,6 +315,12 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
         subsets of the data: about 2 K − 2 extra evidence runs per family for K likelihood
         terms, most of them on fewer data; see :mod:`evidence1d.analysis.budget`).
         Default: yes, except with ``quick``.
+    prior_reruns : bool, optional
+        In the prior-sensitivity table, compute afresh (tempered runs in at most
+        :data:`~evidence1d.analysis.stage.BUDGET_ISLANDS` islands) the evidences that
+        reweighting cannot give (a widened prior whose bound the posterior touches); without
+        them such rows say "needs a re-run".  Default: as ``budget`` (both are extra
+        evidence runs of the analysis: yes, except with ``quick``).
     figures : bool
         Compute the figure data (predictive bands, cuts, maps, corner samples) so that the
         report can draw the figures.
@@ -341,7 +348,7 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
     InputError
         An unknown model, or bad sampler settings.
     """
-    from .analysis.stage import run_budget, run_sensitivity
+    from .analysis.stage import run_budget, run_sensitivity, sensitivity_reruns
     from .inference.compare import compare_models, verdict_reliability, with_reliability
     from .inference.nested_limits import with_nested_limits
     from .provenance import provenance
@@ -414,7 +421,20 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
                 + ", ".join(f"{r['dataset']} {r['ln_k_without']:.2f}"
                             for r in budget_doc["leave_one_out"])
                 + f" against {budget_doc['ln_k']:.2f} ({time.time() - t_b:.1f} s)")
-    sensitivity = run_sensitivity(case, results)
+    reruns = None
+    if prior_reruns is None:
+        prior_reruns = budget
+    if prior_reruns:
+        t_s = time.time()
+        try:
+            reruns = sensitivity_reruns(case, results, settings, _evidence_options(settings),
+                                        seed, progress, workers)
+        except (InputError, ValueError, FloatingPointError, np.linalg.LinAlgError) as exc:
+            log(f"prior-sensitivity re-runs not computed: {exc}")
+        if reruns:
+            log(f"prior sensitivity: {len(reruns)} evidences re-run under changed priors "
+                f"({time.time() - t_s:.1f} s)")
+    sensitivity = run_sensitivity(case, results, reruns)
     prov = provenance(case, seed=seed, start=t0, run_time=time.time() - t0, settings=settings)
     res = RunResults(models=results, comparison=comparison, reliable=reliable, seed=seed,
                      settings=settings, provenance=prov, budget=budget_doc,

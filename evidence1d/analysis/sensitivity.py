@@ -18,8 +18,10 @@ Widening a prior adds a region the samples never visited: reweighting is valid o
 likelihood there is negligible, which is taken to hold when less than ``EDGE_MASS_MAX`` of
 the posterior lies within ``EDGE_WINDOW`` of the prior width of every bound that moves out
 (for a normal prior: when the posterior is at most ``NARROW_MAX`` times the prior's
-width, i.e. the data dominate).  Where these fail the row says that a re-run with the
-changed prior is needed, and gives no number.
+width, i.e. the data dominate).  Where these fail, the family's ln Z under the changed prior
+comes from a new tempered run (:func:`evidence1d.analysis.stage.sensitivity_reruns`; a full
+run, not a --quick one), and the row says so; without it the row says that a re-run is
+needed and gives no number.
 
 Changed widths
 --------------
@@ -42,7 +44,8 @@ import math
 
 import numpy as np
 
-__all__ = ["prior_variants", "reweighted_log_z", "prior_sensitivity", "ESS_MIN",
+__all__ = ["prior_variants", "reweighted_log_z", "prior_sensitivity", "rerun_requests",
+           "ESS_MIN",
            "EDGE_WINDOW", "EDGE_MASS_MAX", "NARROW_MAX"]
 
 #: smallest effective sample size of the ratios, as a fraction of the samples
@@ -174,7 +177,54 @@ def reweighted_log_z(x, old, new, widens: bool, moved=()) -> dict:
     return out
 
 
-def prior_sensitivity(models: dict, prior_odds=None) -> dict:
+def _variant_rows(models: dict):
+    """Every changed prior of every physical parameter, with the reweighting of each family
+    that owns it: yields (parameter, change, owners, {family: (new prior, reweighting)})."""
+    names = list(models)
+    params = []
+    for n in names:
+        params += [p for p in models[n]["priors"] if p not in params]
+    for p in params:
+        owners = [n for n in names if p in models[n]["priors"]]
+        ref = models[owners[0]]["priors"][p]
+        for label, new, widens, moved in prior_variants(ref):
+            per = {}
+            for n in owners:
+                m = models[n]
+                old = m["priors"][p]
+                if old != ref:                           # a family with its own prior
+                    variants = {v[0]: v for v in prior_variants(old)}
+                    if label not in variants:
+                        continue
+                    _, new_n, widens_n, moved_n = variants[label]
+                else:
+                    new_n, widens_n, moved_n = new, widens, moved
+                x = np.asarray(m["samples"])[:, list(m["names"]).index(p)]
+                per[n] = (new_n, reweighted_log_z(x, old, new_n, widens_n, moved_n))
+            yield p, label, owners, per
+
+
+def rerun_requests(models: dict) -> list:
+    """The evidences that reweighting cannot give: (parameter, change, family, new prior).
+
+    Parameters
+    ----------
+    models : dict
+        As in :func:`prior_sensitivity`.
+
+    Returns
+    -------
+    list of tuple
+        One entry per family whose ln Z under the changed prior must come from a new
+        tempered run (:func:`evidence1d.analysis.stage.sensitivity_reruns`).
+    """
+    out = []
+    for p, label, _, per in _variant_rows(models):
+        out += [(p, label, n, new) for n, (new, rw) in per.items() if not rw["valid"]]
+    return out
+
+
+def prior_sensitivity(models: dict, prior_odds=None, reruns=None) -> dict:
     """ln K of the two leading families and P(1D) under every changed physical prior.
 
     A parameter that several families share (by name) is changed in all of them at once,
@@ -188,14 +238,19 @@ def prior_sensitivity(models: dict, prior_odds=None) -> dict:
         physical parameters that are sampled)}.
     prior_odds : dict, optional
         As in :func:`~evidence1d.inference.compare.compare_models`.
+    reruns : dict, optional
+        ``(parameter, change, family) -> (ln Z, error)`` from new tempered runs under the
+        changed prior, for the entries of :func:`rerun_requests`.
 
     Returns
     -------
     dict
         ``families`` (winner, runner-up of the baseline), ``ln_k``, ``p_one_dimensional``
         (baseline), ``rows`` (per parameter and change: ``parameter``, ``change``,
-        ``families``, ``method`` ("reweighting" or "needs a re-run"), ``ln_k``,
-        ``ln_k_err``, ``p_one_dimensional``, ``note``) and ``method``.
+        ``families``, ``method`` ("reweighting", "re-run" when every changed evidence
+        needed a new run, "re-run and reweighting", or "needs a re-run" when a needed run is
+        missing), ``rerun_families``, ``ln_k``, ``ln_k_err``, ``p_one_dimensional``,
+        ``note``) and ``method``.
 
     References
     ----------
@@ -203,50 +258,43 @@ def prior_sensitivity(models: dict, prior_odds=None) -> dict:
     """
     from ..inference.compare import compare_models
     names = list(models)
+    reruns = reruns or {}
     base = {n: (models[n]["log_z"], models[n]["log_z_err"], models[n]["one_dimensional"])
             for n in names}
     cmp0 = compare_models(base, prior_odds=prior_odds)
     order = sorted(names, key=lambda n: -models[n]["log_z"])
     a, b = order[0], order[1]
-    params = []
-    for n in names:
-        params += [p for p in models[n]["priors"] if p not in params]
     rows = []
-    for p in params:
-        owners = [n for n in names if p in models[n]["priors"]]
-        ref = models[owners[0]]["priors"][p]
-        for label, new, widens, moved in prior_variants(ref):
-            new_lz, notes, ok = dict(base), [], True
-            for n in owners:
-                m = models[n]
-                old = m["priors"][p]
-                if old != ref:                           # a family with its own prior
-                    variants = {v[0]: v for v in prior_variants(old)}
-                    if label not in variants:
-                        continue
-                    _, new_n, widens_n, moved_n = variants[label]
-                else:
-                    new_n, widens_n, moved_n = new, widens, moved
-                x = np.asarray(m["samples"])[:, list(m["names"]).index(p)]
-                rw = reweighted_log_z(x, old, new_n, widens_n, moved_n)
-                if not rw["valid"]:
-                    ok = False
-                    notes.append(f"{n}: {rw['why']}")
-                    continue
-                lz, err, one_d = base[n]
+    for p, label, owners, per in _variant_rows(models):
+        new_lz, notes, missing, rerun = dict(base), [], False, []
+        for n, (_, rw) in per.items():
+            lz, err, one_d = base[n]
+            if rw["valid"]:
                 new_lz[n] = (lz + rw["delta_ln_z"], math.hypot(err, rw["err"] or 0.0), one_d)
-            row = {"parameter": p, "change": label, "families": owners,
-                   "method": "reweighting" if ok else "needs a re-run",
-                   "ln_k": None, "ln_k_err": None, "p_one_dimensional": None,
-                   "note": "; ".join(notes) + (" (not re-run here)" if notes else "")}
-            if ok:
-                c = compare_models(new_lz, prior_odds=prior_odds)
-                row.update(ln_k=c.log_z[a] - c.log_z[b],
-                           ln_k_err=math.hypot(c.log_z_err[a], c.log_z_err[b]),
-                           p_one_dimensional=c.p_one_dimensional)
-            rows.append(row)
+            elif (p, label, n) in reruns:
+                z, e = reruns[(p, label, n)]
+                new_lz[n] = (float(z), float(e), one_d)
+                rerun.append(n)
+                notes.append(f"{n}: re-run ({rw['why']})")
+            else:
+                missing = True
+                notes.append(f"{n}: {rw['why']} (not re-run here)")
+        reweighted = len(rerun) < len(per)
+        method = ("needs a re-run" if missing else "re-run and reweighting"
+                  if rerun and reweighted else "re-run" if rerun else "reweighting")
+        row = {"parameter": p, "change": label, "families": owners, "method": method,
+               "rerun_families": rerun, "ln_k": None, "ln_k_err": None,
+               "p_one_dimensional": None, "note": "; ".join(notes)}
+        if not missing:
+            c = compare_models(new_lz, prior_odds=prior_odds)
+            row.update(ln_k=c.log_z[a] - c.log_z[b],
+                       ln_k_err=math.hypot(c.log_z_err[a], c.log_z_err[b]),
+                       p_one_dimensional=c.p_one_dimensional)
+        rows.append(row)
     return {"families": [a, b], "ln_k": models[a]["log_z"] - models[b]["log_z"],
             "p_one_dimensional": float(cmp0.p_one_dimensional), "rows": rows,
             "method": ("importance reweighting of the final tempered populations by the "
                        "ratio of the changed to the declared prior (Kass & Raftery 1995, "
-                       "§4.3); rows marked 'needs a re-run' could not be reweighted")}
+                       "§4.3) where valid; where not, a new tempered run of that family "
+                       "under the changed prior (rows marked 're-run'); rows marked 'needs "
+                       "a re-run' could not be reweighted and were not re-run")}

@@ -1,6 +1,7 @@
 """The analysis stage of a run that needs the case: the evidence budget (tempered evidences
 of data subsets, spread over a process pool like the evidence islands) and the prior
-sensitivity (reweighting of the stored tempered populations).
+sensitivity (reweighting of the stored tempered populations, and new tempered runs under
+the changed priors that reweighting cannot give).
 
 References
 ----------
@@ -11,11 +12,14 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["BUDGET_KEY", "BUDGET_ISLANDS", "budget_labels", "run_budget", "run_sensitivity"]
+__all__ = ["BUDGET_KEY", "BUDGET_ISLANDS", "SENSITIVITY_KEY", "budget_labels", "run_budget",
+           "run_sensitivity", "sensitivity_reruns"]
 
 #: spawn key of the evidence budget's random stream: a child of the run seed that no
 #: family uses (``evidence1d.runner._model_seeds`` spawns children 0 … n − 1)
 BUDGET_KEY = 2 ** 20
+#: spawn key of the prior-sensitivity re-runs' random stream (another unused child)
+SENSITIVITY_KEY = 2 ** 20 + 1
 
 #: most islands of each subset's evidence in the budget.  Each island ends with the final
 #: importance estimate, whose spread on the flagship case study is about 0.04 nat per island
@@ -33,20 +37,8 @@ def budget_labels(case, problem) -> list:
                                                            for d in lab.split("+")))
 
 
-def run_sensitivity(case, results) -> dict:
-    """Prior sensitivity of a run from the final tempered populations (no likelihood calls).
-
-    Parameters
-    ----------
-    case : Case
-    results : dict of str to ModelResult
-
-    Returns
-    -------
-    dict
-        :func:`~evidence1d.analysis.sensitivity.prior_sensitivity` of the run.
-    """
-    from .sensitivity import prior_sensitivity
+def _sensitivity_models(case, results) -> dict:
+    """The input of :func:`~evidence1d.analysis.sensitivity.prior_sensitivity`."""
     models = {}
     for n, r in results.items():
         pb = case.problem(n)
@@ -55,7 +47,93 @@ def run_sensitivity(case, results) -> dict:
         models[n] = {"log_z": r.evidence.log_z, "log_z_err": r.evidence.log_z_err,
                      "one_dimensional": r.one_dimensional, "names": list(r.evidence.names),
                      "samples": r.evidence.posterior_samples, "priors": priors}
-    return prior_sensitivity(models, prior_odds=case.prior_odds)
+    return models
+
+
+def run_sensitivity(case, results, reruns=None) -> dict:
+    """Prior sensitivity of a run from the final tempered populations, with the evidences of
+    :func:`sensitivity_reruns` where reweighting is not valid.
+
+    Parameters
+    ----------
+    case : Case
+    results : dict of str to ModelResult
+    reruns : dict, optional
+        ``(parameter, change, family) -> (ln Z, error)`` (:func:`sensitivity_reruns`).
+
+    Returns
+    -------
+    dict
+        :func:`~evidence1d.analysis.sensitivity.prior_sensitivity` of the run.
+    """
+    from .sensitivity import prior_sensitivity
+    return prior_sensitivity(_sensitivity_models(case, results), prior_odds=case.prior_odds,
+                             reruns=reruns)
+
+
+def _rerun_job(problem, seed, options):
+    """One island of a family's evidence under a changed prior: a pool job."""
+    from ..inference.evidence import run_island
+    run, warn = run_island(problem.log_likelihood, problem.prior, seed, **options)
+    imp = run.importance or {}
+    return float(run.log_z), warn, float(imp["log_z_err"]) if imp.get("used") else 0.0
+
+
+def sensitivity_reruns(case, results, settings, options, seed, progress, workers) -> dict:
+    """New tempered evidences for the prior changes that reweighting cannot give.
+
+    A widened prior whose bound the posterior touches (or a normal prior that the data do
+    not dominate) reaches likelihood the final populations never saw; the family's ln Z
+    under that prior is then computed afresh, as the quoted ln Z is, in
+    ``min(islands, BUDGET_ISLANDS)`` islands.
+
+    Parameters
+    ----------
+    case : Case
+    results : dict of str to ModelResult
+    settings : dict
+        The run's sampler settings (``islands``).
+    options : dict
+        Keyword arguments of :func:`~evidence1d.inference.evidence.run_island`.
+    seed : int
+        The run's seed; the stream is the child ``SENSITIVITY_KEY`` of it.
+    progress : bool
+    workers : int or None
+
+    Returns
+    -------
+    dict
+        ``(parameter, change, family) -> (ln Z, error)`` in nats.
+
+    References
+    ----------
+    .. [1] R. E. Kass and A. E. Raftery, J. Am. Stat. Assoc. 90, 773 (1995), §5.
+    """
+    from ..inference.progress import stage_bar
+    from ..parallel import run_in_pool, worker_count
+    from .budget import combine_subset
+    from .sensitivity import rerun_requests
+    requests = rerun_requests(_sensitivity_models(case, results))
+    if not requests:
+        return {}
+    n_islands = min(int(settings["islands"]), BUDGET_ISLANDS)
+    root = np.random.SeedSequence(seed, spawn_key=(SENSITIVITY_KEY,))
+    jobs, keys = [], []
+    for (p, label, fam, prior), seq in zip(requests, root.spawn(len(requests))):
+        problem = case.replace(priors={fam: {p: prior}}).problem(fam)
+        for isl in seq.spawn(n_islands):
+            jobs.append((problem, isl, options))
+            keys.append((p, label, fam))
+    bar = stage_bar(len(jobs), progress, "prior sensitivity", unit="island")
+    try:
+        done = run_in_pool(_rerun_job, jobs, worker_count(workers, len(jobs)),
+                           on_result=lambda _: bar.update(1))
+    finally:
+        bar.close()
+    runs = {}
+    for key, (lz, _, floor) in zip(keys, done):
+        runs.setdefault(key, []).append((lz, floor))
+    return {k: combine_subset([x for x, _ in v], [f for _, f in v]) for k, v in runs.items()}
 
 
 def _subset_job(case, name, labels, seed, options):

@@ -110,9 +110,16 @@ def importance_evidence(call, prior, space, z_population, rng, n_draws, *, nu=No
     sd = np.maximum(sd, 1e-12 * (np.abs(z_pop).max(axis=0) + 1.0))
     corr = 0.999 * cov / np.outer(sd, sd) + 0.001 * np.eye(m)    # positive definite
     shape = o["inflate"] ** 2 * np.outer(sd, sd) * corr
-    t = stats.multivariate_t(loc=mean, shape=shape, df=o["nu"])
     h = (4.0 / (m + 2.0)) ** (1.0 / (m + 4.0)) * n ** (-1.0 / (m + 4.0))
-    kde_draw, kde_logpdf = _kernel_mixture(z_pop, np.linalg.cholesky(np.outer(sd, sd) * corr), h)
+    try:
+        t = stats.multivariate_t(loc=mean, shape=shape, df=o["nu"])
+        kde_draw, kde_logpdf = _kernel_mixture(z_pop, np.linalg.cholesky(np.outer(sd, sd) * corr),
+                                               h)
+    except (ValueError, np.linalg.LinAlgError):
+        # a population collapsed in some direction (a few particles, all equal in one
+        # coordinate): no proposal can be fitted, and the island keeps its tempered estimate
+        return {"log_z": -math.inf, "log_z_err": math.inf, "ess": 0.0,
+                "n_draws": int(n_draws), "n_evaluations": 0}
     n_draws = int(n_draws)
     k_prior = int(rng.binomial(n_draws, o["defensive"]))
     k_t = int(rng.binomial(n_draws - k_prior, o["t_share"]))

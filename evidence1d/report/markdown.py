@@ -437,9 +437,10 @@ def _referee(s, ctx, smc) -> list:
             + ("by adaptive-tempering sequential Monte Carlo" if smc else "as stated above")
             + f", with {c['prior_odds']}. Robustness checks done: " + "; ".join(checks)
             + ". Prior sensitivity: every physical prior was halved and doubled in width (and "
-            "log-uniform swapped for uniform where it applies) by reweighting the tempered "
-            "populations; see the prior-sensitivity table for the resulting ln K and P(1D) "
-            "and for the changes that would need a re-run.")
+            "log-uniform swapped for uniform where it applies), by reweighting the tempered "
+            "populations where valid and by new tempered runs under the changed prior where "
+            "not; see the prior-sensitivity table for the resulting ln K and P(1D) and how "
+            "each was obtained.")
     return ["## For a referee response", "", "A paragraph to adapt:", "", "> " + text, ""]
 
 

@@ -160,26 +160,31 @@ def sensitivity_section(s) -> list:
     a, b = ps["families"]
     rows = []
     for r in ps["rows"]:
+        how = r["method"]
         if r["ln_k"] is None:
-            rows.append([f"`{r['parameter']}`", r["change"], "—", "—", r["note"]])
+            rows.append([f"`{r['parameter']}`", r["change"], "—", "—", how, r["note"]])
         else:
             rows.append([f"`{r['parameter']}`", r["change"],
                          f"{r['ln_k']:.2f} ± {fmt(r['ln_k_err'])}",
-                         f"{r['p_one_dimensional']:.3g}", ""])
+                         f"{r['p_one_dimensional']:.3g}", how, r["note"]])
     done = [r for r in ps["rows"] if r["ln_k"] is not None]
     span = ""
     if done:
         lo = min(r["ln_k"] for r in done)
         hi = max(r["ln_k"] for r in done)
-        span = (f" Over the reweighted rows ln K stays within [{lo:.2f}, {hi:.2f}] nats "
+        span = (f" Over the rows with a number ln K stays within [{lo:.2f}, {hi:.2f}] nats "
                 f"(declared priors: {ps['ln_k']:.2f}).")
+    missing = sum(r["ln_k"] is None for r in ps["rows"])
+    if missing:
+        span += (f" {missing} row(s) could not be reweighted and were not re-run (a --quick "
+                 "run skips the re-runs).")
     out = ["### Prior sensitivity", "",
            f"ln K of `{a}` over `{b}` and P(1D | data) with each physical prior halved and "
            "doubled in width (about its centre; from 0 when the prior starts at 0; in ln θ "
            "for a log-uniform prior) and log-uniform swapped for uniform or back, changed in "
            "every family that has the parameter. Method: " + ps["method"] + "." + span, ""]
-    out += md_table(["parameter", "prior change", "ln K (nats)", "P(1D | data)", "note"],
-                    rows)
+    out += md_table(["parameter", "prior change", "ln K (nats)", "P(1D | data)", "how",
+                     "note"], rows)
     return out
 
 

@@ -368,15 +368,18 @@ SUMMARY_FIELDS = (
        "'uniform' or 'log-uniform'"),
     _F(f"{_C}.prior_sensitivity.rows[].families", "array[string]", "", "families whose prior "
        "changed"),
-    _F(f"{_C}.prior_sensitivity.rows[].method", "string", "", "'reweighting' or 'needs a "
-       "re-run' (no number then)"),
+    _F(f"{_C}.prior_sensitivity.rows[].method", "string", "", "'reweighting', 're-run' "
+       "(new tempered runs under the changed prior), 're-run and reweighting', or 'needs a "
+       "re-run' (not re-run: no number then)"),
+    _F(f"{_C}.prior_sensitivity.rows[].rerun_families", "array[string]", "", "families whose "
+       "ln Z under the changed prior comes from a new tempered run"),
     _F(f"{_C}.prior_sensitivity.rows[].ln_k", "number|null", "nats", "ln K with the changed "
        "prior"),
     _F(f"{_C}.prior_sensitivity.rows[].ln_k_err", "number|null", "nats", "its error"),
     _F(f"{_C}.prior_sensitivity.rows[].p_one_dimensional", "number|null", "", "P(1D | data) "
        "with the changed prior"),
-    _F(f"{_C}.prior_sensitivity.rows[].note", "string", "", "why a row could not be "
-       "reweighted"),
+    _F(f"{_C}.prior_sensitivity.rows[].note", "string", "", "why a family could not be "
+       "reweighted, and whether it was re-run"),
     _F("provenance", "object", "", "what produced these numbers"),
     _F("provenance.versions", "mapping[string|null]", "", "versions of evidence1d, its "
        "dependencies and Python"),

@@ -93,3 +93,52 @@ def test_ln_k_follows_the_occam_factor(rng):
     p1 = 1 / (1 + math.exp(-1.0 - math.log(2.0)))        # equal prior odds
     assert r["p_one_dimensional"] == pytest.approx(p1, abs=0.005)
     assert rows[("c", "width × 0.5")]["ln_k"] == pytest.approx(1.0 - math.log(2.0), abs=0.01)
+
+
+def test_rows_that_reweighting_cannot_give_take_the_re_run_evidences(rng):
+    # "a" has μ piled against the upper bound 8 of its uniform prior (ȳ = 7.95): doubling the
+    # width reaches likelihood the samples never saw, so reweighting is refused and the row
+    # must take the evidence of a new run under that prior (here the exact one); "b" shares μ
+    # with the same posterior, so it is re-run too (Kass & Raftery 1995, §5)
+    prior = Uniform(0.0, 8.0)
+    mu = _posterior(rng, prior, 7.95)
+    c = _posterior(rng, Uniform(0.0, 4.0), 1.5)
+    base_a, base_b = _log_z(prior, 7.95), _log_z(prior, 7.95) - math.log(4.0) + math.log(
+        stats.norm.cdf((4.0 - 1.5) / S) - stats.norm.cdf(-1.5 / S))
+    models = {
+        "a": {"log_z": base_a, "log_z_err": 0.01, "one_dimensional": True, "names": ["mu"],
+              "samples": mu[:, None], "priors": {"mu": prior}},
+        "b": {"log_z": base_b, "log_z_err": 0.01, "one_dimensional": False,
+              "names": ["mu", "c"], "samples": np.column_stack([mu, c]),
+              "priors": {"mu": prior, "c": Uniform(0.0, 4.0)}}}
+    from evidence1d.analysis.sensitivity import rerun_requests
+    req = rerun_requests(models)
+    # halving keeps [0, 4], where no sample lies; doubling moves the bound 8 the samples touch
+    assert [(p, ch, n) for p, ch, n, _ in req] == [("mu", "width × 0.5", "a"),
+                                                  ("mu", "width × 0.5", "b"),
+                                                  ("mu", "width × 2", "a"),
+                                                  ("mu", "width × 2", "b")]
+    wide = req[2][3]
+    assert wide == Uniform(0.0, 16.0)
+    without = {(r["parameter"], r["change"]): r for r in prior_sensitivity(models)["rows"]}
+    assert without[("mu", "width × 2")]["method"] == "needs a re-run"
+    assert without[("mu", "width × 2")]["ln_k"] is None
+    # the exact evidences under the doubled prior: the Occam factor alone moves both by
+    # ln(8/16) once the whole likelihood fits inside (ȳ = 7.95 ± 0.1 inside [0, 16])
+    z_a = _log_z(wide, 7.95)
+    z_b = z_a + (base_b - base_a)
+    assert z_a - base_a == pytest.approx(math.log(0.5) + math.log(
+        1.0 / (stats.norm.cdf(0.05 / S) - stats.norm.cdf(-7.95 / S))), abs=1e-9)
+    out = prior_sensitivity(models, reruns={("mu", "width × 2", "a"): (z_a, 0.02),
+                                            ("mu", "width × 2", "b"): (z_b, 0.02)})
+    row = {(r["parameter"], r["change"]): r for r in out["rows"]}[("mu", "width × 2")]
+    assert row["method"] == "re-run" and row["rerun_families"] == ["a", "b"]
+    assert row["ln_k"] == pytest.approx(base_a - base_b, abs=1e-9)
+    assert row["ln_k_err"] == pytest.approx(math.hypot(0.02, 0.02))
+    assert "re-run" in row["note"]
+    assert {(r["parameter"], r["change"]): r for r in out["rows"]}[
+        ("mu", "width × 0.5")]["method"] == "needs a re-run"      # not given: no number
+    # a re-run of one family only: the other is reweighted (c's rows are reweightings)
+    half = prior_sensitivity(models, reruns={("mu", "width × 2", "a"): (z_a, 0.02)})
+    assert {(r["parameter"], r["change"]): r for r in half["rows"]}[
+        ("mu", "width × 2")]["method"] == "needs a re-run"

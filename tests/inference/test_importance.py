@@ -72,6 +72,20 @@ def test_a_population_far_from_the_posterior_is_flagged_by_its_ess():
     assert res["ess"] < 0.1 * res["n_draws"]
 
 
+def test_a_collapsed_population_declines_instead_of_failing():
+    # 24 particles all equal in y (seen on a re-run with few particles): no proposal can be
+    # fitted; the stage must decline (ESS 0, no likelihood calls) so that the island keeps
+    # its tempered estimate, not raise from the multivariate t
+    loglike, prior, _ = _boundary_problem()
+    space = _WorkSpace(prior)
+    rng = np.random.default_rng(14)
+    pop = np.column_stack([rng.exponential(LAM, 24), np.full(24, MU)])
+    target = LogTarget(loglike)
+    res = importance_evidence(target, prior, space, space.to_work(pop), rng, 144)
+    assert res["ess"] == 0.0 and res["log_z"] == -math.inf and res["n_evaluations"] == 0
+    assert target.n_evaluations == 0
+
+
 def test_log_uniform_parameter_in_working_space():
     # L = N(ln a; ln 3, 0.05) over a ~ log-uniform on [0.1, 100]: Z = 1/ln(1000) exactly
     # (the Gaussian in ln a lies well inside the bounds)
