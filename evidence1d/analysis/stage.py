@@ -109,9 +109,6 @@ def sensitivity_reruns(case, results, settings, options, seed, progress, workers
     ----------
     .. [1] R. E. Kass and A. E. Raftery, J. Am. Stat. Assoc. 90, 773 (1995), §5.
     """
-    from ..inference.progress import stage_bar
-    from ..parallel import run_in_pool, worker_count
-    from .budget import combine_subset
     from .sensitivity import rerun_requests
     requests = rerun_requests(_sensitivity_models(case, results))
     if not requests:
@@ -124,16 +121,27 @@ def sensitivity_reruns(case, results, settings, options, seed, progress, workers
         for isl in seq.spawn(n_islands):
             jobs.append((problem, isl, options))
             keys.append((p, label, fam))
-    bar = stage_bar(len(jobs), progress, "prior sensitivity", unit="island")
+    return _pooled_islands(_rerun_job, jobs, keys, "prior sensitivity", progress, workers)[0]
+
+
+def _pooled_islands(fn, jobs, keys, label, progress, workers):
+    """Run evidence-island jobs over a process pool with a progress bar, and combine the
+    islands of each key (:func:`~evidence1d.analysis.budget.combine_subset`).  Returns
+    ``({key: (ln Z, error)}, warnings)``."""
+    from ..inference.progress import stage_bar
+    from ..parallel import run_in_pool, worker_count
+    from .budget import combine_subset
+    bar = stage_bar(len(jobs), progress, label, unit="island")
     try:
-        done = run_in_pool(_rerun_job, jobs, worker_count(workers, len(jobs)),
+        done = run_in_pool(fn, jobs, worker_count(workers, len(jobs)),
                            on_result=lambda _: bar.update(1))
     finally:
         bar.close()
     runs = {}
     for key, (lz, _, floor) in zip(keys, done):
         runs.setdefault(key, []).append((lz, floor))
-    return {k: combine_subset([x for x, _ in v], [f for _, f in v]) for k, v in runs.items()}
+    return ({k: combine_subset([x for x, _ in v], [f for _, f in v]) for k, v in runs.items()},
+            [w for _, w, _ in done if w])
 
 
 def _subset_job(case, name, labels, seed, options):
@@ -172,9 +180,7 @@ def run_budget(case, results, settings, options, seed, progress, workers):
     .. [1] Del Moral, Doucet & Jasra, JRSS B 68, 411 (2006).
     """
     from ..inference.evidence import evidence_settings
-    from ..inference.progress import stage_bar
-    from ..parallel import run_in_pool, worker_count
-    from .budget import budget_subsets, combine_subset, evidence_budget
+    from .budget import budget_subsets, evidence_budget
     order = sorted(results, key=lambda n: -results[n].evidence.log_z)
     a, b = order[0], order[1]
     labels = budget_labels(case, case.problem(a))
@@ -192,20 +198,11 @@ def run_budget(case, results, settings, options, seed, progress, workers):
             for isl in sub_seq.spawn(n_islands):
                 jobs.append((case, fam, sub, isl, options))
                 keys.append((fam, sub))
-    bar = stage_bar(len(jobs), progress, "budget", unit="island")
-    try:
-        done = run_in_pool(_subset_job, jobs, worker_count(workers, len(jobs)),
-                           on_result=lambda _: bar.update(1))
-    finally:
-        bar.close()
-    runs = {a: {}, b: {}}
-    for (fam, sub), (lz, _, floor) in zip(keys, done):
-        runs[fam].setdefault(sub, []).append((lz, floor))
-    combined = {fam: {sub: combine_subset([x for x, _ in v], [f for _, f in v])
-                      for sub, v in runs[fam].items()}
-                for fam in (a, b)}
+    pooled, warns = _pooled_islands(_subset_job, jobs, keys, "budget", progress, workers)
+    combined = {a: {}, b: {}}
+    for (fam, sub), value in pooled.items():
+        combined[fam][sub] = value
     full = {fam: (results[fam].evidence.log_z, results[fam].evidence.log_z_err)
             for fam in (a, b)}
     record = evidence_settings(n_islands=n_islands, **options)
-    return evidence_budget(labels, a, b, combined, full, record,
-                           [w for _, w, _ in done if w])
+    return evidence_budget(labels, a, b, combined, full, record, warns)
