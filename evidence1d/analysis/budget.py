@@ -45,7 +45,8 @@ import math
 
 import numpy as np
 
-__all__ = ["SubsetLikelihood", "budget_subsets", "subset_island", "combine_subset",
+__all__ = ["SubsetLikelihood", "budget_subsets", "subset_island", "island_outcome",
+           "combine_subset",
            "evidence_budget"]
 
 
@@ -113,10 +114,15 @@ def subset_island(problem, labels, seed, **options) -> tuple:
     ----------
     .. [1] Del Moral, Doucet & Jasra, JRSS B 68, 411 (2006).
     """
-    from ..inference.evidence import run_island
-    run, warn = run_island(SubsetLikelihood(problem, labels), problem.prior, seed, **options)
-    imp = run.importance or {}
-    return float(run.log_z), warn, float(imp["log_z_err"]) if imp.get("used") else 0.0
+    return island_outcome(SubsetLikelihood(problem, labels), problem.prior, seed, options)
+
+
+def island_outcome(log_likelihood, prior, seed, options) -> tuple:
+    """One evidence island reduced to what a pool job sends back: ln Ẑ (nats), the sampler's
+    warning (or None) and the error of its final importance estimate (nats, 0 if unused)."""
+    from ..inference.evidence import importance_error, run_island
+    run, warn = run_island(log_likelihood, prior, seed, **options)
+    return float(run.log_z), warn, importance_error(run)
 
 
 def combine_subset(values, floors=None) -> tuple:
@@ -135,15 +141,11 @@ def combine_subset(values, floors=None) -> tuple:
     -------
     (float, float)
     """
+    from ..inference.evidence import island_error
     v = np.asarray(values, dtype=float)
-    r = v.size
     top = float(np.max(v))
     mean = top + math.log(float(np.mean(np.exp(v - top))))
-    err = float(np.std(v, ddof=1) / math.sqrt(r)) if r > 1 else math.inf
-    if r >= 4:
-        err *= math.sqrt((r - 1.0) / (r - 3.0))
-    if floors is not None:
-        err = max(err, float(math.sqrt(float(np.sum(np.square(floors)))) / r))
+    err = island_error(v, () if floors is None else floors)
     return mean, err
 
 

@@ -73,10 +73,8 @@ def run_sensitivity(case, results, reruns=None) -> dict:
 
 def _rerun_job(problem, seed, options):
     """One island of a family's evidence under a changed prior: a pool job."""
-    from ..inference.evidence import run_island
-    run, warn = run_island(problem.log_likelihood, problem.prior, seed, **options)
-    imp = run.importance or {}
-    return float(run.log_z), warn, float(imp["log_z_err"]) if imp.get("used") else 0.0
+    from .budget import island_outcome
+    return island_outcome(problem.log_likelihood, problem.prior, seed, options)
 
 
 def sensitivity_reruns(case, results, settings, options, seed, progress, workers) -> dict:

@@ -55,6 +55,7 @@ from .tempering import IMPORTANCE_MIN_ESS, IslandRun, log_mean_exp, run_island
 
 # IslandRun, run_island and log_mean_exp are defined in .tempering and used here
 __all__ = ["EvidenceResult", "tempered_evidence", "island_seeds", "combine_islands",
+           "island_error", "importance_error",
            "evidence_settings", "check_evidence_settings", "IslandRun", "run_island",
            "log_mean_exp"]
 
@@ -187,17 +188,11 @@ def combine_islands(islands, names, settings: dict, warnings=(), wall_time=None)
     warnings = list(warnings)
     lz = np.array([isl.log_z for isl in islands])
     r = lz.size
-    err = float(np.std(lz, ddof=1) / math.sqrt(r))
-    if r >= 4:
-        err *= math.sqrt((r - 1.0) / (r - 3.0))
-    else:
+    if r < 4:
         warnings.append(f"only {r} islands: the error bar is itself very uncertain; use ≥ 4")
     imp = [isl.importance for isl in islands if getattr(isl, "importance", None)]
     used = [d for d in imp if d.get("used")]
-    if used:
-        # the importance weights' own error, combined over the islands that used them, is a
-        # floor under the spread of the islands (which can be small by chance for few islands)
-        err = max(err, float(math.sqrt(sum(d["log_z_err"] ** 2 for d in used)) / r))
+    err = island_error(lz, [importance_error(isl) for isl in islands])
     if imp and len(used) < len(imp):
         warnings.append(f"the final importance stage covered the posterior poorly on "
                         f"{len(imp) - len(used)} of {len(imp)} islands (effective sample size "
@@ -218,6 +213,43 @@ def combine_islands(islands, names, settings: dict, warnings=(), wall_time=None)
                           n_evaluations=int(sum(isl.n_evaluations for isl in islands)),
                           wall_time=float(wall_time), settings=dict(settings),
                           warnings=tuple(dict.fromkeys(warnings)))
+
+
+def island_error(log_z, floors=()) -> float:
+    """Standard error of ln Z from independent islands (module notes).
+
+    s/√R with s the sample standard deviation of the islands' ln Ẑ_r, times
+    √((R − 1)/(R − 3)) for R ≥ 4 (unit-variance z-score of a Student t with R − 1 degrees of
+    freedom), floored by the final importance weights' own error √(Σ e_r²)/R, since the
+    spread of few islands can be small by chance.
+
+    Parameters
+    ----------
+    log_z : array_like, shape (R,)
+        ln Ẑ_r of each island (nats).
+    floors : sequence of float
+        Each island's importance error e_r (nats; 0 where it quotes its tempered estimate).
+
+    Returns
+    -------
+    float
+        Nats (∞ for one island).
+    """
+    v = np.asarray(log_z, dtype=float)
+    r = v.size
+    err = float(np.std(v, ddof=1) / math.sqrt(r)) if r > 1 else math.inf
+    if r >= 4:
+        err *= math.sqrt((r - 1.0) / (r - 3.0))
+    if len(floors):
+        err = max(err, float(math.sqrt(float(np.sum(np.square(floors))))) / r)
+    return err
+
+
+def importance_error(island) -> float:
+    """The error e_r (nats) of an island's final importance estimate, 0 when the island
+    quotes its tempered estimate (:func:`island_error`)."""
+    imp = getattr(island, "importance", None) or {}
+    return float(imp["log_z_err"]) if imp.get("used") else 0.0
 
 
 def evidence_settings(n_particles=200, n_islands=8, target_cess=0.5, moved=0.9, min_sweeps=3,
