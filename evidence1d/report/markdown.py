@@ -348,9 +348,9 @@ def _methods(s, ctx) -> tuple:
                 counts = ", ".join(f"{f} {k} of {r}" for f, k in imp.items())
                 parts.append(f"Each island then drew {draws} points from a defensive "
                              f"mixture fitted to its final population {cite('defensive')} "
-                             "(half a Student t with ν = 5 and 1.5 times the population's "
-                             "covariance, half Gaussian kernels on the particles, 10 % of the "
-                             "prior) and quotes that importance estimate of its evidence when "
+                             "(half a Student t with ν = 5 and the population's covariance "
+                             "widened 1.5 times in every direction, half Gaussian kernels "
+                             "on the particles, 10 % of the prior) and quotes that importance estimate of its evidence when "
                              "the weights' effective sample size reaches 5 % of the draws, "
                              f"else its tempered estimate (importance estimate quoted on "
                              f"{counts} islands). ")
