@@ -16,7 +16,7 @@ ROOT = Path(evidence1d.__file__).parent
 #: layer of every top-level module or sub-package (lower numbers are lower layers)
 LAYERS = {
     "errors": 0,
-    "units": 1, "schema": 1,
+    "units": 1, "schema": 1, "gauss_rules": 1,
     "physics": 2, "data": 2, "inference": 2, "parallel": 2, "figure_settings": 2,
     "families": 3, "results": 3, "provenance": 3,
     "cards": 4, "problem": 4, "variant": 4,

@@ -46,6 +46,7 @@ import itertools
 import numpy as np
 from scipy import special
 
+from ..gauss_rules import gauss_legendre
 __all__ = ["log_ndtr_diff", "bvn_cdf", "log_box_probability", "truncated_normal_ppf",
            "box_mode", "truncated_draw", "Z_DROP", "N_LATTICE"]
 
@@ -223,7 +224,7 @@ def _frozen(*arrays):
 @functools.lru_cache(maxsize=None)
 def _gauss_legendre():
     """Gauss–Legendre nodes on (0, 1) as a (N, 1) point set and their log weights."""
-    x, w = np.polynomial.legendre.leggauss(_GL_NODES)
+    x, w = gauss_legendre(_GL_NODES)
     return _frozen((0.5 * (x + 1.0))[:, None], np.log(0.5 * w))
 
 

@@ -37,6 +37,7 @@ import math
 
 import numpy as np
 
+from ..gauss_rules import gauss_legendre
 from .chain_exact import (_pair_params, _ratio_xy, _ratio_y2, _rho_t, _t_of, _yc2,
                           exact_profile, ratio_fast)
 from .chain_thermal import thermal_density
@@ -57,18 +58,10 @@ _EDGE_FRACTIONS = np.array([0.15, 0.01])
 _CHUNK = 2048
 
 
-@functools.lru_cache(maxsize=None)
-def _legendre(n):
-    x, w = np.polynomial.legendre.leggauss(n)
-    x.setflags(write=False)
-    w.setflags(write=False)
-    return x, w
-
-
 def _t_panels(ta, tb, Es, s, wl, vmax2, kT, sign, thermal, n_nodes):
     """Σ over the t-intervals [ta_k, tb_k] (layout (k, pair)) of the Gauss–Legendre sum of
     G(Es − ω) R_T D dω/dt, D = D_0 [× e^{−ω/k_BT} on the gain side] or D_T(sign ω)."""
-    x, w = _legendre(n_nodes)
+    x, w = gauss_legendre(n_nodes)
     half = 0.5 * (tb - ta)                                       # (k, m)
     t = (0.5 * (tb + ta))[:, None, :] + half[:, None, :] * x[None, :, None]   # (k, n, m)
     e = np.exp(t * (-2.0 * math.pi))
@@ -165,7 +158,7 @@ def _top_rule(n):
     """Nodes ξ ∈ (−1, 1) and weights of ∫_{−1}^{1} f dξ for f = c + √(1 − ξ) h, c, h smooth:
     Gauss–Legendre in u ∈ (0, 1) with 1 − ξ = 2u² (dξ = −4u du), exact for polynomials of
     degree < 2n in u."""
-    x, w = np.polynomial.legendre.leggauss(n)
+    x, w = gauss_legendre(n)
     u = 0.5 * (x + 1.0)
     xi = 1.0 - 2.0 * u * u
     wt = 2.0 * u * w                       # 4u du with du = dx/2
@@ -179,7 +172,7 @@ def _omega_window(Es, s, wl, top, kT, lo, hi, frac, sign, thermal, n_nodes):
     ends at ω_U in u, ω_U − ω ∝ u² (the profile has a square-root zero there, or at T > 0
     a step plus a square root); unnormalised."""
     vmax2 = (top - wl) * (top + wl)
-    xg, wg = _legendre(n_nodes)
+    xg, wg = gauss_legendre(n_nodes)
     xj, wj = _top_rule(n_nodes + 2)
     n_p = frac.shape[0] - 1
     a = lo + (hi - lo) * frac[:-1]                                   # (P, m)
@@ -339,7 +332,7 @@ def signed_side(E, s, wl, top, kT, n_nodes=7, n_panels=2, n_sigma=4.5):
     lo = np.maximum(E - n_sigma * s, -top)
     hi = np.minimum(E + n_sigma * s, top)
     ix = np.flatnonzero(hi > lo)
-    xg, wg = _legendre(n_nodes)
+    xg, wg = gauss_legendre(n_nodes)
     xt, wt = _top_rule(n_nodes + 2)
     n_p = max(int(n_panels), 2)
     frac = np.linspace(0.0, 1.0, n_p + 1)[:, None]

@@ -23,12 +23,12 @@ M. Abramowitz & I. A. Stegun, *Handbook of Mathematical Functions* (1964), 22.2.
 """
 from __future__ import annotations
 
-import functools
 import math
 
 import numpy as np
 from scipy import special
 
+from ..gauss_rules import gauss_legendre
 from .neutron import convolve_cumulative, hermite_expansion_rule
 
 __all__ = ["muller_edge_side", "muller_smooth_side", "N_SIGMA"]
@@ -37,15 +37,6 @@ _CHUNK = 1024                       # pairs per block (temporaries stay in cache
 #: resolution window ±6σ (tail weight 2e-9)
 N_SIGMA = 6.0
 _N_HERMITE = (4, 8)                 # nodes of the smooth rule: full Gaussian, cut at ω_T
-
-
-@functools.lru_cache(maxsize=None)
-def _legendre_rule(n):
-    """Gauss–Legendre nodes and weights on [−1, 1], computed once per node count."""
-    x, w = np.polynomial.legendre.leggauss(n)
-    x.setflags(write=False)
-    w.setflags(write=False)
-    return x, w
 
 
 def _hermite_block(c, sig, wl, b, n):
@@ -155,7 +146,7 @@ def muller_edge_side(Es, sig, wl, top, A, kT, boltz, method, n_nodes, n_panels):
             dW = np.diff(W, axis=-1) * np.exp(-0.5 * (om[:, 1:] + om[:, :-1]) / kT[:, None])
             W = np.concatenate([np.zeros_like(W[:, :1]), np.cumsum(dW, axis=-1)], axis=-1)
         return convolve_cumulative(Es, sig, om, W)
-    x, w = _legendre_rule(n_nodes)
+    x, w = gauss_legendre(n_nodes)
     frac = np.linspace(0.0, 1.0, n_panels + 1)[:, None]
     xw = x[:, None]
     val = np.empty(Es.size)

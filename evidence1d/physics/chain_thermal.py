@@ -66,6 +66,7 @@ import math
 import numpy as np
 from scipy import special
 
+from ..gauss_rules import gauss_legendre
 from .neutron import convolve_cumulative, hermite_expansion_rule
 
 __all__ = ["thermal_shape", "thermal_density", "convolve_thermal", "HERMITE_TIERS"]
@@ -283,7 +284,7 @@ def _side_hermite(c, s, wl, top, kT, ratio=None):
 
 
 def _legendre(n):
-    x, w = np.polynomial.legendre.leggauss(n)
+    x, w = gauss_legendre(n)
     return x[:, None], w
 
 

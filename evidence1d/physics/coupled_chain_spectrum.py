@@ -73,6 +73,7 @@ import math
 
 import numpy as np
 
+from ..gauss_rules import gauss_legendre
 from ..units import K_B_MEV
 from . import chain_exact
 from .chain import all_sheets
@@ -87,7 +88,7 @@ from .resolution_grid import RowGrid
 
 __all__ = ["coupled_spectrum", "spectrum_grid", "NODES_PER_SIGMA"]
 
-_GL_T, _GL_W = np.polynomial.legendre.leggauss(4)
+_GL_T, _GL_W = gauss_legendre(4)
 _GL_T, _GL_W = 0.5 * (_GL_T + 1.0), 0.5 * _GL_W          # on [0, 1]
 #: a pole is sharp (its window integrated exactly, placed at ω_p) when Γ < this × w₀
 SHARP = 0.5
@@ -349,7 +350,7 @@ def _pole_window(wp, lo, hi, pole, sharp, kT, dressing):
     wp_, lo_, hi_ = wp[si, ci], lo[si, ci], hi[si, ci]
     G = pole["width"][si, ci]
     x0 = np.maximum(1e-2 * G, 1e-9 * np.maximum(hi_ - lo_, 1e-300))
-    t, wt = np.polynomial.legendre.leggauss(2)
+    t, wt = gauss_legendre(2)
     nodes, weights = [wp_ + x0 * tk for tk in t], [x0 * wk for wk in wt]
     for side, end in ((1.0, hi_ - wp_), (-1.0, wp_ - lo_)):
         L0, L1 = np.log(x0), np.log(np.maximum(end, 2.0 * x0))

@@ -27,6 +27,7 @@ import numpy as np
 from scipy import special
 
 from ..errors import InputError
+from ..gauss_rules import gauss_legendre
 from ..units import K_B_MEV
 
 __all__ = [
@@ -490,7 +491,7 @@ def powder_directions(n_theta: int = 16, n_phi: int = 16):
         if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 1:
             raise InputError(f"the '{name}' parameter of powder_directions must be a "
                              f"positive integer; got {value!r} instead")
-    c, wc = np.polynomial.legendre.leggauss(int(n_theta))
+    c, wc = gauss_legendre(int(n_theta))
     phi = 2.0 * np.pi * (np.arange(int(n_phi)) + 0.5) / int(n_phi)
     s = np.sqrt(1.0 - c * c)
     u = np.stack([np.repeat(c, n_phi),

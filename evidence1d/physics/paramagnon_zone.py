@@ -35,6 +35,7 @@ import math
 import numpy as np
 from scipy import special
 
+from ..gauss_rules import gauss_legendre
 from ..units import K_B_MEV, R_GAS
 from . import paramagnon as pm
 
@@ -58,7 +59,7 @@ def _graded(L, w_in, n_panels, n_gl):
     w_in = np.clip(np.asarray(w_in, float), 1e-12 * Ls, Ls / 64.0)
     ratio = (Ls / w_in) ** (1.0 / (n_panels - 1))
     edges = [np.zeros_like(Ls)] + [w_in * ratio ** k for k in range(n_panels - 1)] + [Ls]
-    x, wg = np.polynomial.legendre.leggauss(n_gl)
+    x, wg = gauss_legendre(n_gl)
     r, w = [], []
     for lo, hi in zip(edges[:-1], edges[1:]):
         half = 0.5 * (hi - lo)

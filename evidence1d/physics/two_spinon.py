@@ -43,6 +43,8 @@ import functools
 import numpy as np
 from scipy import integrate, interpolate, special
 
+from ..gauss_rules import gauss_legendre
+
 __all__ = ["I_function", "two_spinon_structure_factor", "two_spinon_cumulative",
            "cumulative_table", "TWO_SPINON_INTENSITY_SHARE", "TWO_SPINON_MOMENT_SHARE"]
 
@@ -263,14 +265,6 @@ def _minus_I_grid():
     return vals
 
 
-@functools.lru_cache(maxsize=8)
-def _leggauss(n):
-    x, w = np.polynomial.legendre.leggauss(n)
-    x.setflags(write=False)
-    w.setflags(write=False)
-    return x, w
-
-
 def _exp_minus_I(t):
     """e^{−I(t)} by linear interpolation of −I in ln t (relative error ≲ 1e-5)."""
     vals = _minus_I_grid()
@@ -326,7 +320,7 @@ def windowed_weights(E, sigma, omega_l, omega_u, n_nodes=16, n_sigma=6.0, omega_
     wl, wu, lo, hi = wl[full], wu[full], lo[full], hi[full]
     v_lo = np.sqrt(np.maximum((lo - wl) * (lo + wl), 0.0))[:, None]
     v_hi = np.sqrt(np.maximum((hi - wl) * (hi + wl), 0.0))[:, None]
-    xg, wg = _leggauss(int(n_nodes))
+    xg, wg = gauss_legendre(int(n_nodes))
     v = 0.5 * (v_hi - v_lo) * xg + 0.5 * (v_hi + v_lo)
     dv = 0.5 * (v_hi - v_lo) * wg
     wl2, wu2 = wl[:, None], wu[:, None]
