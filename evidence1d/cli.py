@@ -69,7 +69,8 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("--out", help="output folder (default: the case file's 'output')")
     r.add_argument("--seed", type=int, help="random seed (default: the case file's 'seed')")
     r.add_argument("--quick", action="store_true",
-                   help="reduced settings for a fast first look (not for publication)")
+                   help="reduced settings for a fast first look (not for publication); "
+                        "a spectrum of more than 2000 points is fitted on a regular subset")
     r.add_argument("--resume", action="store_true",
                    help="continue an interrupted run from its checkpoints")
     r.add_argument("--overwrite", action="store_true",
@@ -228,6 +229,10 @@ def _cmd_run(args):
     if replaces(target, overwrite=args.overwrite, resume=args.resume):
         print(f"evidence1d: replacing the existing output folder {target} (--overwrite)",
               file=sys.stderr)
+    if args.quick:
+        from .runner import quick_subset, quick_subset_text
+        for name, kept in quick_subset(case)[1].items():
+            print(f"evidence1d: quick look: {quick_subset_text(name, kept)}", file=sys.stderr)
     results = run_to_folder(case, seed=args.seed, out=args.out, quick=args.quick,
                             resume=args.resume, overwrite=args.overwrite,
                             figures=not args.no_figures, models=models, workers=args.workers)

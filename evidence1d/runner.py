@@ -28,10 +28,63 @@ from .errors import InputError
 from .parallel import run_in_pool, worker_count
 from .results import ModelResult, RunResults
 
-__all__ = ["ModelResult", "RunResults", "run", "effective_settings", "QUICK"]
+__all__ = ["ModelResult", "RunResults", "run", "effective_settings", "QUICK", "QUICK_POINTS",
+           "quick_subset"]
 
 #: reductions applied by ``--quick`` (a first look, not for publication)
 QUICK = {"steps": 300, "particles": 150, "islands": 2}
+#: ``--quick`` fits at most this many points of each spectrum: a dense map (10⁴–10⁵ points)
+#: is reduced to every k-th point in file order, so that a first look costs about what the
+#: flagship's does whatever the size of the data (the report says what was kept)
+QUICK_POINTS = 2000
+
+
+def quick_subset(case, limit: int | None = None):
+    """The case with every spectrum of more than ``limit`` points reduced to every k-th
+    point in file order (k = ⌈n/limit⌉), and what was kept.
+
+    Parameters
+    ----------
+    case : Case
+    limit : int, optional
+        Largest number of points of a spectrum fitted by a quick look (default
+        :data:`QUICK_POINTS`).
+
+    Returns
+    -------
+    (Case, dict of str to dict)
+        The case (itself if nothing is reduced, else a variant made in memory) and, per
+        reduced dataset, ``{"kept": m, "of": n, "every": k}``.
+
+    Notes
+    -----
+    Fewer points carry less information: ln K of the subset is roughly 1/k of the full
+    data's for a verdict spread over the map, so a quick look shows the direction of the
+    verdict, not its size.  Every kept point is fitted exactly as in the full run.
+    """
+    import dataclasses
+    import math
+    limit = QUICK_POINTS if limit is None else int(limit)
+    reduced, info = [], {}
+    for ds in case.datasets:
+        if not ds.spec.is_spectrum or ds.n <= limit:
+            reduced.append(ds)
+            continue
+        k = math.ceil(ds.n / limit)
+        idx = np.arange(0, ds.n, k)
+
+        def take(d, n=ds.n):
+            return {c: (np.asarray(v)[idx] if np.shape(v)[:1] == (n,) else v)
+                    for c, v in d.items()}
+        reduced.append(dataclasses.replace(ds, x=take(ds.x), y=ds.y[idx], err=ds.err[idx],
+                                           lines=np.asarray(ds.lines)[idx],
+                                           raw=take(ds.raw)))
+        info[ds.name] = {"kept": int(idx.size), "of": int(ds.n), "every": int(k)}
+    if not info:
+        return case, info
+    variant = case.replace()                 # a new Case: no joint problem cached yet
+    variant.datasets = reduced
+    return variant, info
 
 
 def effective_settings(case, quick: bool = False) -> dict:
@@ -245,9 +298,16 @@ def _nested_limits(results: dict) -> dict:
             if r.savage_dickey is not None and not r.one_dimensional}
 
 
-def run_context(case, names, quick: bool, figures) -> dict:
+def quick_subset_text(name: str, kept: dict) -> str:
+    """One line on a spectrum reduced by :func:`quick_subset`."""
+    return (f"'{name}' fitted on one point in {kept['every']} in file order "
+            f"({kept['kept']} of {kept['of']} points)")
+
+
+def run_context(case, names, quick: bool, figures, subset=None) -> dict:
     """What the report states besides the numbers, taken from the case (see
-    :attr:`evidence1d.results.RunResults.context`)."""
+    :attr:`evidence1d.results.RunResults.context`); ``subset`` is what
+    :func:`quick_subset` kept of each reduced spectrum."""
     cards = {}
     for n in names:
         card = case.models[n].card
@@ -257,7 +317,10 @@ def run_context(case, names, quick: bool, figures) -> dict:
                     "latex": {p: v.get("latex") for p, v in card.parameters.items()}}
     return {"title": case.title, "quick": bool(quick), "cards": cards,
             "datasets": [{"name": ds.name, "kind": ds.kind, "n": int(ds.n),
-                          "units": dict(ds.units)} for ds in case.datasets],
+                          "units": dict(ds.units),
+                          **({"quick_subset": dict(subset[ds.name])}
+                             if subset and ds.name in subset else {})}
+                         for ds in case.datasets],
             "figure_settings": figures}
 
 
@@ -355,6 +418,9 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
     from .figure_settings import figure_settings
 
     seed = case.seed if seed is None else int(seed)
+    subset = {}
+    if quick:
+        case, subset = quick_subset(case)
     names = list(case.models) if not models else list(models)
     for n in names:
         case.problem(n)
@@ -363,6 +429,8 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
                                    names) if figures else None
     log = store.log if store is not None else (lambda message: None)
     log(f"settings: {json.dumps(settings)}; models: {', '.join(names)}")
+    for name, kept in subset.items():
+        log(f"quick look: {quick_subset_text(name, kept)}")
     t0 = time.time()
     seeds = _model_seeds(seed, names)
     log(f"evidence: {settings['islands']} islands per family "
@@ -439,7 +507,7 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
     res = RunResults(models=results, comparison=comparison, reliable=reliable, seed=seed,
                      settings=settings, provenance=prov, budget=budget_doc,
                      sensitivity=sensitivity,
-                     context=run_context(case, names, quick, fig_settings),
+                     context=run_context(case, names, quick, fig_settings, subset),
                      case_path=case.path)
     log(f"verdict: {comparison.verdict}")
     return res

@@ -467,8 +467,13 @@ def render_markdown(summary: dict, context: dict) -> str:
     s, c = summary, summary["comparison"]
     out = [f"# {s['title']}: which model family explains the data?", ""]
     if context.get("quick"):
-        out += ["> **QUICK LOOK, NOT FOR PUBLICATION**: reduced sampler settings (`--quick`); "
-                "run without `--quick` before quoting any number.", ""]
+        cut = [f"'{d['name']}' on one point in {d['quick_subset']['every']} "
+               f"({d['quick_subset']['kept']} of {d['quick_subset']['of']})"
+               for d in context.get("datasets", []) if d.get("quick_subset")]
+        out += ["> **QUICK LOOK, NOT FOR PUBLICATION**: reduced sampler settings (`--quick`)"
+                + ("; spectra fitted on a regular subset of their points: " + ", ".join(cut)
+                   + " (ln K scales roughly with the number of points fitted)" if cut else "")
+                + "; run without `--quick` before quoting any number.", ""]
     if not s["reliable"]:
         why = list(c["reliability"].get("reasons") or [])
         out += ["> **UNRELIABLE**: " + "; ".join(why or ["see the diagnostics"]) + ". Do not "
