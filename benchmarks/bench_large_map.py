@@ -130,9 +130,15 @@ def timed_run(case_path: Path, quick: bool) -> dict:
     if summary.is_file():
         doc = json.loads(summary.read_text())
         comp = doc.get("comparison", {})
-        rec["winner"] = comp.get("winner")
-        rec["log_z"] = {n: m.get("evidence", {}).get("log_z")
-                        for n, m in doc.get("models", {}).items()}
+        rec["winner"] = comp.get("best")
+        rec["p_one_dimensional"] = comp.get("p_one_dimensional")
+        rec["log_z"] = {n: m.get("log_evidence") for n, m in doc.get("models", {}).items()}
+        rec["bad_fit"] = {n: sorted(d for d, g in m.get("goodness_of_fit", {}).items()
+                                    if g.get("bad_fit"))
+                          for n, m in doc.get("models", {}).items()}
+        rec["quick_subset"] = [line.strip() for line in
+                               (out / "run.log").read_text().splitlines()
+                               if "quick look:" in line]
     else:
         rec["stderr_tail"] = proc.stderr[-2000:]
     return rec
