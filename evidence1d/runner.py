@@ -499,8 +499,12 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
                                         seed, progress, workers)
         except (InputError, ValueError, FloatingPointError, np.linalg.LinAlgError) as exc:
             log(f"prior-sensitivity re-runs not computed: {exc}")
-        if reruns:
-            log(f"prior sensitivity: {len(reruns)} evidences re-run under changed priors "
+        for key, why in (reruns or {}).items():
+            if isinstance(why, str):
+                log(f"prior sensitivity: {key[2]}, {key[0]} {key[1]}: {why}")
+        done = [k for k, v in (reruns or {}).items() if not isinstance(v, str)]
+        if done:
+            log(f"prior sensitivity: {len(done)} evidences re-run under changed priors "
                 f"({time.time() - t_s:.1f} s)")
     sensitivity = run_sensitivity(case, results, reruns)
     prov = provenance(case, seed=seed, start=t0, run_time=time.time() - t0, settings=settings)

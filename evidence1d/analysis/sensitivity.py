@@ -240,7 +240,8 @@ def prior_sensitivity(models: dict, prior_odds=None, reruns=None) -> dict:
         As in :func:`~evidence1d.inference.compare.compare_models`.
     reruns : dict, optional
         ``(parameter, change, family) -> (ln Z, error)`` from new tempered runs under the
-        changed prior, for the entries of :func:`rerun_requests`.
+        changed prior, for the entries of :func:`rerun_requests`, or a one-line reason (str)
+        where no run is possible.
 
     Returns
     -------
@@ -248,8 +249,9 @@ def prior_sensitivity(models: dict, prior_odds=None, reruns=None) -> dict:
         ``families`` (winner, runner-up of the baseline), ``ln_k``, ``p_one_dimensional``
         (baseline), ``rows`` (per parameter and change: ``parameter``, ``change``,
         ``families``, ``method`` ("reweighting", "re-run" when every changed evidence
-        needed a new run, "re-run and reweighting", or "needs a re-run" when a needed run is
-        missing), ``rerun_families``, ``ln_k``, ``ln_k_err``, ``p_one_dimensional``,
+        needed a new run, "re-run and reweighting", "needs a re-run" when a needed run is
+        missing, or "outside the model's domain" when the changed prior leaves a family's
+        domain and no run is possible), ``rerun_families``, ``ln_k``, ``ln_k_err``, ``p_one_dimensional``,
         ``note``) and ``method``.
 
     References
@@ -266,11 +268,14 @@ def prior_sensitivity(models: dict, prior_odds=None, reruns=None) -> dict:
     a, b = order[0], order[1]
     rows = []
     for p, label, owners, per in _variant_rows(models):
-        new_lz, notes, missing, rerun = dict(base), [], False, []
+        new_lz, notes, missing, rerun, outside = dict(base), [], False, [], False
         for n, (_, rw) in per.items():
             lz, err, one_d = base[n]
             if rw["valid"]:
                 new_lz[n] = (lz + rw["delta_ln_z"], math.hypot(err, rw["err"] or 0.0), one_d)
+            elif isinstance(reruns.get((p, label, n)), str):      # no run possible
+                missing, outside = True, True
+                notes.append(f"{n}: {reruns[(p, label, n)]}")
             elif (p, label, n) in reruns:
                 z, e = reruns[(p, label, n)]
                 new_lz[n] = (float(z), float(e), one_d)
@@ -280,7 +285,8 @@ def prior_sensitivity(models: dict, prior_odds=None, reruns=None) -> dict:
                 missing = True
                 notes.append(f"{n}: {rw['why']} (not re-run here)")
         reweighted = len(rerun) < len(per)
-        method = ("needs a re-run" if missing else "re-run and reweighting"
+        method = ("outside the model's domain" if outside else
+                  "needs a re-run" if missing else "re-run and reweighting"
                   if rerun and reweighted else "re-run" if rerun else "reweighting")
         row = {"parameter": p, "change": label, "families": owners, "method": method,
                "rerun_families": rerun, "ln_k": None, "ln_k_err": None,

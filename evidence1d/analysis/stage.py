@@ -101,25 +101,40 @@ def sensitivity_reruns(case, results, settings, options, seed, progress, workers
     Returns
     -------
     dict
-        ``(parameter, change, family) -> (ln Z, error)`` in nats.
+        ``(parameter, change, family) -> (ln Z, error)`` in nats, or a one-line reason (str)
+        where the changed prior reaches outside the family's domain (its likelihood refuses
+        the prior's extreme values, e.g. a widened Δ beyond the chain tables): no run is
+        possible there.
 
     References
     ----------
     .. [1] R. E. Kass and A. E. Raftery, J. Am. Stat. Assoc. 90, 773 (1995), §5.
     """
+    from ..errors import InputError
     from .sensitivity import rerun_requests
     requests = rerun_requests(_sensitivity_models(case, results))
     if not requests:
         return {}
     n_islands = min(int(settings["islands"]), BUDGET_ISLANDS)
     root = np.random.SeedSequence(seed, spawn_key=(SENSITIVITY_KEY,))
-    jobs, keys = [], []
+    jobs, keys, refused = [], [], {}
     for (p, label, fam, prior), seq in zip(requests, root.spawn(len(requests))):
         problem = case.replace(priors={fam: {p: prior}}).problem(fam)
+        # the prior's extremes in p, the other parameters at their prior medians
+        u = np.full((2, len(problem.names)), 0.5)
+        u[:, problem.names.index(p)] = (1e-6, 1.0 - 1e-6)
+        try:
+            problem.log_likelihood(problem.prior_transform(u))
+        except InputError as exc:
+            refused[(p, label, fam)] = f"the changed prior leaves the model's domain ({exc})"
+            continue
         for isl in seq.spawn(n_islands):
             jobs.append((problem, isl, options))
             keys.append((p, label, fam))
-    return _pooled_islands(_rerun_job, jobs, keys, "prior sensitivity", progress, workers)[0]
+    if not jobs:
+        return refused
+    done = _pooled_islands(_rerun_job, jobs, keys, "prior sensitivity", progress, workers)[0]
+    return {**done, **refused}
 
 
 def _pooled_islands(fn, jobs, keys, label, progress, workers):

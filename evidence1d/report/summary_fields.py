@@ -369,8 +369,9 @@ SUMMARY_FIELDS = (
     _F(f"{_C}.prior_sensitivity.rows[].families", "array[string]", "", "families whose prior "
        "changed"),
     _F(f"{_C}.prior_sensitivity.rows[].method", "string", "", "'reweighting', 're-run' "
-       "(new tempered runs under the changed prior), 're-run and reweighting', or 'needs a "
-       "re-run' (not re-run: no number then)"),
+       "(new tempered runs under the changed prior), 're-run and reweighting', 'needs a "
+       "re-run' (not re-run: no number then) or 'outside the model's domain' (the changed "
+       "prior reaches values the family's likelihood refuses: no number)"),
     _F(f"{_C}.prior_sensitivity.rows[].rerun_families", "array[string]", "", "families whose "
        "ln Z under the changed prior comes from a new tempered run"),
     _F(f"{_C}.prior_sensitivity.rows[].ln_k", "number|null", "nats", "ln K with the changed "

@@ -142,3 +142,33 @@ def test_rows_that_reweighting_cannot_give_take_the_re_run_evidences(rng):
     half = prior_sensitivity(models, reruns={("mu", "width × 2", "a"): (z_a, 0.02)})
     assert {(r["parameter"], r["change"]): r for r in half["rows"]}[
         ("mu", "width × 2")]["method"] == "needs a re-run"
+    # a family whose likelihood refuses the widened prior (outside its domain): no number,
+    # and the row says why
+    why = "the changed prior leaves the model's domain (delta must lie in [0, 3])"
+    out = prior_sensitivity(models, reruns={("mu", "width × 2", "a"): why,
+                                            ("mu", "width × 2", "b"): (z_b, 0.02)})
+    row = {(r["parameter"], r["change"]): r for r in out["rows"]}[("mu", "width × 2")]
+    assert row["method"] == "outside the model's domain" and row["ln_k"] is None
+    assert why in row["note"]
+
+
+def test_a_widened_prior_beyond_the_tables_is_refused_without_a_run(valid_case, monkeypatch):
+    """Doubling the width of Δ's default prior [0, 3] reaches Δ < 0 and Δ > 3, where the
+    chain tables end (evidence1d.physics.chain_thermo.DELTA_MAX): the re-run is refused
+    with the kernel's reason, before any island is queued."""
+    import evidence1d
+    from evidence1d.analysis import stage
+    from evidence1d.inference.priors import Uniform
+    case = evidence1d.load_case(valid_case)
+    wide = Uniform(-1.5, 4.5)
+    monkeypatch.setattr("evidence1d.analysis.sensitivity.rerun_requests",
+                        lambda models: [("delta", "width × 2", "spinon_continuum", wide)])
+    monkeypatch.setattr(stage, "_sensitivity_models", lambda case, results: {})
+
+    def no_island(*args, **kwargs):
+        raise AssertionError("no island may run")
+    monkeypatch.setattr(stage, "_pooled_islands", no_island)
+    out = stage.sensitivity_reruns(case, {}, {"islands": 2}, {}, 1, False, 1)
+    (key, why), = out.items()
+    assert key == ("delta", "width × 2", "spinon_continuum")
+    assert why.startswith("the changed prior leaves the model's domain") and "anisotropy" in why
