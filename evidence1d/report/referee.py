@@ -174,10 +174,14 @@ def sensitivity_section(s) -> list:
         hi = max(r["ln_k"] for r in done)
         span = (f" Over the rows with a number ln K stays within [{lo:.2f}, {hi:.2f}] nats "
                 f"(declared priors: {ps['ln_k']:.2f}).")
-    missing = sum(r["ln_k"] is None for r in ps["rows"])
+    outside = sum(r["method"] == "outside the model's domain" for r in ps["rows"])
+    missing = sum(r["ln_k"] is None for r in ps["rows"]) - outside
     if missing:
         span += (f" {missing} row(s) could not be reweighted and were not re-run (a --quick "
                  "run skips the re-runs).")
+    if outside:
+        span += (f" {outside} row(s) change a prior beyond values a family's likelihood "
+                 "accepts (its domain), so no number exists for them.")
     out = ["### Prior sensitivity", "",
            f"ln K of `{a}` over `{b}` and P(1D | data) with each physical prior halved and "
            "doubled in width (about its centre; from 0 when the prior starts at 0; in ln θ "

@@ -140,7 +140,8 @@ def test_prior_sensitivity_table(run_dir, summary):
                 if v["role"] == "physical"}
     assert {r["parameter"] for r in ps["rows"]} <= physical
     for r in ps["rows"]:
-        assert (r["ln_k"] is None) is (r["method"] == "needs a re-run")
+        assert (r["ln_k"] is None) is (r["method"] in ("needs a re-run",
+                                                       "outside the model's domain"))
         assert (r["method"] != "reweighting") is bool(r["note"])
     text = (out / "report.md").read_text(encoding="utf-8")
     assert "### Prior sensitivity" in text
@@ -189,3 +190,16 @@ def test_a_secure_ranking_with_a_badly_fitting_winner_is_not_called_reliable(sum
     line = next(ln for ln in render_markdown(doc, context).splitlines()
                 if ln.startswith("Reliability of the verdict"))
     assert line.startswith("Reliability of the verdict: reliable.")
+
+
+def test_sensitivity_text_separates_missing_runs_from_rows_outside_a_domain():
+    from evidence1d.report.referee import sensitivity_section
+    row = {"parameter": "delta", "change": "width × 2", "ln_k": None, "ln_k_err": None,
+           "p_one_dimensional": None, "note": "b: the changed prior leaves the model's domain"}
+    ps = {"families": ["a", "b"], "ln_k": 3.0, "method": "reweighting",
+          "rows": [dict(row, method="outside the model's domain"),
+                   dict(row, parameter="J", method="needs a re-run", note="b: not re-run")]}
+    text = "\n".join(sensitivity_section({"comparison": {"prior_sensitivity": ps}}))
+    assert "1 row(s) could not be reweighted and were not re-run" in text
+    assert "1 row(s) change a prior beyond values a family's likelihood accepts" in text
+    assert "| `delta` | width × 2 | — | — | outside the model's domain |" in text
