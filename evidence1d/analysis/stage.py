@@ -59,7 +59,8 @@ def run_sensitivity(case, results, reruns=None) -> dict:
     case : Case
     results : dict of str to ModelResult
     reruns : dict, optional
-        ``(parameter, change, family) -> (ln Z, error)`` (:func:`sensitivity_reruns`).
+        ``(parameter, change, family) -> (ln Z, error)``, or a one-line reason (str) where
+        the changed prior leaves the family's domain (:func:`sensitivity_reruns`).
 
     Returns
     -------

@@ -203,3 +203,21 @@ def test_sensitivity_text_separates_missing_runs_from_rows_outside_a_domain():
     assert "1 row(s) could not be reweighted and were not re-run" in text
     assert "1 row(s) change a prior beyond values a family's likelihood accepts" in text
     assert "| `delta` | width × 2 | — | — | outside the model's domain |" in text
+
+
+def test_sensitivity_panel_labels_rows_without_a_number_by_their_method():
+    import matplotlib.pyplot as plt
+
+    from evidence1d.report.figures.comparison import _sensitivity_panel
+    row = {"parameter": "delta", "change": "width × 2", "ln_k": None, "ln_k_err": None}
+    sens = {"families": ["a", "b"], "ln_k": 3.0,
+            "rows": [dict(row, method="outside the model's domain"),
+                     dict(row, parameter="J", method="needs a re-run"),
+                     dict(row, parameter="g", ln_k=3.1, ln_k_err=0.1, method="reweighting")]}
+    fig, ax = plt.subplots()
+    _sensitivity_panel(ax, sens, titles=False, symbols={})
+    from matplotlib.text import Text
+    fig.canvas.draw()
+    texts = {t.get_text() for t in fig.findobj(Text)}
+    plt.close(fig)
+    assert {"outside the model's domain", "needs a re-run"} <= texts

@@ -178,7 +178,8 @@ def _sensitivity_panel(ax, sens, titles, symbols, wrap_at=70):
                      for r in rows],
                 [r.get("ln_k") for r in rows], [r.get("ln_k_err") for r in rows],
                 [_pm(r["ln_k"], r.get("ln_k_err") or 0.0) if r.get("ln_k") is not None
-                 else "needs a re-run" for r in rows], reference=sens.get("ln_k"))
+                 else r.get("method") or "no number" for r in rows],
+                reference=sens.get("ln_k"))
     ax.set_xlabel(f"ln K of {a} over {b} (nats)")
     if titles:
         ax.set_title(wrap(f"prior sensitivity: ln K = {_pm(sens['ln_k'], 0.0)} with the "
