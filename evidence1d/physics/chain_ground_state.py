@@ -45,10 +45,10 @@ def _as_params(J, delta):
     delta = np.asarray(delta, dtype=float)
     if not np.all(np.isfinite(J)) or np.any(J <= 0):
         raise InputError("the exchange J must be positive and finite (meV); "
-                         f"got minimum {np.min(J)!r}")
+                         f"got minimum {float(np.min(J)):.6g}")
     if not np.all(np.isfinite(delta)) or np.any(delta <= -1):
         raise InputError("the XXZ anisotropy Δ must be finite and > -1; "
-                         f"got minimum {np.min(delta)!r}")
+                         f"got minimum {float(np.min(delta)):.6g}")
     return J, delta
 
 

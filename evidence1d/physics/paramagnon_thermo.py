@@ -257,7 +257,7 @@ def gas_thermodynamics(T, log_gamma, w, quantities=("c", "s")):
     return out
 
 
-def saturation_temperature(log_gamma, w, s_max, n_bisect=6, n_newton=6):
+def saturation_temperature(log_gamma, w, s_max, n_grid=9, n_newton=6):
     """T_x where S_gas + C_gas/2 = s_max: the gas exhausts the ions' entropy (module notes).
 
     Parameters
@@ -266,9 +266,10 @@ def saturation_temperature(log_gamma, w, s_max, n_bisect=6, n_newton=6):
         Compressed zone rule of the rates.
     s_max : float
         The ions' entropy R ln(2S + 1) in J/(mol K) (> 0).
-    n_bisect, n_newton : int
-        Bisection steps in ln T from the bracket [ln Γ_min − 10, ln Γ_max + 10] (k_BT in
-        meV), then safeguarded Newton steps (S_gas + C_gas/2 increases with T).
+    n_grid, n_newton : int
+        Equally spaced points in ln T over [ln Γ_min − 10, ln Γ_max + 10] (k_BT in meV),
+        evaluated at once, bracket the root (S_gas + C_gas/2 increases with T); then
+        safeguarded Newton steps from the secant point of the bracket.
 
     Returns
     -------
@@ -290,11 +291,14 @@ def saturation_temperature(log_gamma, w, s_max, n_bisect=6, n_newton=6):
         val = g["s"] + 0.5 * g["c"] - s_max
         return val, (g["c"] + 0.5 * g["dc"] if deriv else None)
 
-    for _ in range(n_bisect):
-        mid = 0.5 * (lo + hi)
-        val, _ = h(mid, False)
-        lo, hi = np.where(val < 0, mid, lo), np.where(val < 0, hi, mid)
-    x = 0.5 * (lo + hi)
+    grid = lo + (hi - lo) * np.linspace(0.0, 1.0, n_grid)
+    val, _ = h(grid, False)
+    k = np.clip(np.sum(val < 0, axis=1, keepdims=True) - 1, 0, n_grid - 2)
+    lo, hi = (np.take_along_axis(grid, k + j, axis=1) for j in (0, 1))
+    v_lo, v_hi = (np.take_along_axis(val, k + j, axis=1) for j in (0, 1))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        frac = np.clip(-v_lo / (v_hi - v_lo), 0.0, 1.0)
+    x = lo + np.where(np.isfinite(frac), frac, 0.5) * (hi - lo)
     for _ in range(n_newton):
         val, der = h(x, True)
         lo, hi = np.where(val < 0, x, lo), np.where(val < 0, hi, x)
@@ -326,8 +330,18 @@ def spin_fluctuation_thermo(T, log_gamma, w, s_max, quantities=("c", "s")):
     Ford, Lewis & O'Connell (1988); Moriya (1985), Ch. 3; Rushbrooke & Wood (1958).
     """
     T = np.asarray(T, float)[None, :]
-    tx = saturation_temperature(log_gamma, w, s_max)
-    at_x = gas_thermodynamics(tx, log_gamma, w, ("c", "s"))
+    n_sets = log_gamma.shape[0]
+    # T_x matters only for sets that reach it within the requested temperatures: where
+    # S_gas + C_gas/2 < s_max at the highest T, T_x lies above every T (the sum increases
+    # with T) and the gas holds throughout
+    tx = np.full((n_sets, 1), np.inf)
+    t_top = float(np.max(T)) if T.size else 0.0
+    if t_top > 0:
+        top = gas_thermodynamics(np.array([t_top]), log_gamma, w, ("s", "c"))
+        need = (top["s"] + 0.5 * top["c"] >= s_max)[:, 0]
+        if need.any():
+            tx[need] = saturation_temperature(log_gamma[need], w[need], s_max)
+    at_x = gas_thermodynamics(np.where(np.isfinite(tx), tx, 1.0), log_gamma, w, ("c", "s"))
     below = T <= tx
     Tb = np.where(below, T, tx)
     gas = gas_thermodynamics(Tb, log_gamma, w, tuple(quantities))

@@ -183,9 +183,10 @@ def test_family_adapter():
 
 def test_input_errors():
     q = np.array([1.0])
-    with pytest.raises(InputError):
+    with pytest.raises(InputError, match=r"got minimum -1$"):
         chain.spinon_bounds(q, np.array([[-1.0]]), np.array([[1.0]]))
-    with pytest.raises(InputError):
+    # the message prints a plain number, not a numpy scalar's repr
+    with pytest.raises(InputError, match=r"Δ must be finite and > -1; got minimum -1\.5$"):
         chain.spinon_bounds(q, np.array([[1.0]]), np.array([[-1.5]]))
     with pytest.raises(InputError):
         cs.spinon_spectrum(q, q, np.array([0.0]), 1.0, 1.0, 1.0)

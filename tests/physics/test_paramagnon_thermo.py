@@ -225,6 +225,40 @@ def test_entropy_ceiling_uniform_rate(spin):
         assert cross / g0 == pytest.approx(0.2437, abs=2e-4)
 
 
+def test_batch_with_saturation_above_and_below_the_requested_temperatures():
+    # ξ = 0 (one rate Γ_0 per set): T_x found independently by brentq on the closed-form
+    # gas (scipy's gamma functions; Ford, Lewis & O'Connell, Ann. Phys. 185, 270 (1988)),
+    # C(T) = C_gas(T) below T_x and C_gas(T_x)(T_x/T)² above it.  The batch mixes sets whose
+    # T_x lies far above the highest T (no crossing is solved for them), inside the range
+    # and below the lowest T, so each path of spin_fluctuation_thermo is used at once.
+    fam = ParamagnonFamily(lattice=LATTICE)
+    g0 = np.array([0.05, 0.4, 3.0, 25.0, 200.0])
+    n = g0.size
+    p = {"chi_uniform": col(*[1e-3] * n), "theta_sf": col(*[30.0] * n),
+         "xi_par": col(*[0.0] * n), "xi_perp": col(*[0.0] * n), "gamma0": col(*g0),
+         "g": col(*[2.1] * n)}
+    T = np.array([0.5, 2.0, 7.0, 20.0, 45.0])
+    smax = R_GAS * math.log(2.0)
+
+    def gas(kT, g):
+        u = g / (2 * math.pi * kT)
+        m1 = special.psi(u) - math.log(u) + 0.5 / u
+        mu = special.gammaln(u) - (u - 0.5) * math.log(u) + u - 0.5 * math.log(2 * math.pi)
+        return 3 * R_GAS * (mu - u * m1), 3 * R_GAS * (u * u * special.polygamma(1, u) - u - 0.5)
+
+    C = fam.heat_capacity(p, T)
+    for i, g in enumerate(g0):
+        kTx = optimize.brentq(lambda kT: gas(kT, g)[0] + 0.5 * gas(kT, g)[1] - smax,
+                              1e-4 * g, 10.0 * g, xtol=1e-14)
+        tx = kTx / K_B_MEV
+        want = [gas(K_B_MEV * t, g)[1] if t <= tx else gas(kTx, g)[1] * (tx / t) ** 2
+                for t in T]
+        np.testing.assert_allclose(C[i], want, rtol=1e-6, err_msg=f"Γ_0 = {g} meV")
+    # the three regimes are present: T_x above all T, inside the range, below all T
+    tx_all = fam.saturation_temperature(p)[:, 0]
+    assert tx_all[0] < T[0] and T[0] < tx_all[2] < T[-1] and tx_all[-1] > T[-1]
+
+
 def test_low_temperature_gamma_for_every_centre():
     # C/T → γ_sf = π R k_B ⟨1/Γ_Q⟩ (three components, (π/3) k_B²/Γ each); for the zone
     # boundary ⟨1/Γ⟩ from the Bessel form (A&S 9.6.19)
