@@ -319,24 +319,30 @@ def _correction(Es, s, wl, top, kT, sign, n_nodes, n_panels, split, ratio=None):
         for f0, f1 in zip(frac[:-1], frac[1:]):
             a = ra + (rb - ra) * f0
             b = ra + (rb - ra) * f1
-            live = b > a
+            # only the pairs whose window meets this panel (at low T most panels lie
+            # outside most windows)
+            ix = np.flatnonzero(b > a)
+            if not ix.size:
+                continue
+            a, b, wl_, top_, s_, E_ = a[ix], b[ix], wl[ix], top[ix], s[ix], Es[ix]
+            kT_ = kT[ix] if np.ndim(kT) else kT
             if in_t:
-                ta = np.arccosh(np.maximum(a / wl, 1.0))
-                tb = np.arccosh(np.maximum(b / wl, 1.0))
+                ta = np.arccosh(np.maximum(a / wl_, 1.0))
+                tb = np.arccosh(np.maximum(b / wl_, 1.0))
                 half = 0.5 * (tb - ta)
                 t = 0.5 * (ta + tb) + half * x
-                om = wl * np.cosh(t)
-                f = _ratio_t(t, wl, kT) - 1.0
+                om = wl_ * np.cosh(t)
+                f = _ratio_t(t, wl_, kT_) - 1.0
                 if sign < 0:
-                    f *= np.exp(-om / kT)
+                    f *= np.exp(-om / kT_)
             else:
                 half = 0.5 * (b - a)
                 om = 0.5 * (a + b) + half * x
-                f = _density(sign * om, wl, kT)
+                f = _density(sign * om, wl_, kT_)
             if ratio is not None:
-                f = f * ratio(om, wl, top, kT)
-            g = np.exp(-0.5 * ((Es - om) / s) ** 2) * norm
-            val += np.where(live, half * (w @ (f * g)), 0.0)
+                f = f * ratio(om, wl_, top_, kT_)
+            g = np.exp(-0.5 * ((E_ - om) / s_) ** 2) * norm[ix]
+            val[ix] += half * (w @ (f * g))
     return val
 
 

@@ -57,7 +57,10 @@ def log_zone_averages(eps, w, tau, gap):
     -------
     y_c, y_s, y_l : ndarray, shape (..., k)
         ln⟨x² eˣ/(eˣ − 1)²⟩ + gap/τ (C/R), ln⟨x/(eˣ − 1) − ln(1 − e⁻ˣ)⟩ + gap/τ (S/R) and
-        ln⟨n(n + 1)⟩ + gap/τ, x = eps/τ, computed in log space (no underflow).
+        ln⟨n(n + 1)⟩ + gap/τ, x = eps/τ.  Each term carries the factor e^{−(x − gap/τ)},
+        so with gap = min(eps) the sums are taken directly (the term at the gap is of order
+        its weight: no overflow, no underflow); entries whose sum underflows all the same
+        (gap far below min(eps)) are taken in log space (logsumexp).
 
     References
     ----------
@@ -65,6 +68,30 @@ def log_zone_averages(eps, w, tau, gap):
     """
     x = np.maximum(eps[..., None, :] / tau[..., :, None], _X_FLOOR)
     shift = (np.asarray(gap, float) / tau)[..., None]
+    # linear space: every term carries e^{−(x − gap/τ)} ≤ 1, and the node at the gap has
+    # that factor 1, so the sums neither overflow nor underflow when gap = min(eps); other
+    # entries (a sum that underflows) take the log-space path below
+    r = np.exp(-x)
+    q = -np.expm1(-x)                                         # 1 − e^{−x}
+    we = np.exp(shift - x) * np.asarray(w, float)[..., None, :]
+    inv_q = 1.0 / q
+    a = we * inv_q                                            # w e^{−(x − gap/τ)}/(1 − e^{−x})
+    with np.errstate(divide="ignore"):
+        # h = −ln(1 − e^{−x}) eˣ, → 1 + e^{−x}/2 for small e^{−x}
+        h = np.where(r > 1e-8, -np.log1p(-r) / np.where(r > 1e-8, r, 1.0), 1.0 + 0.5 * r)
+        b = a * inv_q
+        y_l = np.log(np.sum(b, axis=-1))
+        y_c = np.log(np.sum(b * x * x, axis=-1))
+        y_s = np.log(np.sum(a * x + we * h, axis=-1))
+    ok = np.isfinite(y_c) & np.isfinite(y_s) & np.isfinite(y_l)
+    if ok.all():
+        return y_c, y_s, y_l
+    slow = _log_space(x, w, shift)
+    return tuple(np.where(ok, f, s_) for f, s_ in zip((y_c, y_s, y_l), slow))
+
+
+def _log_space(x, w, shift):
+    """:func:`log_zone_averages` with every sum taken by logsumexp (any gap)."""
     lom1 = np.log(-np.expm1(-x))                              # ln(1 − e^{−x})
     lw = np.log(np.where(w > 0, w, 1.0))[..., None, :] + np.where(w > 0, 0.0, -np.inf)[
         ..., None, :]
