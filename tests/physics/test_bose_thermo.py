@@ -236,3 +236,36 @@ def test_table_path_finite_in_prior_support(J, Jp, D, T, z):
         assert np.all(np.isfinite(g[k]))
     for k in ("c_over_r", "s_over_r"):
         assert np.all(np.isfinite(g[k])) and np.all(g[k] >= 0)
+
+
+@pytest.mark.parametrize("gap_kind", ["at_the_gap", "zero", "far_below"])
+def test_zone_sums_against_textbook_bose_formulas(gap_kind, monkeypatch):
+    # Per mode of energy ε at k_BT = τ, x = ε/τ, n = 1/(eˣ − 1) (R. M. White, Quantum Theory
+    # of Magnetism (2007), Ch. 6): C/k_B = x² eˣ/(eˣ − 1)², S/k_B = x n − ln(1 − e⁻ˣ) and
+    # n(n + 1) = eˣ/(eˣ − 1)², summed with weights in extended precision (numpy longdouble)
+    # and shifted by gap/τ; 'far_below' puts the shift so far under the energies that the
+    # direct sums underflow and the log-space path must take over.
+    rng = np.random.default_rng(11)
+    eps = np.sort(rng.uniform(0.5, 3.0, (3, 40)), axis=1)
+    w = rng.uniform(0.1, 1.0, (3, 40))
+    w /= w.sum(axis=1, keepdims=True)
+    tau = np.broadcast_to(np.array([5e-4, 0.02, 0.3, 2.0, 40.0]), (3, 5))
+    gap = {"at_the_gap": eps[:, :1], "zero": np.zeros((3, 1)),
+           "far_below": eps[:, :1] * 1e-3}[gap_kind]
+    calls = []
+    monkeypatch.setattr(swt, "_log_space", lambda *a, f=swt._log_space: calls.append(1) or f(*a))
+    got = swt.log_zone_averages(eps, w, tau, gap)
+    # at τ = 5e-4 every e^{−(x − gap/τ)} underflows unless the shift is the gap itself
+    assert bool(calls) == (gap_kind != "at_the_gap")
+    for i in range(3):
+        for k in range(5):
+            x = eps[i].astype(np.longdouble) / np.longdouble(tau[i, k])
+            em = np.expm1(-x)                              # e⁻ˣ − 1
+            n = 1 / np.expm1(x)
+            terms = {"c": x * x * np.exp(-x) / (em * em), "s": x * n - np.log1p(-np.exp(-x)),
+                     "l": np.exp(-x) / (em * em)}
+            for j, key in enumerate("csl"):
+                total = np.sum(w[i] * terms[key])
+                want = float(np.log(total) + np.longdouble(gap[i, 0] / tau[i, k]))
+                if np.isfinite(want):
+                    assert got[j][i, k] == pytest.approx(want, abs=1e-9), (key, i, k)
