@@ -79,7 +79,15 @@ _DATASET = Spec({
     "nu": Field(as_positive_float, default=4.0, help="Student-t degrees of freedom"),
     "inflate_errors": Field(as_bool, default=False),
     "priors": Field(as_mapping, default={}, help="nuisance prior overrides"),
+    "absolute_scale": Field(as_any, default=None,
+                            help="true or {uncertainty: u}: intensities in mb/sr/meV (or "
+                                 "b/sr/meV) per magnetic ion, checked against each family"),
 }, what="a dataset block")
+
+_ABSOLUTE = Spec({"uncertainty": Field(real(0.0, 1.0, lower_open=True), default=None,
+                                       help="fractional calibration uncertainty (default "
+                                            "0.2)")},
+                 what="absolute_scale")
 
 _MODEL = Spec({"name": Field(as_str, default=None, help="bundled model name"),
                "card": Field(as_str, default=None, help="path of a model card of your own"),
@@ -310,6 +318,35 @@ def _check_q_resolution(b, doc, where) -> None:
                         f"dataset's wavevector unit; got {list(qf)!r} instead", key)
 
 
+def _check_absolute_scale(ds, b, doc, where) -> None:
+    """``absolute_scale: true | {uncertainty: u}`` for spectra whose intensity unit is an
+    absolute one (:mod:`evidence1d.analysis.absolute`); stored as a mapping or None."""
+    from .units import ABSOLUTE_UNCERTAINTY, absolute_intensity_factor
+    raw = b.get("absolute_scale")
+    key = f"{where}.absolute_scale"
+    if raw is None or raw is False:
+        ds.options["absolute_scale"] = None
+        return
+    if b["kind"] not in SPECTRUM_KINDS:
+        raise doc.error(f"an absolute scale applies to neutron spectra only; remove "
+                        f"'absolute_scale' from this {b['kind']} dataset", key)
+    if raw is True:
+        opt = {"uncertainty": ABSOLUTE_UNCERTAINTY}
+    elif isinstance(raw, dict):
+        opt = check_mapping(raw, _ABSOLUTE, key, doc)
+        if opt["uncertainty"] is None:
+            opt["uncertainty"] = ABSOLUTE_UNCERTAINTY
+    else:
+        raise doc.error(f"expected true or {{uncertainty: u}} (u a fraction, e.g. 0.15); got "
+                        f"{raw!r} instead", key)
+    unit = ds.units.get("intensity")
+    if absolute_intensity_factor(unit) is None:
+        raise doc.error(f"an absolute scale needs the intensity in mb/sr/meV or b/sr/meV per "
+                        f"magnetic ion; the intensity unit is {unit!r}",
+                        f"{where}.units.intensity")
+    ds.options["absolute_scale"] = opt
+
+
 def _check_spin(card, sample, doc, where) -> None:
     """A family whose physics holds for certain spins only rejects any other sample spin."""
     from .families import FAMILY_CLASSES
@@ -431,6 +468,7 @@ def load_case(path) -> Case:
             raise
         if b["kind"] in SPECTRUM_KINDS:
             _check_resolution(ds, doc, where)
+        _check_absolute_scale(ds, b, doc, where)
         for pk, spec in (b["priors"] or {}).items():
             ds.options["priors"][pk] = prior(spec, f"{where}.priors.{pk}")
         datasets.append(ds)

@@ -193,6 +193,7 @@ def _run_model(problem, sample, settings, streams, ev, store, progress, position
     from .inference.diagnostics import diagnose, psis_loo
     from .analysis import bound_flags, goodness_of_fit
     from .analysis.figure_data import model_figure_data
+    from .analysis.absolute import absolute_scale_check
     from .analysis.metal import metal_context
     from .analysis.parameters import parameter_table
     from .inference.laplace import laplace_evidence
@@ -249,6 +250,7 @@ def _run_model(problem, sample, settings, streams, ev, store, progress, position
         "prior_bounds": bound_flags(problem.full_names, full, problem.declared_priors,
                                     nested),
         "metal": metal_context(problem.full_names, full, problem.units),
+        "absolute_scale": absolute_scale_check(problem, problem.full_names, full),
         "sampler": {"moves": _describe_moves(moves), "n_walkers": int(walkers),
                     "n_steps": int(settings["steps"]), "population_size": int(len(pool)),
                     "move_acceptance": dict(post.move_acceptance),

@@ -51,6 +51,12 @@ CHI_UNITS = {"emu/mol": 1.0, "m3/mol": 1.0 / (4.0 * math.pi * 1e-6)}
 HEAT_UNITS = {"J/mol/K": 1.0, "mJ/mol/K": 1e-3}
 ENTROPY_UNITS = HEAT_UNITS
 WAVEVECTOR_UNITS = ("1/A", "rlu")
+#: absolute intensity units of a spectrum (per magnetic ion) and their value in mb/sr/meV
+ABSOLUTE_INTENSITY_UNITS = {"mb/sr/mev": 1.0, "mbarn/sr/mev": 1.0, "b/sr/mev": 1e3,
+                            "barn/sr/mev": 1e3}
+#: default fractional uncertainty of an absolute intensity calibration (vanadium or phonon
+#: normalisation is rarely better than 10–20 %; common practice)
+ABSOLUTE_UNCERTAINTY = 0.2
 
 _ALIASES = {
     "mev": "meV", "k": "K", "thz": "THz", "cm-1": "cm-1", "cm^-1": "cm-1", "1/cm": "cm-1",
@@ -62,6 +68,32 @@ _ALIASES = {
     "1/a": "1/A", "a-1": "1/A", "1/å": "1/A", "å-1": "1/A", "a^-1": "1/A",
     "rlu": "rlu", "r.l.u.": "rlu",
 }
+
+
+def absolute_intensity_factor(label) -> float | None:
+    """Value of one intensity unit ``label`` in mb/sr/meV per magnetic ion, or None.
+
+    Spaces, case and a trailing ``/ion`` or ``/magnetic_ion`` are ignored, so ``mb/sr/meV``,
+    ``mbarn / sr / meV / ion`` and ``b/sr/meV`` are recognised; any other label (``arb``,
+    ``counts``) is not an absolute unit.
+
+    Parameters
+    ----------
+    label : str or None
+        The dataset's intensity unit.
+
+    Returns
+    -------
+    float or None
+        1 for millibarn, 1000 for barn; None if not absolute.
+    """
+    if not isinstance(label, str):
+        return None
+    key = label.replace(" ", "").lower()
+    for tail in ("/magnetic_ion", "/ion"):
+        if key.endswith(tail):
+            key = key[: -len(tail)]
+    return ABSOLUTE_INTENSITY_UNITS.get(key)
 
 
 def canonical_unit(unit: str, table, what: str) -> str:

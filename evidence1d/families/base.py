@@ -134,6 +134,13 @@ class Family:
     #: names of the dataset kinds the family predicts (:data:`evidence1d.data.KINDS`)
     kinds: tuple[str, ...] = ()
 
+    #: c in Σ_αβ (δ_αβ − Q̂_α Q̂_β) S^αβ(Q, ω) = c × :meth:`spectrum` at the directional
+    #: average of the polarisation factor: 2/3 for a family that returns the three spin
+    #: components summed with no polarisation factor, 1 for one that returns the
+    #: polarisation-weighted sum (Squires 1978, Ch. 7); ``None``: not stated (a spectrum on
+    #: an absolute scale is then not checked against it; :mod:`evidence1d.analysis.absolute`)
+    cross_section_factor: float | None = None
+
     def __init__(self, spin: float = 0.5):
         self.spin = float(spin)
 

@@ -72,6 +72,8 @@ class CoupledChainsFamily(Family):
     """
 
     family_name = "coupled_chains"
+    #: three spin components summed, no polarisation factor (as the spinon family)
+    cross_section_factor = 2.0 / 3.0
     parameters = ("J", "J_perp", "delta", "g")
     spins = (0.5,)
     kinds = ("crystal_spectrum", "powder_spectrum", "susceptibility", "heat_capacity", "entropy")

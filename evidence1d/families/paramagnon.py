@@ -60,6 +60,8 @@ class ParamagnonFamily(Family):
     """
 
     family_name = "paramagnon"
+    #: 2 S per component is the polarisation-weighted sum of isotropic fluctuations
+    cross_section_factor = 1.0
     parameters = ("chi_uniform", "theta_sf", "xi_par", "xi_perp", "gamma0", "g")
     _centers = ("zone_boundary", "zone_centre")
 

@@ -61,6 +61,8 @@ class SpinWaveFamily(Family):
     """
 
     family_name = "gapped_spin_wave"
+    #: (1 + Q̂_z²) S^xx is the polarisation-weighted sum of the transverse modes
+    cross_section_factor = 1.0
     parameters = ("J", "J_perp", "delta", "damping", "g")
     spins = (0.5,)
     handles_q_resolution = True

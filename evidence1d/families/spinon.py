@@ -59,6 +59,8 @@ class SpinonFamily(Family):
     """
 
     family_name = "spinon_continuum"
+    #: three spin components summed, no polarisation factor
+    cross_section_factor = 2.0 / 3.0
     parameters = ("J", "delta", "g")
 
     #: the two-spinon continuum and the chain thermodynamics hold for S = 1/2 only

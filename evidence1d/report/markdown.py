@@ -13,7 +13,8 @@ References
 from __future__ import annotations
 
 from .referee import (bounds_alert, bounds_section, budget_section, fit_section,
-                      metal_section, reliability_section, sensitivity_section)
+                      metal_section, reliability_section, sensitivity_section,
+                      absolute_alert, absolute_section)
 from .referee import fmt as _f
 from .referee import md_table as _table
 from .summary import round_interval
@@ -482,9 +483,10 @@ def render_markdown(summary: dict, context: dict) -> str:
     for w in c["winner_fit_warnings"]:
         out += [f"> **BAD FIT**: {w}.", ""]
     out += [f"**Verdict** ({c['strength']}): {c['verdict']}", ""]
-    out += reliability_section(s) + fit_section(s) + bounds_alert(s)
+    out += reliability_section(s) + fit_section(s) + bounds_alert(s) + absolute_alert(s)
     out += _comparison(s) + budget_section(s) + sensitivity_section(s)
-    out += _parameters(s) + bounds_section(s) + metal_section(s) + _diagnostics(s)
+    out += (_parameters(s) + bounds_section(s) + metal_section(s) + absolute_section(s)
+            + _diagnostics(s))
     out += _constraints(s, context)
     out += _cards(s, context)
     methods, smc = _methods(s, context)

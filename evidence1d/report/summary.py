@@ -66,6 +66,7 @@ def _model_block(mr) -> dict:
         "goodness_of_fit": dict(an["goodness_of_fit"]),
         "prior_bounds": list(an["prior_bounds"]),
         "metal": an.get("metal"),
+        "absolute_scale": an.get("absolute_scale"),
         "sampler": _sampler_block(an["sampler"], ev),
     }
 

@@ -51,6 +51,14 @@ _P = "models.*.parameters.*"
 _D = "models.*.diagnostics"
 _C = "comparison"
 _G = "models.*.goodness_of_fit.*"
+_A = "models.*.absolute_scale.*"
+
+
+def _quantile_fields(path: str, unit: str) -> tuple:
+    """The median, q16 and q84 of a posterior quantity."""
+    return (_F(f"{path}.median", "number", unit, "posterior median"),
+            _F(f"{path}.q16", "number", unit, "16 % quantile"),
+            _F(f"{path}.q84", "number", unit, "84 % quantile"))
 
 #: every field of summary.json, in documentation order
 SUMMARY_FIELDS = (
@@ -189,6 +197,33 @@ SUMMARY_FIELDS = (
     _F(f"{_M}.metal.fraction_gamma_nonpositive", "number", "", "fraction of samples with "
        "γ_e ≤ 0, left out"),
     _F(f"{_M}.metal.note", "string", "", "how to read it"),
+    _F(f"{_M}.absolute_scale", "mapping[object]|null", "", "dataset -> the check of a "
+       "spectrum declared on an absolute scale (null: none declared): the fitted intensity "
+       "scale against the cross-section and the total-moment sum rule over the window"),
+    _F(f"{_A}.unit", "string", "", "the data's intensity unit"),
+    _F(f"{_A}.calibration_uncertainty", "number", "", "declared fractional uncertainty u of "
+       "the absolute calibration"),
+    _F(f"{_A}.cross_section_factor", "number", "", "c in Σ(δ_αβ − Q̂_αQ̂_β)S^αβ = c × the "
+       "family's S (2/3 or 1)", required=False),
+    _F(f"{_A}.expected_scale", "object", "unit·meV", "s_abs = (γr₀)²(g/2)²c over the g "
+       "samples", required=False),
+    *_quantile_fields(f"{_A}.expected_scale", "unit·meV"),
+    _F(f"{_A}.ratio", "object", "", "r = fitted scale / s_abs", required=False),
+    *_quantile_fields(f"{_A}.ratio", ""),
+    _F(f"{_A}.z", "number", "", "ln r(median) / √(u² + σ²_ln r)", required=False),
+    _F(f"{_A}.consistent", "boolean", "", "whether |z| ≤ 2", required=False),
+    _F(f"{_A}.window", "object", "", "single-crystal spectra: the measured window and the "
+       "share of the total moment in it", required=False),
+    _F(f"{_A}.window.Q_par", "array[number]", "1/Å", "[lowest, highest] Q along the chain"),
+    _F(f"{_A}.window.energy", "array[number]", "meV", "[lowest, highest] energy transfer"),
+    _F(f"{_A}.window.total_moment", "number", "", "S(S + 1), the total moment per spin"),
+    _F(f"{_A}.window.model_moment", "object", "", "the family's moment in the window "
+       "(three spin components summed, per spin)"),
+    *_quantile_fields(f"{_A}.window.model_moment", ""),
+    _F(f"{_A}.window.data_moment", "object", "", "the data's moment in the window, r × "
+       "model_moment"),
+    *_quantile_fields(f"{_A}.window.data_moment", ""),
+    _F(f"{_A}.note", "string", "", "how it was computed, or why not"),
     _F(f"{_M}.sampler", "object", "", "what the samplers of this family did (the methods "
        "text is written from it)"),
     _F(f"{_M}.sampler.moves", "array[object]", "", "the emcee move mixture"),

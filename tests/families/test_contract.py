@@ -73,3 +73,12 @@ def test_card_matches_family(name):
     card = load_card(bundled_cards()[name])
     assert tuple(card.parameters) == tuple(FAMILY_CLASSES[card.family].parameters)
     assert isinstance(card.one_dimensional, bool)
+
+
+@pytest.mark.parametrize("name", CARDS)
+def test_cross_section_convention_is_stated(name):
+    # spectra on an absolute scale are checked against (γr₀)²(g/2)²c: every bundled family
+    # states c (2/3: three spin components summed, 1: polarisation-weighted sum; Squires
+    # 1978, Ch. 7)
+    card = load_card(bundled_cards()[name])
+    assert FAMILY_CLASSES[card.family].cross_section_factor in (2.0 / 3.0, 1.0)

@@ -21,6 +21,12 @@ def small_case_text() -> str:
     models = ("  - spinon_continuum\n" if TABLE_PATH.is_file() else "") + \
         "  - gapped_spin_wave\n  - paramagnon\n"
     text = CASE_YAML.replace("  - spinon_continuum\n", models)
+    # the map on an absolute scale (a made-up calibration: the section is checked, not its
+    # numbers)
+    text = text.replace("intensity: arb}\n    temperature: 2.0\n",
+                        "intensity: mb/sr/meV}\n    temperature: 2.0\n"
+                        "    absolute_scale: {uncertainty: 0.2}\n", 1)
+    assert "absolute_scale" in text
     return text.replace("sampler: {steps: 200, particles: 100, islands: 2}", TINY)
 
 

@@ -39,6 +39,16 @@ def test_report_has_verdict_tables_and_sections(run_dir, summary):
     assert ("Dickey" in text) == any(m["savage_dickey"] for m in summary["models"].values())
     # limitations come from the model cards
     assert "Schulz's relation" in text
+    # the map is declared on an absolute scale: every family's scale ratio and window moment
+    assert "### Spectra on an absolute scale" in text
+    for name, m in summary["models"].items():
+        rec = m["absolute_scale"]["map"]
+        assert rec["unit"] == "mb/sr/meV" and rec["calibration_uncertainty"] == 0.2
+        r = rec["ratio"]
+        assert r["q16"] <= r["median"] <= r["q84"]
+        assert rec["window"]["total_moment"] == 0.75
+        assert f"| `{name}` | `map` | {r['median']:.3g} [" in text
+        assert ("yes" if rec["consistent"] else "**NO**") in text
 
 
 def test_unreliable_banner_follows_the_diagnostics(summary, context):
@@ -115,3 +125,14 @@ def test_quick_run_is_stamped_not_for_publication(run_dir, summary, context):
     assert "QUICK LOOK" not in render_markdown(summary, plain)
     assert "QUICK LOOK" in "\n".join(render_markdown(summary, dict(context, quick=True))
                                      .splitlines()[:4])
+
+
+def test_absolute_scale_alert_follows_the_winner(summary):
+    from evidence1d.report.referee import absolute_alert
+    s = copy.deepcopy(summary)
+    rec = s["models"][s["comparison"]["best"]]["absolute_scale"]["map"]
+    rec["consistent"] = True
+    assert absolute_alert(s) == []
+    rec["consistent"], rec["ratio"]["median"] = False, 0.42
+    line = absolute_alert(s)[0]
+    assert line.startswith("> **ABSOLUTE SCALE**") and "`map` needs r = 0.42" in line
