@@ -145,14 +145,28 @@ def _chain_at(TN, J, delta, quantities):
 
 
 def _gas(T, TN, J, Jp, d, z_perp, funcs, method):
-    """ln of the renormalised magnon-gas averages at T (n,) and at T_N: (.., n) and (.., 1)."""
-    Je, Jpe = ordered_magnon.effective_exchanges(J, Jp, z_perp)
-    T_all = np.concatenate([np.broadcast_to(T, (J.shape[0], T.size)),
-                            np.maximum(TN, _T_FLOOR)], axis=1)
-    g = bose_thermo.magnon_gas(T_all, Je, Jpe, d, ordered_magnon.SPIN, method=method,
-                               z_perp=z_perp, funcs=funcs)
+    """ln of the renormalised magnon-gas averages at T (n,) and at T_N: (.., n) and (.., 1).
+
+    Only the ordered sets (T_N > 0) are computed; the others, whose results the callers
+    never use (no temperature is below their T_N = 0 and their weight c_N is 0), get 0.
+    """
     keys = ("log_c", "log_s", "log_nn1")
-    return {keys[k]: (g[keys[k]][:, :-1], g[keys[k]][:, -1:]) for k in funcs}
+    n_sets = J.shape[0]
+    rows = np.flatnonzero(TN[:, 0] > 0)
+    out = {keys[k]: (np.zeros((n_sets, T.size)), np.zeros((n_sets, 1))) for k in funcs}
+    if not rows.size:
+        return out
+    J_, Jp_, d_, TN_ = J[rows], Jp[rows], d[rows], TN[rows]
+    Je, Jpe = ordered_magnon.effective_exchanges(J_, Jp_, z_perp)
+    T_all = np.concatenate([np.broadcast_to(T, (rows.size, T.size)),
+                            np.maximum(TN_, _T_FLOOR)], axis=1)
+    g = bose_thermo.magnon_gas(T_all, Je, Jpe, d_, ordered_magnon.SPIN, method=method,
+                               z_perp=z_perp, funcs=funcs)
+    for k in funcs:
+        lt, ln = out[keys[k]]
+        lt[rows] = g[keys[k]][:, :-1]
+        ln[rows] = g[keys[k]][:, -1:]
+    return out
 
 
 def ordered_susceptibility(T, J, J_perp, delta, g, direction="powder", z_perp=4,

@@ -38,6 +38,32 @@ def test_zero_interchain_coupling_is_the_spinon_family(delta, interchain):
     np.testing.assert_allclose(fam.entropy(p, T), ref.entropy(p, T), rtol=1e-13)
 
 
+def test_unordered_sets_in_a_batch_with_ordered_ones_are_the_chain():
+    # A batch mixing sets that order (J_perp > 0) with sets that do not (J_perp = 0): the
+    # unordered ones must still be the spinon family's chain numbers exactly, and the
+    # ordered ones the same as when computed alone (the magnon gas is computed for the
+    # ordered sets only).
+    T = np.geomspace(0.05, 300.0, 30)
+    p = _p([4.0, 4.0, 9.0, 9.0], [0.0, 0.3, 0.0, 0.6], 1.2, g=[2.1, 2.1, 2.0, 2.0])
+    fam, ref = SpinWaveFamily(), SpinonFamily()
+    free = [0, 2]
+    sub = {k: v[free] for k, v in p.items()}
+    np.testing.assert_allclose(fam.heat_capacity(p, T)[free], ref.heat_capacity(sub, T),
+                               rtol=1e-13)
+    np.testing.assert_allclose(fam.entropy(p, T)[free], ref.entropy(sub, T), rtol=1e-13)
+    np.testing.assert_allclose(fam.susceptibility(p, T, "powder")[free],
+                               ref.susceptibility(sub, T, "powder"), rtol=1e-13)
+    for i in (1, 3):
+        one = {k: v[i:i + 1] for k, v in p.items()}
+        c_one = fam.heat_capacity(one, T)[0]
+        # ordered: the magnon gas shapes C below T_N (not the chain's)
+        assert not np.allclose(c_one, ref.heat_capacity(one, T)[0], rtol=1e-3)
+        np.testing.assert_allclose(fam.heat_capacity(p, T)[i], c_one, rtol=1e-13)
+        np.testing.assert_allclose(fam.entropy(p, T)[i], fam.entropy(one, T)[0], rtol=1e-13)
+        np.testing.assert_allclose(fam.susceptibility(p, T, "powder")[i],
+                                   fam.susceptibility(one, T, "powder")[0], rtol=1e-13)
+
+
 def test_rpa_against_rational_fit_of_the_heisenberg_chain():
     # Independent chain χ: the Bonner–Fisher rational fit (Estes et al., Inorg. Chem. 17,
     # 1415 (1978); ~1 % for 0.3 ≤ t ≤ 2), dressed by hand with the mean field
