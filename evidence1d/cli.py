@@ -212,6 +212,11 @@ def _data_notes(case):
             rules = ", ".join(f"{k}: {v}" for k, v in ds.masked.items())
             lines.append(f"dataset '{ds.name}': dropped {ds.n_masked} masked point(s) "
                          f"({rules}); {ds.n} kept")
+        absolute = ds.options.get("absolute_scale")
+        if absolute:
+            lines.append(f"dataset '{ds.name}': on an absolute scale ({ds.units['intensity']}, "
+                         f"calibration ±{absolute['uncertainty']:.0%}); each family's intensity "
+                         "scale will be checked against the magnetic cross-section")
         if ds.unused_columns:
             cols = ", ".join(repr(c) for c in ds.unused_columns)
             lines.append(f"warning: dataset '{ds.name}': column(s) {cols} of {ds.path.name} "

@@ -191,9 +191,7 @@ SUMMARY_FIELDS = (
        "otherwise)"),
     _F(f"{_M}.metal.wilson_ratio", "object|null", "", "Wilson ratio R_W = 4π² k_B² χ₀ / "
        "(3 (2 μ_B)² γ_e) over the samples with γ_e > 0 (null: none)"),
-    _F(f"{_M}.metal.wilson_ratio.median", "number", "", "posterior median"),
-    _F(f"{_M}.metal.wilson_ratio.q16", "number", "", "16 % quantile"),
-    _F(f"{_M}.metal.wilson_ratio.q84", "number", "", "84 % quantile"),
+    *_quantile_fields(f"{_M}.metal.wilson_ratio", ""),
     _F(f"{_M}.metal.fraction_gamma_nonpositive", "number", "", "fraction of samples with "
        "γ_e ≤ 0, left out"),
     _F(f"{_M}.metal.note", "string", "", "how to read it"),

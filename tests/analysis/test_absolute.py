@@ -47,6 +47,10 @@ def test_case_option_errors(tmp_path, capsys):
     edit_file(path, "intensity: arb", "intensity: mb/sr/meV")
     case = evidence1d.load_case(path)
     assert case.datasets[0].options["absolute_scale"] == {"uncertainty": 0.1}
+    from evidence1d.cli import main
+    assert main(["check", str(path)]) == 0
+    assert "dataset 'map': on an absolute scale (mb/sr/meV, calibration ±10%)" in \
+        capsys.readouterr().out
     edit_file(path, "{uncertainty: 0.1}", "{uncertainty: 1.5}")
     code, err = check_command(capsys, path)
     assert code != 0 and "datasets[0].absolute_scale.uncertainty" in err
