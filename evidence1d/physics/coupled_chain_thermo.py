@@ -158,7 +158,7 @@ def ordering_coupling(J, delta):
 
 
 _TN_CACHE: "OrderedDict" = OrderedDict()
-_TN_CACHE_SIZE = 8
+_TN_CACHE_SIZE = 4096          # parameter sets
 
 
 def neel_temperature(J, J_perp, delta, *, z_perp=4, line_shape="exact",
@@ -194,18 +194,29 @@ def neel_temperature(J, J_perp, delta, *, z_perp=4, line_shape="exact",
     Jp = np.broadcast_to(np.asarray(J_perp, float).reshape(-1, 1), J.shape)
     if np.any(~np.isfinite(Jp)) or np.any(Jp < 0):
         raise InputError("the interchain exchange J_perp must be finite and >= 0 (meV)")
-    # one likelihood asks for the same sets' T_N several times (spectra, ordered state,
-    # thermodynamics): a small cache of the last answers, keyed by the exact inputs
-    key = (J.tobytes(), np.ascontiguousarray(Jp).tobytes(), delta.tobytes(), z_perp,
-           line_shape, thermal_edge)
-    if key in _TN_CACHE:
-        _TN_CACHE.move_to_end(key)
-        return _TN_CACHE[key].copy()
-    TN = _solve_neel(J, Jp, delta, z_perp, line_shape, thermal_edge)
-    _TN_CACHE[key] = TN
-    while len(_TN_CACHE) > _TN_CACHE_SIZE:
-        _TN_CACHE.popitem(last=False)
-    return TN.copy()
+    # one likelihood asks for the same sets' T_N several times (spectra, the ordered subset,
+    # thermodynamics): a cache of the last answers per set, keyed by its exact inputs (each
+    # set's T_N depends on its own parameters only), so a subset of a batch is not solved
+    # again
+    opts = (z_perp, line_shape, thermal_edge)
+    keys = [(a, b, c) + opts for a, b, c in zip(J.ravel().tolist(), Jp.ravel().tolist(),
+                                                delta.ravel().tolist())]
+    TN = np.empty((len(keys), 1))
+    miss = []
+    for i, k in enumerate(keys):
+        v = _TN_CACHE.get(k)
+        if v is None:
+            miss.append(i)
+        else:
+            TN[i, 0] = v
+    if miss:
+        ix = np.asarray(miss)
+        TN[ix] = _solve_neel(J[ix], Jp[ix], delta[ix], z_perp, line_shape, thermal_edge)
+        for i in miss:
+            _TN_CACHE[keys[i]] = float(TN[i, 0])
+        while len(_TN_CACHE) > _TN_CACHE_SIZE:
+            _TN_CACHE.popitem(last=False)
+    return TN
 
 
 def _solve_neel(J, Jp, delta, z_perp, line_shape, thermal_edge):

@@ -122,3 +122,23 @@ def test_thermodynamics_are_continuous_at_the_neel_temperature():
     assert S[0] == pytest.approx(S[1], rel=1e-4)
     low = ct.coupled_heat_capacity(np.array([0.3 * TN]), J, Jp, D)[0, 0]
     assert 0 < low < C[0]
+
+
+def test_neel_temperature_cache_per_set():
+    # the cache answers per parameter set: a subset or a reordering of a batch gets the
+    # numbers of an uncached solve, and another geometry or line shape is not confused
+    from evidence1d.physics import coupled_chain_thermo as cct
+    J = np.array([[1.0], [2.0], [1.5], [3.0]])
+    Jp = np.array([[0.1], [0.0], [0.3], [0.05]])
+    D = np.array([[1.0], [1.2], [0.8], [1.0]])
+    cct._TN_CACHE.clear()
+    full = cct.neel_temperature(J, Jp, D)
+    direct = cct._solve_neel(J, Jp, D, 4, "exact", "near_pi")
+    np.testing.assert_array_equal(full, direct)
+    idx = [3, 0, 2]
+    np.testing.assert_array_equal(cct.neel_temperature(J[idx], Jp[idx], D[idx]), direct[idx])
+    planar = cct.neel_temperature(J, Jp, D, z_perp=2)
+    np.testing.assert_array_equal(planar, cct._solve_neel(J, Jp, D, 2, "exact", "near_pi"))
+    assert not np.array_equal(planar, full)
+    muller = cct.neel_temperature(J, Jp, D, line_shape="muller")
+    np.testing.assert_array_equal(muller, cct._solve_neel(J, Jp, D, 4, "muller", "near_pi"))
