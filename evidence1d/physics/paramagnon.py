@@ -365,6 +365,28 @@ def _remainder_nodes(e_bytes, s_bytes, shape, kT, n_nodes):
     return Ep2, wR
 
 
+def _nodes_at(E, sigma, kT, n_nodes):
+    """:func:`_remainder_nodes` at the points (E, σ), computed once per run of equal points.
+
+    A powder average asks for many directions at each measured point, so (E, σ) comes in
+    runs of equal values; the nodes are then built for one point per run and gathered.  A
+    dataset's own points (runs of one) use the cache of :func:`_remainder_nodes`.
+    """
+    sigma = np.ascontiguousarray(np.broadcast_to(sigma, E.shape))
+    if E.ndim == 1 and E.size > 1:
+        head = np.empty(E.size, bool)
+        head[0] = True
+        np.not_equal(E[1:], E[:-1], out=head[1:])
+        head[1:] |= sigma[1:] != sigma[:-1]
+        heads = np.flatnonzero(head)
+        if 2 * heads.size <= E.size:
+            Eh, sh = E[heads], sigma[heads]
+            Ep2, wR = _remainder_nodes(Eh.tobytes(), sh.tobytes(), Eh.shape, kT, n_nodes)
+            run = np.cumsum(head) - 1
+            return Ep2[:, run], wR[:, run]
+    return _remainder_nodes(E.tobytes(), sigma.tobytes(), E.shape, kT, n_nodes)
+
+
 def convolved_structure_factor(E, sigma, T, chi_q, gamma_q, n_nodes=12):
     """Gaussian-resolution convolution of :func:`structure_factor` (one spin component).
 
@@ -410,7 +432,7 @@ def convolved_structure_factor(E, sigma, T, chi_q, gamma_q, n_nodes=12):
     z.real, z.imag = E * inv, gamma_q * inv
     w_z = special.wofz(z)
     exact = chi_q * (kT * w_z.real + 0.5 * gamma_q * w_z.imag) / (_SQRT_2PI * sigma)
-    Ep2, wR = _remainder_nodes(E.tobytes(), sigma.tobytes(), E.shape, kT, int(n_nodes))
+    Ep2, wR = _nodes_at(E, sigma, kT, int(n_nodes))
     # Σ_k wR_k / (E_k² + Γ²), one node at a time: (n_sets, n) temporaries stay small
     g2 = gamma_q * gamma_q
     acc = np.zeros(np.broadcast(g2, E).shape)

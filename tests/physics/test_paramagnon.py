@@ -167,3 +167,16 @@ def test_finite_everywhere_in_prior_support(chi, th, xp, xt, g0, T):
               fam.entropy(p, Ts)):
         assert np.all(np.isfinite(a))
     assert np.all(fam.spectrum(p, pts) >= -1e-12 * np.max(np.abs(fam.spectrum(p, pts))))
+
+
+def test_remainder_nodes_shared_by_runs_of_equal_points():
+    # a powder average asks for many directions at each measured (E, σ): the nodes built once
+    # per run and gathered are the nodes of every point, bit for bit
+    from evidence1d.physics import paramagnon as pmod
+    E = np.repeat([-0.4, 0.3, 0.3, 1.2, 2.5], [7, 5, 3, 9, 6])
+    sigma = np.repeat([0.05, 0.05, 0.07, 0.08, 0.1], [7, 5, 3, 9, 6])
+    kT = 0.7
+    got = pmod._nodes_at(E, sigma, kT, 12)
+    want = pmod._remainder_nodes(E.tobytes(), sigma.tobytes(), E.shape, kT, 12)
+    for a, b in zip(got, want):
+        np.testing.assert_array_equal(a, b)
