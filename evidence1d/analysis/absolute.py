@@ -59,6 +59,7 @@ __all__ = ["GAMMA_R0_SQ_MB", "ABSOLUTE_UNITS", "DEFAULT_UNCERTAINTY", "Z_FLAG",
 GAMMA_R0_SQ_MB = (abs(constants.physical_constants[
     "neutron mag. mom. to nuclear magneton ratio"][0])
     * constants.physical_constants["classical electron radius"][0]) ** 2 / 1e-31
+#: absolute intensity units (per magnetic ion) and their value in mb/sr/meV
 ABSOLUTE_UNITS = ABSOLUTE_INTENSITY_UNITS
 #: default fractional calibration uncertainty of an absolute scale (common practice)
 DEFAULT_UNCERTAINTY = ABSOLUTE_UNCERTAINTY
