@@ -82,6 +82,12 @@ def verdict_lines(results) -> str:
         lines.append(f"WARNING: BAD FIT: the winner {cmp_.best} fits {', '.join(bad)} badly; "
                      "the data prefer it to the others, not that it describes them "
                      "(see the goodness-of-fit table in report.md)")
+    absolute = (getattr(best, "analysis", None) or {}).get("absolute_scale") or {}
+    off = [f"{ds} (r = {rec['ratio']['median']:.3g})" for ds, rec in absolute.items()
+           if "ratio" in rec and not rec["consistent"]]
+    if off:
+        lines.append(f"WARNING: ABSOLUTE SCALE: the winner {cmp_.best} needs an intensity "
+                     f"scale the calibration rules out on {', '.join(off)} (see report.md)")
     return "\n".join(lines)
 
 

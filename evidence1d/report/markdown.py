@@ -482,8 +482,9 @@ def render_markdown(summary: dict, context: dict) -> str:
                 "check the warnings under Diagnostics.", ""]
     for w in c["winner_fit_warnings"]:
         out += [f"> **BAD FIT**: {w}.", ""]
+    out += absolute_alert(s)
     out += [f"**Verdict** ({c['strength']}): {c['verdict']}", ""]
-    out += reliability_section(s) + fit_section(s) + bounds_alert(s) + absolute_alert(s)
+    out += reliability_section(s) + fit_section(s) + bounds_alert(s)
     out += _comparison(s) + budget_section(s) + sensitivity_section(s)
     out += (_parameters(s) + bounds_section(s) + metal_section(s) + absolute_section(s)
             + _diagnostics(s))

@@ -136,3 +136,21 @@ def test_absolute_scale_alert_follows_the_winner(summary):
     rec["consistent"], rec["ratio"]["median"] = False, 0.42
     line = absolute_alert(s)[0]
     assert line.startswith("> **ABSOLUTE SCALE**") and "`map` needs r = 0.42" in line
+
+
+def test_absolute_scale_warning_on_the_terminal(run_dir):
+    # the line `run` prints follows the winner's absolute-scale check, like BAD FIT
+    import dataclasses
+    from evidence1d.report.console import verdict_lines
+    from evidence1d.results import load_results
+    res = load_results(run_dir[0])
+    best = res.models[res.comparison.best]
+    rec = best.analysis["absolute_scale"]["map"]
+    for flag in (True, False):
+        rec = {**rec, "consistent": flag, "ratio": {**rec["ratio"], "median": 0.42}}
+        an = {**best.analysis, "absolute_scale": {"map": rec}}
+        models = {**res.models, best.name: dataclasses.replace(best, analysis=an)}
+        text = verdict_lines(dataclasses.replace(res, models=models))
+        assert ("WARNING: ABSOLUTE SCALE" in text) is (not flag)
+        if not flag:
+            assert "map (r = 0.42)" in text
