@@ -27,8 +27,8 @@ of ln r; |z| > 2 is flagged (common practice).
 Total-moment sum rule: Σ_α ∫dω ⟨S^αα(Q, ω)⟩_zone = S(S + 1) per spin (Hohenberg & Brinkman
 1974; Lovesey 1984, Ch. 4).  For a single-crystal map the window moment of the family,
 M = (1/2π) ∫dq ∫dE S_tot(q, E) over the measured range of q = Q_∥ d and E (S_tot the three
-components summed, (3/2) c S_model at the directional average of the polarisation factor;
-at the data's median Q_⊥; resolution-convolved, which conserves the weight inside the
+components summed, :meth:`~evidence1d.families.base.Family.unpolarised_spectrum`: the chain
+families' own sum, (3/2) c S_model for the others; at the data's median Q_⊥; resolution-convolved, which conserves the weight inside the
 window), is computed on a grid (Gauss–Legendre panels in q graded towards the multiples of π, where
 chain spectra are singular; trapezoid rule in E with a step no larger than the smallest
 resolution σ, which integrates a Gaussian of width σ to 1e-8); the data hold r M of S(S + 1) in the same window (the family's fit interpolates the
@@ -103,7 +103,8 @@ def window_moment(family, predictor, p: dict, n_q: int = _N_Q) -> np.ndarray:
     """The family's share of the total moment in a single-crystal dataset's window.
 
     M = (1/2π) ∫dq ∫dE S_tot(q, E) over the dataset's range of q = Q_∥ d and E, with
-    S_tot = (3/2) c S_model (module notes), at the median interchain wavevector of the data
+    S_tot the family's :meth:`~evidence1d.families.base.Family.unpolarised_spectrum` (module
+    notes), at the median interchain wavevector of the data
     and the dataset's temperature and resolution.
 
     Parameters
@@ -148,9 +149,8 @@ def window_moment(family, predictor, p: dict, n_q: int = _N_Q) -> np.ndarray:
                          a_perp=pts0.a_perp, b_perp=pts0.b_perp, energy=Eg,
                          sigma=neutron.resolution_sigma(Eg, fw),
                          temperature=pts0.temperature)
-    S = family.spectrum(p, pts).reshape(-1, q_nodes.size, n_e)
-    return 1.5 * family.cross_section_factor * np.einsum("kqe,q,e->k", S, w_q, w_e) \
-        / (2.0 * math.pi)
+    S = family.unpolarised_spectrum(p, pts).reshape(-1, q_nodes.size, n_e)
+    return np.einsum("kqe,q,e->k", S, w_q, w_e) / (2.0 * math.pi)
 
 
 def _q_rule(a: float, b: float, n_q: int):

@@ -94,6 +94,29 @@ class SpectralPoints:
         """|Q| in Å⁻¹."""
         return np.sqrt(self.Q_par ** 2 + self.Q_a ** 2 + self.Q_b ** 2)
 
+    def axis_cos2(self, axis) -> np.ndarray:
+        """Squared cosine between Q and a spin axis, shape (n,).
+
+        Parameters
+        ----------
+        axis : {'par', 'a', 'b'} or None
+            Along the chain, along the first or second interchain direction; ``None``
+            gives the mean over directions, 1/3 (also used where Q = 0).
+
+        Returns
+        -------
+        ndarray
+            Q̂_axis² (dimensionless), for the polarisation factor δ_αβ − Q̂_α Q̂_β
+            (Squires 1978, Ch. 7).
+        """
+        shape = np.shape(self.energy)
+        if axis is None:
+            return np.full(shape, 1.0 / 3.0)
+        comp = np.broadcast_to({"par": self.Q_par, "a": self.Q_a, "b": self.Q_b}[axis], shape)
+        Q = np.broadcast_to(self.Q, shape)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            return np.where(Q > 0, (comp / np.where(Q > 0, Q, 1.0)) ** 2, 1.0 / 3.0)
+
 
 class Family:
     """Base class of a model family.
@@ -127,8 +150,9 @@ class Family:
     handles_q_resolution: bool = False
 
     #: whether :meth:`spectrum` depends on the wavevector only through the chain phase
-    #: q = Q_∥ d (not on |Q| nor on Q_a, Q_b); the powder average is then the exact
-    #: one-dimensional one (:func:`evidence1d.physics.powder.adaptive_chain_average`)
+    #: q = Q_∥ d and, through :meth:`chain_terms`, quadratically on Q̂ (a polarisation
+    #: factor); the powder average is then the exact one-dimensional one
+    #: (:func:`evidence1d.physics.powder.adaptive_chain_average`)
     chain_only: bool = False
 
     #: names of the dataset kinds the family predicts (:data:`evidence1d.data.KINDS`)
@@ -213,6 +237,29 @@ class Family:
             magnetic form factor and without the dataset's intensity scale.
         """
         raise NotImplementedError
+
+    def unpolarised_spectrum(self, p: dict, pts: SpectralPoints) -> np.ndarray:
+        """The three spin components summed, Σ_a S^aa(Q, E), per magnetic ion in 1/meV.
+
+        The base family takes it as (3/2) c × :meth:`spectrum` with c its
+        :attr:`cross_section_factor` (exact for isotropic fluctuations, the mean over
+        directions otherwise); families that know their components override it.
+
+        Raises
+        ------
+        NotImplementedError
+            The family states no :attr:`cross_section_factor`.
+        """
+        if self.cross_section_factor is None:
+            raise NotImplementedError(f"{type(self).__name__} states no cross_section_factor")
+        return 1.5 * self.cross_section_factor * self.spectrum(p, pts)
+
+    def chain_terms(self, p: dict, pts: SpectralPoints):
+        """(S₀, S₂): the mean of :meth:`spectrum` over the azimuth of Q about the chain is
+        S₀ + u² S₂, u = Q_∥/|Q|, for a :attr:`chain_only` family (the one-dimensional powder
+        average, :func:`evidence1d.physics.powder.chain_average`).  The base family has no
+        dependence on Q̂: (spectrum, None)."""
+        return self.spectrum(p, pts), None
 
     def susceptibility(self, p: dict, T: np.ndarray, direction: str = "powder") -> np.ndarray:
         """Model part of the molar susceptibility in emu/mol of magnetic ion.

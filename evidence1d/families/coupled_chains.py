@@ -34,13 +34,14 @@ from ..physics.chain_spectrum import LINE_SHAPES
 from ..physics.coupled_chain_spectrum import coupled_spectrum, spectrum_grid
 from ..physics.magnon import check_interchain
 from .base import Family, SpectralPoints
+from .chain_polarisation import ChainPolarisation, check_anisotropy_axis
 
 __all__ = ["CoupledChainsFamily"]
 
 _GRID_CACHE = 8          # energy grids kept per family object (one per dataset and Q node)
 
 
-class CoupledChainsFamily(Family):
+class CoupledChainsFamily(ChainPolarisation, Family):
     """Weakly coupled S = 1/2 XXZ chains in the random-phase approximation.
 
     Parameters
@@ -52,6 +53,9 @@ class CoupledChainsFamily(Family):
         (planar, ±a), as the ordered family.
     line_shape : {'exact', 'muller'}, optional
         The chain's line shape, as the spinon family (default 'exact').
+    anisotropy_axis : {'par', 'a', 'b'}, optional
+        Direction of the spin-anisotropy axis, as the spinon family (default along the
+        chain).
 
     Raises
     ------
@@ -61,9 +65,14 @@ class CoupledChainsFamily(Family):
     Notes
     -----
     Parameters (model card ``models/coupled_chains.yaml``): ``J`` (meV), ``J_perp`` (meV),
-    ``delta`` (Δ, 1), ``g`` (1).  ``spectrum`` sums the three spin components (no
-    polarisation factor, as the spinon family); the momentum resolution, if a dataset
-    declares one, is applied by the generic Gauss–Hermite average over Q.
+    ``delta`` (Δ, 1), ``g`` (1).  ``spectrum`` is the polarisation-weighted cross-section:
+    the dressed spectrum with the three spin components summed times the chain's uniaxial
+    polarisation factor (:mod:`.chain_polarisation`, with the chain's longitudinal share
+    f_zz(q)), as the spinon family.  That is exact at J_⊥ = 0 (the spinon family) and at
+    Δ = 1 (isotropic); for Δ ≠ 1 and J_⊥ > 0 the dressing changes the components' mix
+    (the longitudinal one is dressed by ΔJ_⊥) and the chain's share is an approximation.
+    The momentum resolution, if a dataset declares one, is applied by the generic
+    Gauss–Hermite average over Q.
 
     References
     ----------
@@ -72,13 +81,12 @@ class CoupledChainsFamily(Family):
     """
 
     family_name = "coupled_chains"
-    #: three spin components summed, no polarisation factor (as the spinon family)
-    cross_section_factor = 2.0 / 3.0
     parameters = ("J", "J_perp", "delta", "g")
     spins = (0.5,)
     kinds = ("crystal_spectrum", "powder_spectrum", "susceptibility", "heat_capacity", "entropy")
 
-    def __init__(self, spin: float = 0.5, interchain=4, line_shape: str = "exact"):
+    def __init__(self, spin: float = 0.5, interchain=4, line_shape: str = "exact",
+                 anisotropy_axis: str = "par"):
         super().__init__(spin)
         if abs(self.spin - 0.5) > 1e-9:
             raise InputError(f"the coupled_chains family describes S = 1/2 chains only; got "
@@ -89,6 +97,7 @@ class CoupledChainsFamily(Family):
         self.z_perp = check_interchain(interchain)
         self.interchain = self.z_perp
         self.line_shape = line_shape
+        self.anisotropy_axis = check_anisotropy_axis(anisotropy_axis, self.family_name)
         self._grids = OrderedDict()
 
     def __getstate__(self):
@@ -107,7 +116,7 @@ class CoupledChainsFamily(Family):
                 self._grids.popitem(last=False)
         return self._grids[key]
 
-    def spectrum(self, p: dict, pts: SpectralPoints) -> np.ndarray:
+    def _unpolarised(self, p: dict, pts: SpectralPoints) -> np.ndarray:
         """Resolution-convolved S(Q, E) per spin in 1/meV (three components summed).
 
         See :func:`evidence1d.physics.coupled_chain_spectrum.coupled_spectrum`.

@@ -262,7 +262,8 @@ class PowderAverage:
 
     A family with ``chain_only`` true gets the exact one-dimensional average over the chain
     phase (:func:`evidence1d.physics.powder.adaptive_chain_average`, one grid per energy
-    for every |Q|); any other family the adaptive sphere average
+    for every |Q|, with the family's polarisation factor averaged over the azimuth of Q by
+    :meth:`~evidence1d.families.base.Family.chain_terms`); any other family the adaptive sphere average
     (:func:`evidence1d.physics.powder.adaptive_sphere_average`), with the interchain
     phases along the sample's interchain lattice vectors.  Both are refined until the
     tolerance of ``options`` (the case file's ``powder_average`` block) is met.
@@ -330,9 +331,9 @@ class PowderAverage:
         if self.chain_only:
             def evaluate(rows, q, g):
                 zero = np.zeros_like(q)
-                return fam.spectrum(_rows(p, rows, k),
-                                    self._points(q / self.d, zero, zero, self._E_group[g],
-                                                 self._sigma_group[g]))
+                return fam.chain_terms(_rows(p, rows, k),
+                                       self._points(q / self.d, zero, zero, self._E_group[g],
+                                                    self._sigma_group[g]))
             avg, grid = powder.adaptive_chain_average(
                 evaluate, self.Q * self.d, self._group, self._E_group.size, k, self.settings)
             grid = np.take(grid, self._group, axis=1)

@@ -88,13 +88,7 @@ class SpinWaveFamily(Family):
         self.moment_axis = moment_axis
 
     def _polarisation(self, pts: SpectralPoints) -> np.ndarray:
-        if self.moment_axis is None:
-            return np.full(np.shape(pts.energy), 4.0 / 3.0)
-        comp = {"par": pts.Q_par, "a": pts.Q_a, "b": pts.Q_b}[self.moment_axis]
-        Q = pts.Q
-        with np.errstate(invalid="ignore", divide="ignore"):
-            c2 = np.where(Q > 0, (comp / np.where(Q > 0, Q, 1.0)) ** 2, 1.0 / 3.0)
-        return 1.0 + c2
+        return 1.0 + pts.axis_cos2(self.moment_axis)
 
     def spectrum(self, p: dict, pts: SpectralPoints) -> np.ndarray:
         """(1 + Q̂_z²) S^{xx}(Q, E) in 1/meV per spin, resolution and detailed balance applied.

@@ -25,11 +25,12 @@ from .. import units as U
 from ..errors import InputError
 from ..physics.chain_spectrum import LINE_SHAPES, spinon_spectrum
 from .base import Family, SpectralPoints
+from .chain_polarisation import ChainPolarisation, check_anisotropy_axis
 
 __all__ = ["SpinonFamily"]
 
 
-class SpinonFamily(Family):
+class SpinonFamily(ChainPolarisation, Family):
     """Two-spinon continuum of the S = 1/2 XXZ chain.
 
     Parameters
@@ -40,11 +41,15 @@ class SpinonFamily(Family):
         Line shape of the two-spinon sheets: the exact two-spinon profile of the
         Heisenberg chain placed between the XXZ edges (default) or the Müller ansatz; both
         carry the exact first moment (model-card or case-file option ``line_shape``).
+    anisotropy_axis : {'par', 'a', 'b'}, optional
+        Direction of the spin-anisotropy axis z: along the chain (default) or along the
+        first or second interchain direction; it sets the polarisation factor of the
+        longitudinal and transverse components (:mod:`.chain_polarisation`).
 
     Raises
     ------
     InputError
-        Unknown ``line_shape``.
+        Unknown ``line_shape`` or ``anisotropy_axis``.
 
     Notes
     -----
@@ -59,8 +64,6 @@ class SpinonFamily(Family):
     """
 
     family_name = "spinon_continuum"
-    #: three spin components summed, no polarisation factor
-    cross_section_factor = 2.0 / 3.0
     parameters = ("J", "delta", "g")
 
     #: the two-spinon continuum and the chain thermodynamics hold for S = 1/2 only
@@ -72,15 +75,20 @@ class SpinonFamily(Family):
     #: predicts both spectra and all three thermodynamic kinds
     kinds = ("crystal_spectrum", "powder_spectrum", "susceptibility", "heat_capacity", "entropy")
 
-    def __init__(self, spin: float = 0.5, line_shape: str = "exact"):
+    def __init__(self, spin: float = 0.5, line_shape: str = "exact",
+                 anisotropy_axis: str = "par"):
         super().__init__(spin)
         if line_shape not in LINE_SHAPES:
             raise InputError(f"the 'line_shape' option of spinon_continuum must be 'exact' or "
                              f"'muller'; got {line_shape!r} instead", key="options.line_shape")
         self.line_shape = line_shape
+        self.anisotropy_axis = check_anisotropy_axis(anisotropy_axis, self.family_name)
 
-    def spectrum(self, p: dict, pts: SpectralPoints) -> np.ndarray:
-        """Resolution-convolved S(q, E) = χ''(n + 1)/π per spin in 1/meV.
+    def _unpolarised(self, p: dict, pts: SpectralPoints) -> np.ndarray:
+        """Resolution-convolved S(q, E) = χ''(n + 1)/π per spin in 1/meV, components summed.
+
+        :meth:`spectrum` (the polarisation-weighted cross-section) multiplies it by the
+        uniaxial polarisation factor (:mod:`.chain_polarisation`).
 
         Parameters
         ----------

@@ -73,7 +73,7 @@ __all__ = ["spinon_bounds", "spinon_gap", "xxz_ground_state_energy", "first_mome
            "first_moment_components", "nearest_neighbour_correlators",
            "continuum_first_moment", "sheet_moments", "two_spinon_sheets", "muller_edges",
            "muller_amplitude", "muller_density", "muller_cumulative", "all_sheets",
-           "reduced_phase", "OMEGA_FLOOR"]
+           "reduced_phase", "longitudinal_share", "OMEGA_FLOOR"]
 
 #: Floor of the line-shape lower edge, as a fraction of the upper edge ω_T.
 OMEGA_FLOOR = 1e-3
@@ -374,6 +374,53 @@ def muller_edges(q, J, delta):
     """
     wl, top, _, _ = _muller(q, J, delta)
     return wl, top
+
+
+def longitudinal_share(q, J, delta):
+    """Share f_zz of the longitudinal component S^zz in the model spectrum at chain phase q.
+
+    H = J Σ [S^x S^x + S^y S^y + Δ S^z S^z], J > 0, anisotropy axis z.  The model gives
+    each spin component the line shape of the summed spectrum at the same q, scaled to the
+    component's exact first moment (the amplitudes of :func:`two_spinon_sheets` are fixed
+    by the same moments), so S^aa(q, ω) = f_aa(q) S(q, ω) with
+
+        f_zz = M1^zz / M1_model,   f_xx = f_yy = (1 − f_zz)/2,
+
+    M1^zz = −2J(1 − cos q) C_xx (:func:`first_moment_components`) and M1_model the moment the
+    model carries, α(1 − cos q) + β(1 + cos q) for Δ > 1 and α(1 − cos q) for Δ ≤ 1
+    (:func:`sheet_moments`; the part β(1 + cos q) left out for Δ < 1 is transverse).  For
+    Δ ≤ 1 the share does not depend on q: f_zz = 2C_xx/[(3 + Δ)C_xx + (1 + Δ)C_zz]
+    (1/3 at Δ = 1 by rotation invariance; 0.550 at Δ = 0, where S^zz carries the moment
+    J(1 − cos q)/π against J(1 − cos q)[1/(4π) + 1/(2π²)] in each transverse component's
+    principal part, with C_xx = −1/(2π), C_zz = −1/π²).  The ω-integrated first moment of every component
+    is then exact (Hohenberg & Brinkman 1974); how the components share the line shape
+    within the continuum is the model's assumption (exact at Δ = 1).
+
+    Parameters
+    ----------
+    q : array_like, shape (n,)
+        Chain phase in radians.
+    J, delta : array_like, shape (n_sets, 1)
+        Exchange in meV (> 0) and anisotropy Δ > −1.
+
+    Returns
+    -------
+    ndarray, shape (n_sets, n)
+        f_zz in [0, 1]; 1/3 where the model carries no moment (q = 0 for Δ ≤ 1).
+
+    References
+    ----------
+    P. C. Hohenberg & W. F. Brinkman, Phys. Rev. B 10, 128 (1974) (component moments);
+    G. L. Squires, Introduction to the Theory of Thermal Neutron Scattering (CUP, 1978),
+    Ch. 7 (why the components matter: the polarisation factor δ_αβ − Q̂_α Q̂_β).
+    """
+    J, delta = _as_params(J, delta)
+    _, m_zz = first_moment_components(q, J, delta)
+    m_p, m_s = sheet_moments(q, J, delta)
+    total = m_p + m_s
+    ok = total > 1e-12 * J
+    f = np.where(ok, m_zz / np.where(ok, total, 1.0), 1.0 / 3.0)
+    return np.clip(f, 0.0, 1.0)
 
 
 def muller_amplitude(q, J, delta):

@@ -34,7 +34,7 @@ __all__ = [
     "magnetic_form_factor", "bose_energy_factor", "boltzmann_ratio", "fwhm_to_sigma",
     "resolution_sigma", "gaussian", "convolve_modes", "gauss_hermite", "hermite_expansion_rule",
     "convolve_cumulative", "powder_directions", "elastic_line", "SIGMA_FLOOR",
-    "FWHM_PER_SIGMA",
+    "FWHM_PER_SIGMA", "uniaxial_polarisation",
 ]
 
 #: FWHM / σ of a Gaussian, 2 √(2 ln 2) = 2.35482...
@@ -44,6 +44,42 @@ FWHM_PER_SIGMA = 2.0 * math.sqrt(2.0 * math.log(2.0))
 SIGMA_FLOOR = 1e-6
 _EXP_MAX = 700.0            # exp(700) ~ 1e304 is still a finite double
 _SQRT_2PI = math.sqrt(2.0 * math.pi)
+
+
+# ------------------------------------------------------------------- polarisation factor
+def uniaxial_polarisation(f_zz, cos2) -> np.ndarray:
+    """Polarisation factor of a uniaxial spin system, per unit of the summed components.
+
+    For S^xx = S^yy (rotation symmetry about the anisotropy axis z) with
+    S^zz = f_zz Σ_a S^aa and S^xx = S^yy = (1 − f_zz)/2 Σ_a S^aa, the unpolarised magnetic
+    cross-section carries Σ_a (1 − Q̂_a²) S^aa (Squires 1978, Ch. 7; off-diagonal S^ab
+    vanish by the same symmetry), so with c² = Q̂_z²
+
+        Σ_a (1 − Q̂_a²) S^aa / Σ_a S^aa = f_zz (1 − c²) + (1 − f_zz)(1 + c²)/2
+                                        = (1 + f_zz)/2 + c² (1 − 3 f_zz)/2.
+
+    Isotropic fluctuations (f_zz = 1/3) give 2/3 at every Q̂, which is also the mean over
+    directions (c² → 1/3) for any f_zz.
+
+    Parameters
+    ----------
+    f_zz : array_like
+        Share of the longitudinal component (0 to 1, dimensionless).
+    cos2 : array_like
+        Squared cosine between Q and the anisotropy axis (0 to 1).
+
+    Returns
+    -------
+    ndarray
+        The factor (dimensionless, between 0 and 1), broadcast over both arguments.
+
+    References
+    ----------
+    G. L. Squires, *Introduction to the Theory of Thermal Neutron Scattering* (CUP, 1978),
+    Ch. 7 (magnetic cross-section, polarisation factor δ_αβ − Q̂_α Q̂_β).
+    """
+    f = np.asarray(f_zz, dtype=float)
+    return 0.5 * (1.0 + f) + np.asarray(cos2, dtype=float) * 0.5 * (1.0 - 3.0 * f)
 
 
 # --------------------------------------------------------------------------- form factor

@@ -151,29 +151,65 @@ def _sinc_basis(x, n) -> np.ndarray:
     return np.sinc(m * np.asarray(x, dtype=float)[None, :] / np.pi)
 
 
-def chain_average(values, x) -> np.ndarray:
-    """(1/x) ∫_0^x S(q) dq from S on the grid q_j = π j / n (one zone, S even and periodic).
+#: below this m x the quadratic basis is summed as its Taylor series (cancellation above)
+_SERIES_BELOW = 0.5
+
+
+def _quadratic_basis(x, n) -> np.ndarray:
+    """B2[m, i] = (1/x³) ∫_0^x q² cos(m q) dq, shape (n + 1, len(x)); 1/3 at m x = 0.
+
+    With y = m x: (y² sin y + 2y cos y − 2 sin y)/y³, and for y < 0.5 its Taylor series
+    Σ_k (−1)^k y^{2k} / ((2k)! (2k + 3)) to k = 8 (error < 1e-20)."""
+    y = np.arange(n + 1)[:, None] * np.asarray(x, dtype=float)[None, :]
+    small = y < _SERIES_BELOW
+    ys = np.where(small, 1.0, y)
+    closed = (ys * ys * np.sin(ys) + 2.0 * ys * np.cos(ys) - 2.0 * np.sin(ys)) / ys ** 3
+    y2 = np.where(small, y * y, 0.0)
+    series = np.zeros_like(y)
+    term = np.ones_like(y)
+    for k in range(9):
+        series += term / (2 * k + 3)
+        term = -term * y2 / ((2 * k + 1) * (2 * k + 2))
+    return np.where(small, series, closed)
+
+
+def chain_average(values, x, values2=None) -> np.ndarray:
+    """(1/x) ∫_0^x [S₀(q) + (q/x)² S₂(q)] dq from S₀, S₂ on the grid q_j = π j / n.
+
+    A chain spectrum whose mean over the azimuth of Q about the chain is
+    S₀(q) + u² S₂(q), u = Q_∥/|Q| = q/x (a polarisation factor quadratic in the components
+    of Q̂, :func:`evidence1d.physics.neutron.uniaxial_polarisation`), has this powder
+    average; S₂ = 0 for a spectrum that depends on Q only through q.
 
     Parameters
     ----------
     values : array_like, shape (..., n + 1)
-        S(q_j), q_j = π j / n.
+        S₀(q_j), q_j = π j / n (one zone, even and 2π-periodic).
     x : array_like, shape (k,)
         Upper limits x = |Q| d in radians (≥ 0).
+    values2 : array_like, shape (..., n + 1), optional
+        S₂(q_j); omitted: 0.
 
     Returns
     -------
     ndarray, shape (..., k)
-        a_0 + Σ_{m ≥ 1} a_m sin(m x)/(m x) with a_m from :func:`cosine_coefficients`; the
-        powder average of a spectrum that depends on Q only through q = Q_∥ d.
+        Σ_m a_m sin(m x)/(m x) + Σ_m b_m B2_m(x), with a_m, b_m the cosine coefficients of
+        S₀, S₂ (:func:`cosine_coefficients`) and B2_m(x) = (1/x³) ∫_0^x q² cos(m q) dq in
+        closed form (series for small m x).
 
     References
     ----------
     Isotropic average with Q_∥ = |Q| cos θ, cos θ uniform: Squires (1978), Ch. 7;
-    closed-form integral of the cosine series (Trefethen 2000, Ch. 8).
+    closed-form integral of the cosine series (Trefethen 2000, Ch. 8); ∫ t² cos t dt by
+    parts (Gradshteyn & Ryzhik 2.633).
     """
     values = np.asarray(values, dtype=float)
-    return cosine_coefficients(values) @ _sinc_basis(x, values.shape[-1] - 1)
+    n = values.shape[-1] - 1
+    out = cosine_coefficients(values) @ _sinc_basis(x, n)
+    if values2 is not None:
+        out = out + cosine_coefficients(np.asarray(values2, dtype=float)) @ \
+            _quadratic_basis(x, n)
+    return out
 
 
 def adaptive_chain_average(evaluate, x, group, n_groups: int, n_sets: int,
@@ -185,7 +221,8 @@ def adaptive_chain_average(evaluate, x, group, n_groups: int, n_sets: int,
     evaluate : callable
         ``evaluate(rows, q, g)`` → ndarray (len(rows), len(q)): the spectrum of parameter
         sets ``rows`` (int array) at chain phases ``q`` (rad) and energy groups ``g`` (int
-        array, same length as ``q``).
+        array, same length as ``q``); or a pair (S₀, S₂) of such arrays for a spectrum
+        whose azimuthal mean is S₀ + u² S₂ (:func:`chain_average`; S₂ may be None).
     x : ndarray, shape (n,)
         |Q| d of every point (rad).
     group : ndarray of int, shape (n,)
@@ -213,22 +250,24 @@ def adaptive_chain_average(evaluate, x, group, n_groups: int, n_sets: int,
     levels = np.zeros((n_sets, n_groups), dtype=int)
     active = np.ones((n_sets, n_groups), dtype=bool)
     n = max(2, n_lo // 2)
-    F = np.full((n_sets, n_groups, n + 1), np.nan)
     q = np.pi * np.arange(n + 1) / n
     rows = np.arange(n_sets)
-    F[:] = evaluate(rows, np.tile(q, n_groups),
-                    np.repeat(np.arange(n_groups), n + 1)).reshape(n_sets, n_groups, n + 1)
+    first = _terms(evaluate(rows, np.tile(q, n_groups), np.repeat(np.arange(n_groups), n + 1)))
+    F = [None if v is None else v.reshape(n_sets, n_groups, n + 1) for v in first]
     prev = _chain_estimates(F, x, members, active)
     while True:
         n *= 2
-        G = np.full((n_sets, n_groups, n + 1), np.nan)
-        G[..., ::2] = F
         rows = np.flatnonzero(active.any(axis=1))
         gsel = np.flatnonzero(active[rows].any(axis=0))
         q_new = np.pi * np.arange(1, n, 2) / n
-        vals = evaluate(rows, np.tile(q_new, gsel.size), np.repeat(gsel, q_new.size))
-        G[np.ix_(rows, gsel, np.arange(1, n, 2))] = vals.reshape(rows.size, gsel.size, -1)
-        F = G
+        vals = _terms(evaluate(rows, np.tile(q_new, gsel.size), np.repeat(gsel, q_new.size)))
+        for t, v in enumerate(vals):
+            if F[t] is None:
+                continue
+            G = np.full((n_sets, n_groups, n + 1), np.nan)
+            G[..., ::2] = F[t]
+            G[np.ix_(rows, gsel, np.arange(1, n, 2))] = v.reshape(rows.size, gsel.size, -1)
+            F[t] = G
         cur = _chain_estimates(F, x, members, active)
         scale = settings.floor * np.nanmax(np.abs(np.where(np.isnan(cur), out, cur)), axis=1,
                                            initial=0.0)
@@ -249,13 +288,24 @@ def adaptive_chain_average(evaluate, x, group, n_groups: int, n_sets: int,
         prev = cur
 
 
+def _terms(value):
+    """(S₀, S₂) from what an ``evaluate`` callback returned (S₂ None if not given)."""
+    if isinstance(value, tuple):
+        s0, s2 = value
+        return np.asarray(s0, dtype=float), (None if s2 is None else np.asarray(s2, float))
+    return np.asarray(value, dtype=float), None
+
+
 def _chain_estimates(F, x, members, active):
-    """Averages at every point from the grid values of the active (set, group) pairs."""
-    est = np.full((F.shape[0], x.size), np.nan)
+    """Averages at every point from the grid values (S₀, S₂) of the active (set, group)
+    pairs."""
+    F0, F2 = F
+    est = np.full((F0.shape[0], x.size), np.nan)
     for g, ix in enumerate(members):
         live = np.flatnonzero(active[:, g])
         if live.size and ix.size:
-            est[np.ix_(live, ix)] = chain_average(F[live, g], x[ix])
+            est[np.ix_(live, ix)] = chain_average(
+                F0[live, g], x[ix], None if F2 is None else F2[live, g])
     return est
 
 

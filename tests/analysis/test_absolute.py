@@ -133,9 +133,11 @@ def test_fitted_scale_on_two_spinon_data_is_the_published_moment_share(tmp_path)
     assert rec["ratio"]["median"] == pytest.approx(two_spinon.TWO_SPINON_MOMENT_SHARE,
                                                    rel=0.005)
     assert rec["ratio"]["q84"] - rec["ratio"]["q16"] < 0.01
-    assert rec["cross_section_factor"] == pytest.approx(2.0 / 3.0)
+    # the family returns the polarisation-weighted sum Σ(δ − Q̂Q̂)S (2/3 of the summed
+    # components at Δ = 1, as the data's 2 S^zz), so c = 1
+    assert rec["cross_section_factor"] == pytest.approx(1.0)
     assert rec["expected_scale"]["median"] == pytest.approx(
-        GAMMA_R0_SQ_MB * (g / 2) ** 2 * 2 / 3, rel=1e-12)
+        GAMMA_R0_SQ_MB * (g / 2) ** 2, rel=1e-12)
     # the declared calibration uncertainty (10 %) cannot absorb a 29 % deficit: flagged
     assert not rec["consistent"] and rec["z"] < -2
     w = rec["window"]
@@ -154,7 +156,7 @@ def test_scale_ratio_follows_the_samples(tmp_path):
     nuis = prob.draw_marginalised(theta, np.random.default_rng(2))
     full = np.hstack([theta, nuis])
     i = prob.full_names.index("map:scale")
-    s_abs = GAMMA_R0_SQ_MB * (2.1 / 2) ** 2 * 2 / 3
+    s_abs = GAMMA_R0_SQ_MB * (2.1 / 2) ** 2              # c = 1: a polarised spectrum
     full[:, i] = s_abs * np.linspace(0.95, 1.05, 40)
     rec = absolute_scale_check(prob, prob.full_names, full)["map"]
     assert rec["ratio"]["median"] == pytest.approx(1.0, abs=1e-3) and rec["consistent"]

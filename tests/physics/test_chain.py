@@ -175,7 +175,11 @@ def test_family_adapter():
          "g": np.array([[2.1], [2.1]])}
     out = fam.spectrum(p, pts)
     ref = cs.spinon_spectrum(pts.q_par, pts.energy, pts.sigma, 5.0, p["J"], p["delta"])
-    np.testing.assert_array_equal(out, ref)
+    np.testing.assert_array_equal(fam.unpolarised_spectrum(p, pts), ref)
+    # Q along the chain and the anisotropy axis: only the transverse components are seen
+    # (polarisation factor 1 − Q̂_a², Squires 1978, Ch. 7)
+    f_zz = chain.longitudinal_share(pts.q_par, p["J"], p["delta"])
+    np.testing.assert_allclose(out, (1.0 - f_zz) * ref, rtol=1e-14)
     assert out.shape == (2, 30) and np.all(out >= 0)
     fam2 = pickle.loads(pickle.dumps(fam))
     np.testing.assert_array_equal(fam2.spectrum(p, pts), out)

@@ -291,8 +291,8 @@ def test_family_option_and_card(tmp_path):
                          sigma=np.full(20, 0.2), temperature=3.0)
     p = {"J": np.array([[1.5], [2.0]]), "delta": np.array([[1.0], [1.5]]),
          "g": np.array([[2.1], [2.1]])}
-    exact = SpinonFamily().spectrum(p, pts)
-    muller = SpinonFamily(line_shape="muller").spectrum(p, pts)
+    exact = SpinonFamily().unpolarised_spectrum(p, pts)
+    muller = SpinonFamily(line_shape="muller").unpolarised_spectrum(p, pts)
     np.testing.assert_array_equal(
         exact, cs.spinon_spectrum(pts.q_par, pts.energy, pts.sigma, 3.0, p["J"], p["delta"],
                                   line_shape="exact"))
@@ -308,13 +308,13 @@ def test_family_option_and_card(tmp_path):
     from evidence1d.problem import _make_family
     from pathlib import Path
     card = load_card(Path(__file__).resolve().parents[2] / "models" / "spinon_continuum.yaml")
-    assert card.options == {"line_shape": "exact"}
+    assert card.options == {"line_shape": "exact", "anisotropy_axis": "par"}
 
     class _Sample:
         spin = 0.5
 
     fam = _make_family(FAMILY_CLASSES[card.family], card, _Sample())
-    assert fam.line_shape == "exact"
+    assert fam.line_shape == "exact" and fam.anisotropy_axis == "par"
 
 
 def test_case_file_overrides_the_line_shape(valid_case, capsys):
@@ -327,3 +327,10 @@ def test_case_file_overrides_the_line_shape(valid_case, capsys):
     edit_file(valid_case, "line_shape: muller", "line_shape: gaussian")
     code, err = check_command(capsys, valid_case)
     assert code == 2 and "line_shape" in err and len(err.splitlines()) == 1, err
+    # the anisotropy axis is a case-file option too, checked with a one-line error
+    edit_file(valid_case, "line_shape: gaussian", "anisotropy_axis: a")
+    assert evidence1d.load_case(valid_case).problem("spinon_continuum").family \
+        .anisotropy_axis == "a"
+    edit_file(valid_case, "anisotropy_axis: a", "anisotropy_axis: c")
+    code, err = check_command(capsys, valid_case)
+    assert code == 2 and "anisotropy_axis" in err and len(err.splitlines()) == 1, err
