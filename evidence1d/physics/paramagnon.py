@@ -366,11 +366,14 @@ def _remainder_nodes(e_bytes, s_bytes, shape, kT, n_nodes):
 
 
 def _nodes_at(E, sigma, kT, n_nodes):
-    """:func:`_remainder_nodes` at the points (E, σ), computed once per run of equal points.
+    """:func:`_remainder_nodes` for the points (E, σ), computed once per run of equal points.
 
     A powder average asks for many directions at each measured point, so (E, σ) comes in
-    runs of equal values; the nodes are then built for one point per run and gathered.  A
-    dataset's own points (runs of one) use the cache of :func:`_remainder_nodes`.
+    runs of equal values; the nodes are then built for one point per run.  Returns
+    ``(Ep2, wR, run)``: with ``run`` an index array the nodes of point i are column
+    ``run[i]`` (gathered row by row by the caller, several times faster than a gather of
+    the whole table); ``run`` None means one column per point.  A dataset's own points
+    (runs of one) use the cache of :func:`_remainder_nodes`.
     """
     sigma = np.ascontiguousarray(np.broadcast_to(sigma, E.shape))
     if E.ndim == 1 and E.size > 1:
@@ -382,9 +385,8 @@ def _nodes_at(E, sigma, kT, n_nodes):
         if 2 * heads.size <= E.size:
             Eh, sh = E[heads], sigma[heads]
             Ep2, wR = _remainder_nodes(Eh.tobytes(), sh.tobytes(), Eh.shape, kT, n_nodes)
-            run = np.cumsum(head) - 1
-            return Ep2[:, run], wR[:, run]
-    return _remainder_nodes(E.tobytes(), sigma.tobytes(), E.shape, kT, n_nodes)
+            return Ep2, wR, np.cumsum(head) - 1
+    return (*_remainder_nodes(E.tobytes(), sigma.tobytes(), E.shape, kT, n_nodes), None)
 
 
 def convolved_structure_factor(E, sigma, T, chi_q, gamma_q, n_nodes=12):
@@ -432,13 +434,20 @@ def convolved_structure_factor(E, sigma, T, chi_q, gamma_q, n_nodes=12):
     z.real, z.imag = E * inv, gamma_q * inv
     w_z = special.wofz(z)
     exact = chi_q * (kT * w_z.real + 0.5 * gamma_q * w_z.imag) / (_SQRT_2PI * sigma)
-    Ep2, wR = _nodes_at(E, sigma, kT, int(n_nodes))
+    Ep2, wR, run = _nodes_at(E, sigma, kT, int(n_nodes))
     # Σ_k wR_k / (E_k² + Γ²), one node at a time: (n_sets, n) temporaries stay small
     g2 = gamma_q * gamma_q
     acc = np.zeros(np.broadcast(g2, E).shape)
     tmp = np.empty_like(acc)
+    if run is not None:
+        e_k, w_k = np.empty(run.size), np.empty(run.size)
     for k in range(Ep2.shape[0]):
-        np.add(g2, Ep2[k], out=tmp)
-        np.divide(wR[k], tmp, out=tmp)
+        if run is None:
+            e_k, w_k = Ep2[k], wR[k]
+        else:
+            np.take(Ep2[k], run, out=e_k)
+            np.take(wR[k], run, out=w_k)
+        np.add(g2, e_k, out=tmp)
+        np.divide(w_k, tmp, out=tmp)
         acc += tmp
     return exact + chi_q * gamma_q * acc / math.pi

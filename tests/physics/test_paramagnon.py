@@ -176,7 +176,16 @@ def test_remainder_nodes_shared_by_runs_of_equal_points():
     E = np.repeat([-0.4, 0.3, 0.3, 1.2, 2.5], [7, 5, 3, 9, 6])
     sigma = np.repeat([0.05, 0.05, 0.07, 0.08, 0.1], [7, 5, 3, 9, 6])
     kT = 0.7
-    got = pmod._nodes_at(E, sigma, kT, 12)
+    Ep2, wR, run = pmod._nodes_at(E, sigma, kT, 12)
+    assert run is not None and run.size == E.size
     want = pmod._remainder_nodes(E.tobytes(), sigma.tobytes(), E.shape, kT, 12)
-    for a, b in zip(got, want):
+    for a, b in zip((Ep2[:, run], wR[:, run]), want):
         np.testing.assert_array_equal(a, b)
+    # and the convolved spectrum is the same bit for bit whichever way the nodes come
+    chi = np.linspace(1.0, 2.0, E.size)[None, :]
+    gam = np.linspace(0.01, 3.0, E.size)[None, :]
+    whole = pmod.convolved_structure_factor(E, sigma, 8.0, chi, gam)
+    parts = np.concatenate([pmod.convolved_structure_factor(E[i:i + 1], sigma[i:i + 1], 8.0,
+                                                            chi[:, i:i + 1], gam[:, i:i + 1])
+                            for i in range(E.size)], axis=1)
+    np.testing.assert_array_equal(whole, parts)
