@@ -316,6 +316,7 @@ def run_context(case, names, quick: bool, figures, subset=None) -> dict:
         cards[n] = {"assumptions": list(card.assumptions),
                     "limitations": list(card.limitations),
                     "references": list(card.references),
+                    "options": {k: v for k, v in card.options.items()},
                     "latex": {p: v.get("latex") for p, v in card.parameters.items()}}
     return {"title": case.title, "quick": bool(quick), "cards": cards,
             "datasets": [{"name": ds.name, "kind": ds.kind, "n": int(ds.n),

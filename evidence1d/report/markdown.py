@@ -223,11 +223,19 @@ def _constraints(s, ctx) -> list:
     return out
 
 
+def _option_text(v) -> str:
+    return "null" if v is None else str(v).lower() if isinstance(v, bool) else str(v)
+
+
 def _cards(s, ctx) -> list:
     out = ["## Assumptions and limitations", ""]
     for n, m in s["models"].items():
         c = ctx["cards"][n]
-        out += [f"### {m['title']} (`{n}`)", "", "Assumptions:", ""]
+        out += [f"### {m['title']} (`{n}`)", ""]
+        if c.get("options"):            # the options the family ran with (card and case file)
+            out += ["Options: " + ", ".join(f"`{k}: {_option_text(v)}`"
+                                            for k, v in c["options"].items()), ""]
+        out += ["Assumptions:", ""]
         out += [f"- {a}" for a in c["assumptions"]] or ["- (none stated)"]
         out += ["", "Known limitations:", ""]
         out += [f"- {a}" for a in c["limitations"]] or ["- (none stated)"]

@@ -37,8 +37,11 @@ def test_report_has_verdict_tables_and_sections(run_dir, summary):
                 "Foreman-Mackey", "Del Moral"):
         assert ref in text
     assert ("Dickey" in text) == any(m["savage_dickey"] for m in summary["models"].values())
-    # limitations come from the model cards
+    # limitations come from the model cards, with the options each family ran with
     assert "Schulz's relation" in text
+    if "spinon_continuum" in summary["models"]:
+        assert "Options: `line_shape: exact`, `anisotropy_axis: par`" in text
+    assert "Options: `moment_axis: null`, `interchain: 4`" in text
     # the map is declared on an absolute scale: every family's scale ratio and window moment
     assert "### Spectra on an absolute scale" in text
     for name, m in summary["models"].items():
