@@ -145,9 +145,10 @@ def cosine_coefficients(values) -> np.ndarray:
     return a
 
 
-def _sinc_basis(x, n) -> np.ndarray:
-    """B[m, i] = sin(m x_i) / (m x_i) (1 at m = 0 or x = 0), shape (n + 1, len(x))."""
-    m = np.arange(n + 1)[:, None]
+def _sinc_basis(x, n, m0=0) -> np.ndarray:
+    """B[m, i] = sin(m x_i) / (m x_i) (1 at m = 0 or x = 0) for m = m0..n, shape
+    (n + 1 − m0, len(x))."""
+    m = np.arange(m0, n + 1)[:, None]
     return np.sinc(m * np.asarray(x, dtype=float)[None, :] / np.pi)
 
 
@@ -155,22 +156,30 @@ def _sinc_basis(x, n) -> np.ndarray:
 _SERIES_BELOW = 0.5
 
 
-def _quadratic_basis(x, n) -> np.ndarray:
-    """B2[m, i] = (1/x³) ∫_0^x q² cos(m q) dq, shape (n + 1, len(x)); 1/3 at m x = 0.
+def _quadratic_basis(x, n, sinc=None, m0=0) -> np.ndarray:
+    """B2[m, i] = (1/x³) ∫_0^x q² cos(m q) dq for m = m0..n, shape (n + 1 − m0, len(x));
+    1/3 at m x = 0.
 
-    With y = m x: (y² sin y + 2y cos y − 2 sin y)/y³, and for y < 0.5 its Taylor series
-    Σ_k (−1)^k y^{2k} / ((2k)! (2k + 3)) to k = 8 (error < 1e-20)."""
-    y = np.arange(n + 1)[:, None] * np.asarray(x, dtype=float)[None, :]
-    small = y < _SERIES_BELOW
-    ys = np.where(small, 1.0, y)
-    closed = (ys * ys * np.sin(ys) + 2.0 * ys * np.cos(ys) - 2.0 * np.sin(ys)) / ys ** 3
-    y2 = np.where(small, y * y, 0.0)
-    series = np.zeros_like(y)
-    term = np.ones_like(y)
-    for k in range(9):
-        series += term / (2 * k + 3)
-        term = -term * y2 / ((2 * k + 1) * (2 * k + 2))
-    return np.where(small, series, closed)
+    With y = m x: (y² sin y + 2y cos y − 2 sin y)/y³ = B0 + 2(cos y − B0)/y², B0 = sin y / y
+    (:func:`_sinc_basis`, passed as ``sinc`` when already computed), and for y < 0.5 the
+    Taylor series Σ_k (−1)^k y^{2k} / ((2k)! (2k + 3)) to k = 8 (error < 1e-20)."""
+    y = np.arange(m0, n + 1)[:, None] * np.asarray(x, dtype=float)[None, :]
+    b0 = _sinc_basis(x, n, m0) if sinc is None else sinc
+    out = np.cos(y)
+    out -= b0
+    np.divide(out, y * y, out=out, where=y >= _SERIES_BELOW)
+    out *= 2.0
+    out += b0
+    small = np.flatnonzero(y.ravel() < _SERIES_BELOW)
+    if small.size:
+        y2 = y.ravel()[small] ** 2
+        series = np.zeros(small.size)
+        term = np.ones(small.size)
+        for k in range(9):
+            series += term / (2 * k + 3)
+            term = -term * y2 / ((2 * k + 1) * (2 * k + 2))
+        out.ravel()[small] = series
+    return out
 
 
 def chain_average(values, x, values2=None) -> np.ndarray:
@@ -205,10 +214,11 @@ def chain_average(values, x, values2=None) -> np.ndarray:
     """
     values = np.asarray(values, dtype=float)
     n = values.shape[-1] - 1
-    out = cosine_coefficients(values) @ _sinc_basis(x, n)
+    b0 = _sinc_basis(x, n)
+    out = cosine_coefficients(values) @ b0
     if values2 is not None:
         out = out + cosine_coefficients(np.asarray(values2, dtype=float)) @ \
-            _quadratic_basis(x, n)
+            _quadratic_basis(x, n, b0)
     return out
 
 
@@ -254,7 +264,8 @@ def adaptive_chain_average(evaluate, x, group, n_groups: int, n_sets: int,
     rows = np.arange(n_sets)
     first = _terms(evaluate(rows, np.tile(q, n_groups), np.repeat(np.arange(n_groups), n + 1)))
     F = [None if v is None else v.reshape(n_sets, n_groups, n + 1) for v in first]
-    prev = _chain_estimates(F, x, members, active)
+    bases = {}
+    prev = _chain_estimates(F, x, members, active, bases)
     while True:
         n *= 2
         rows = np.flatnonzero(active.any(axis=1))
@@ -268,7 +279,7 @@ def adaptive_chain_average(evaluate, x, group, n_groups: int, n_sets: int,
             G[..., ::2] = F[t]
             G[np.ix_(rows, gsel, np.arange(1, n, 2))] = v.reshape(rows.size, gsel.size, -1)
             F[t] = G
-        cur = _chain_estimates(F, x, members, active)
+        cur = _chain_estimates(F, x, members, active, bases)
         scale = settings.floor * np.nanmax(np.abs(np.where(np.isnan(cur), out, cur)), axis=1,
                                            initial=0.0)
         for g, ix in enumerate(members):
@@ -296,16 +307,30 @@ def _terms(value):
     return np.asarray(value, dtype=float), None
 
 
-def _chain_estimates(F, x, members, active):
+def _chain_estimates(F, x, members, active, bases):
     """Averages at every point from the grid values (S₀, S₂) of the active (set, group)
-    pairs."""
+    pairs, as :func:`chain_average`; ``bases`` keeps each group's basis rows between
+    levels (a level's rows are the first rows of the next level's), extended as n grows."""
     F0, F2 = F
+    n = F0.shape[-1] - 1
     est = np.full((F0.shape[0], x.size), np.nan)
     for g, ix in enumerate(members):
         live = np.flatnonzero(active[:, g])
-        if live.size and ix.size:
-            est[np.ix_(live, ix)] = chain_average(
-                F0[live, g], x[ix], None if F2 is None else F2[live, g])
+        if not (live.size and ix.size):
+            continue
+        b0, b2 = bases.get(g, (np.empty((0, ix.size)), None))
+        m0 = b0.shape[0]
+        if m0 <= n:
+            new0 = _sinc_basis(x[ix], n, m0)
+            b0 = np.concatenate([b0, new0])
+            if F2 is not None:
+                new2 = _quadratic_basis(x[ix], n, new0, m0)
+                b2 = new2 if b2 is None else np.concatenate([b2, new2])
+            bases[g] = (b0, b2)
+        val = cosine_coefficients(F0[live, g]) @ b0[:n + 1]
+        if F2 is not None:
+            val = val + cosine_coefficients(F2[live, g]) @ b2[:n + 1]
+        est[np.ix_(live, ix)] = val
     return est
 
 
