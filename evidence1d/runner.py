@@ -401,8 +401,8 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
         (see :mod:`evidence1d.parallel`); ``workers`` is then not used.  Jobs receive the
         family's joint problem, so only that travels to the workers.  A ``store`` is
         written by the workers: with a remote cluster it needs a folder they share.  The
-        numbers are the same whatever the executor.  The evidence budget still runs on
-        local processes.
+        numbers are the same whatever the executor; the evidence budget and the
+        prior-sensitivity re-runs use it too.
 
     Returns
     -------
@@ -482,7 +482,7 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
         t_b = time.time()
         try:
             budget_doc = run_budget(case, results, settings, _evidence_options(settings),
-                                    seed, progress, workers)
+                                    seed, progress, workers, executor)
         except (InputError, ValueError, FloatingPointError, np.linalg.LinAlgError) as exc:
             # an analysis must not sink a finished comparison; the report says why
             budget_doc = {"skipped": f"failed ({exc.__class__.__name__}: {exc})"}
@@ -499,7 +499,8 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
         t_s = time.time()
         try:
             reruns = sensitivity_reruns(case, results, settings, _evidence_options(settings),
-                                        seed, progress, workers)
+                                        seed, progress, workers,
+                                        executor)
         except (InputError, ValueError, FloatingPointError, np.linalg.LinAlgError) as exc:
             log(f"prior-sensitivity re-runs not computed: {exc}")
         for key, why in (reruns or {}).items():

@@ -164,3 +164,19 @@ def test_evidence_budget_of_a_small_case(tmp_path):
     want = lz[a][0] - lz[b][0]
     tol = 4.0 * math.hypot(r["ln_k_err"], math.hypot(lz[a][1], lz[b][1])) + 0.5
     assert abs(r["ln_k"] - want) < tol, (r, want, tol)
+    # the budget runs on an executor the caller owns (the executor contract of
+    # evidence1d.parallel) with the same numbers as on local processes: the islands' seeds
+    # come from the run's seed, not from where they run
+    from concurrent.futures import ThreadPoolExecutor
+    from evidence1d.analysis.stage import run_budget
+    from evidence1d.runner import _evidence_options
+    local = run_budget(case, res.models, res.settings, _evidence_options(res.settings),
+                       res.seed, False, 1)
+    with ThreadPoolExecutor(max_workers=2) as ex:
+        remote = run_budget(case, res.models, res.settings, _evidence_options(res.settings),
+                            res.seed, False, None, ex)
+    assert remote["sequential"] == local["sequential"]
+    assert remote["leave_one_out"] == local["leave_one_out"]
+    quoted = s["comparison"]["evidence_budget"]["sequential"]
+    assert [r["ln_k"] for r in local["sequential"]] == pytest.approx([r["ln_k"] for r in quoted],
+                                                                     rel=1e-12)

@@ -78,7 +78,8 @@ def _rerun_job(problem, seed, options):
     return island_outcome(problem.log_likelihood, problem.prior, seed, options)
 
 
-def sensitivity_reruns(case, results, settings, options, seed, progress, workers) -> dict:
+def sensitivity_reruns(case, results, settings, options, seed, progress, workers,
+                       executor=None) -> dict:
     """New tempered evidences for the prior changes that reweighting cannot give.
 
     A widened prior whose bound the posterior touches (or a normal prior that the data do
@@ -98,6 +99,9 @@ def sensitivity_reruns(case, results, settings, options, seed, progress, workers
         The run's seed; the stream is the child ``SENSITIVITY_KEY`` of it.
     progress : bool
     workers : int or None
+    executor : object, optional
+        Where the islands run instead of local processes (the executor contract of
+        :mod:`evidence1d.parallel`); the numbers do not depend on it.
 
     Returns
     -------
@@ -134,21 +138,22 @@ def sensitivity_reruns(case, results, settings, options, seed, progress, workers
             keys.append((p, label, fam))
     if not jobs:
         return refused
-    done = _pooled_islands(_rerun_job, jobs, keys, "prior sensitivity", progress, workers)[0]
+    done = _pooled_islands(_rerun_job, jobs, keys, "prior sensitivity", progress, workers,
+                           executor)[0]
     return {**done, **refused}
 
 
-def _pooled_islands(fn, jobs, keys, label, progress, workers):
-    """Run evidence-island jobs over a process pool with a progress bar, and combine the
-    islands of each key (:func:`~evidence1d.analysis.budget.combine_subset`).  Returns
-    ``({key: (ln Z, error)}, warnings)``."""
+def _pooled_islands(fn, jobs, keys, label, progress, workers, executor=None):
+    """Run evidence-island jobs over a process pool (or an ``executor``) with a progress bar,
+    and combine the islands of each key (:func:`~evidence1d.analysis.budget.combine_subset`).
+    Returns ``({key: (ln Z, error)}, warnings)``."""
     from ..inference.progress import stage_bar
     from ..parallel import run_in_pool, worker_count
     from .budget import combine_subset
     bar = stage_bar(len(jobs), progress, label, unit="island")
     try:
         done = run_in_pool(fn, jobs, worker_count(workers, len(jobs)),
-                           on_result=lambda _: bar.update(1))
+                           on_result=lambda _: bar.update(1), executor=executor)
     finally:
         bar.close()
     runs = {}
@@ -158,13 +163,14 @@ def _pooled_islands(fn, jobs, keys, label, progress, workers):
             [w for _, w, _ in done if w])
 
 
-def _subset_job(case, name, labels, seed, options):
-    """One island of the tempered evidence of a subset of one family's terms: a pool job."""
+def _subset_job(problem, labels, seed, options):
+    """One island of the tempered evidence of a subset of one family's terms: a pool job
+    (it receives the family's joint problem, not the case)."""
     from .budget import subset_island
-    return subset_island(case.problem(name), labels, seed, **options)
+    return subset_island(problem, labels, seed, **options)
 
 
-def run_budget(case, results, settings, options, seed, progress, workers):
+def run_budget(case, results, settings, options, seed, progress, workers, executor=None):
     """The evidence budget of the two leading families of a run (its third parallel stage).
 
     Parameters
@@ -182,6 +188,9 @@ def run_budget(case, results, settings, options, seed, progress, workers):
         A progress bar.
     workers : int or None
         Processes (:func:`evidence1d.parallel.worker_count`).
+    executor : object, optional
+        Where the islands run instead (the executor contract of :mod:`evidence1d.parallel`);
+        the numbers do not depend on it.
 
     Returns
     -------
@@ -208,11 +217,13 @@ def run_budget(case, results, settings, options, seed, progress, workers):
     jobs, keys = [], []
     n_islands = min(int(settings["islands"]), BUDGET_ISLANDS)
     for fam, fam_seq in zip((a, b), root.spawn(2)):
+        problem = case.problem(fam)
         for sub, sub_seq in zip(subsets, fam_seq.spawn(len(subsets))):
             for isl in sub_seq.spawn(n_islands):
-                jobs.append((case, fam, sub, isl, options))
+                jobs.append((problem, sub, isl, options))
                 keys.append((fam, sub))
-    pooled, warns = _pooled_islands(_subset_job, jobs, keys, "budget", progress, workers)
+    pooled, warns = _pooled_islands(_subset_job, jobs, keys, "budget", progress, workers,
+                                    executor)
     combined = {a: {}, b: {}}
     for (fam, sub), value in pooled.items():
         combined[fam][sub] = value
