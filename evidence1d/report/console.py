@@ -51,9 +51,11 @@ def case_table(case) -> str:
     for name, choice in case.models.items():
         prob = case.problem(name)
         n_phys = sum(1 for p in prob.names if p in choice.card.parameters)
+        opts = ", ".join(f"{k}={'null' if v is None else v}"
+                         for k, v in choice.card.options.items())
         mrows.append([name, "yes" if choice.card.one_dimensional else "no", n_phys,
-                      len(prob.names) - n_phys, len(prob.names)])
-    out.append(_table(mrows, ["model", "1D", "physical", "nuisance", "sampled"]))
+                      len(prob.names) - n_phys, len(prob.names), opts])
+    out.append(_table(mrows, ["model", "1D", "physical", "nuisance", "sampled", "options"]))
     out.append("")
     out.append(f"seed {case.seed}; output {case.output}")
     return "\n".join(out)

@@ -331,6 +331,10 @@ def test_case_file_overrides_the_line_shape(valid_case, capsys):
     edit_file(valid_case, "line_shape: gaussian", "anisotropy_axis: a")
     assert evidence1d.load_case(valid_case).problem("spinon_continuum").family \
         .anisotropy_axis == "a"
+    from evidence1d.cli import main
+    capsys.readouterr()
+    assert main(["check", str(valid_case)]) == 0       # check shows the options in force
+    assert "line_shape=exact, anisotropy_axis=a" in capsys.readouterr().out
     edit_file(valid_case, "anisotropy_axis: a", "anisotropy_axis: c")
     code, err = check_command(capsys, valid_case)
     assert code == 2 and "anisotropy_axis" in err and len(err.splitlines()) == 1, err
