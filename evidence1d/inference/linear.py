@@ -46,6 +46,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .triangular import cholesky_inverse, solve_lower, solve_upper
 from .truncated import box_mode, log_box_probability, log_ndtr_diff, truncated_draw
 
 __all__ = ["marginal_loglike", "conditional_draw", "conditional_mode", "LinearPrior",
@@ -142,8 +143,7 @@ def _cholesky(A):
 
 def _posterior(L, b):
     """Conditional mean shift A⁻¹b and covariance A⁻¹ from the Cholesky factor of A."""
-    p = b.shape[1]
-    Linv = np.linalg.solve(L, np.broadcast_to(np.eye(p), L.shape))
+    Linv = cholesky_inverse(L)
     cov = np.swapaxes(Linv, 1, 2) @ Linv
     return (cov @ b[..., None])[..., 0], cov
 
@@ -177,7 +177,7 @@ def marginal_loglike(resid_w, design_w, sigma, tau, prior: LinearPrior | None = 
     bad = ~np.all(np.isfinite(L), axis=(1, 2))
     if bad.any():
         L[bad] = np.eye(tau.size)
-    z = np.linalg.solve(L, b[..., None])[..., 0]            # L z = b  ->  bᵀA⁻¹b = |z|²
+    z = solve_lower(L, b)                   # L z = b  ->  bᵀA⁻¹b = |z|² (no pivoting)
     logdet_A = 2.0 * np.sum(np.log(np.diagonal(L, axis1=1, axis2=2)), axis=1)
     quad = np.sum(resid_w ** 2, axis=1) - np.sum(z ** 2, axis=1)
     const = -np.sum(np.log(sigma)) - np.sum(np.log(tau)) - 0.5 * n * math.log(2 * math.pi)
@@ -211,12 +211,13 @@ def conditional_draw(resid_w, design_w, tau, mu, rng, prior: LinearPrior | None 
     """
     A, b = _system(resid_w, design_w, tau)
     L = np.linalg.cholesky(A)
-    mean = mu + np.linalg.solve(A, b[..., None])[..., 0]
+    LT = np.swapaxes(L, 1, 2)
+    mean = mu + solve_upper(LT, solve_lower(L, b))
     if prior is not None and prior.bounded:
         return truncated_draw(mean, A, L, prior.lo, prior.hi, rng)
     z = rng.standard_normal(b.shape)
     # A⁻¹ = L⁻ᵀ L⁻¹, so x = L⁻ᵀ z has covariance A⁻¹
-    x = np.linalg.solve(np.swapaxes(L, 1, 2), z[..., None])[..., 0]
+    x = solve_upper(LT, z)
     return mean + x
 
 
@@ -235,7 +236,8 @@ def conditional_mode(resid_w, design_w, tau, mu, prior: LinearPrior | None = Non
         (:func:`~evidence1d.inference.truncated.box_mode`).
     """
     A, b = _system(resid_w, design_w, tau)
-    mean = mu + np.linalg.solve(A, b[..., None])[..., 0]
+    L = np.linalg.cholesky(A)
+    mean = mu + solve_upper(np.swapaxes(L, 1, 2), solve_lower(L, b))
     if prior is None or not prior.bounded:
         return mean
     return box_mode(mean, A, prior.lo, prior.hi)

@@ -47,6 +47,7 @@ import numpy as np
 from scipy import special
 
 from ..gauss_rules import gauss_legendre
+from .triangular import cholesky_inverse, solve_upper
 __all__ = ["log_ndtr_diff", "bvn_cdf", "log_box_probability", "truncated_normal_ppf",
            "box_mode", "truncated_draw", "Z_DROP", "N_LATTICE"]
 
@@ -398,14 +399,14 @@ def truncated_draw(mean, prec, chol, lo, hi, rng, tries: int = 4, sweeps: int = 
     LT = np.swapaxes(chol, 1, 2)
     for _ in range(tries):
         z = rng.standard_normal((todo.size, p))
-        x = mean[todo] + np.linalg.solve(LT[todo], z[..., None])[..., 0]
+        x = mean[todo] + solve_upper(LT[todo], z)
         ok = np.all((x >= lo) & (x <= hi), axis=1)
         out[todo[ok]] = x[ok]
         todo = todo[~ok]
         if todo.size == 0:
             return out
     m = mean[todo]
-    Linv = np.linalg.solve(chol[todo], np.broadcast_to(np.eye(p), (todo.size, p, p)))
+    Linv = cholesky_inverse(chol[todo])
     cov = np.swapaxes(Linv, 1, 2) @ Linv
     _, za, zb = _standardised(m, cov, lo, hi)
     active = np.isfinite(za) | np.isfinite(zb)

@@ -216,3 +216,47 @@ def test_problem_marginal_equals_integral_over_sampled_nuisance(tmp_path):
     lo1, hi1 = max(c1 - 12 * s1, p1.support[0]), min(c1 + 12 * s1, p1.support[1])
     val, _ = integrate.dblquad(integrand, lo0, hi0, lo1, hi1, epsabs=0, epsrel=1e-8)
     assert np.log(val) == pytest.approx(0.0, abs=1e-5)
+
+
+def test_a_vanishing_design_column_integrates_to_nothing():
+    # A nuisance whose column is ~0 (a family predicting no intensity in the window: scale
+    # column 1e-31) does not touch the likelihood, so integrating it over its normalised
+    # prior must leave the marginal likelihood of the other nuisances alone (exactly, for a
+    # Gaussian prior).  A pivoting solve with the ill-conditioned Cholesky factor
+    # (condition ~1e31) used to return |L⁻¹b|² above Σr² here, an impossible value; the
+    # substitution of inference/triangular.py is backward stable (Higham 2002, ch. 8).
+    from evidence1d.inference import linear
+    rng = np.random.default_rng(0)
+    n = 720
+    E = np.linspace(0.25, 3.6, n)
+    sig = np.full(n, 0.12)
+    y = 0.5 + 0.05 * E + sig * rng.standard_normal(n)
+    cols = np.stack([1e-31 * np.exp(-E), np.ones(n), E], axis=1)
+    r = (y / sig)[None, :]
+    d = (cols / sig[:, None])[None]
+    tau = np.array([3.6e13, 2e13, 5.6e12])
+    full = linear.marginal_loglike(r, d, sig, tau)[0]
+    without = linear.marginal_loglike(r, d[:, :, 1:], sig, tau[1:])[0]
+    assert full == pytest.approx(without, abs=1e-6)
+    A, b = linear._system(r, d, tau)
+    L = np.linalg.cholesky(A)
+    z = linear.solve_lower(L, b)
+    assert np.sum(z ** 2) <= np.sum(r ** 2)
+
+
+def test_triangular_solves_against_scipy():
+    # batched substitution against scipy.linalg.solve_triangular, one matrix at a time
+    from scipy.linalg import solve_triangular
+    from evidence1d.inference.triangular import cholesky_inverse, solve_lower, solve_upper
+    rng = np.random.default_rng(5)
+    M = rng.normal(size=(6, 5, 5))
+    A = M @ np.swapaxes(M, 1, 2) + 5 * np.eye(5)
+    L = np.linalg.cholesky(A)
+    B = rng.normal(size=(6, 5))
+    for k in range(6):
+        np.testing.assert_allclose(solve_lower(L, B)[k], solve_triangular(L[k], B[k], lower=True),
+                                   rtol=1e-12)
+        np.testing.assert_allclose(solve_upper(np.swapaxes(L, 1, 2), B)[k],
+                                   solve_triangular(L[k].T, B[k], lower=False), rtol=1e-12)
+    np.testing.assert_allclose(cholesky_inverse(L) @ L, np.broadcast_to(np.eye(5), L.shape),
+                               atol=1e-12)
