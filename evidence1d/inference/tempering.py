@@ -21,7 +21,13 @@ particles drawn from the prior is moved through them:
    expected to have moved at least once, ⌈ln(1 − moved)/ln(1 − acceptance)⌉ (Drovandi &
    Pettitt 2011, from memory), within [``min_sweeps``, ``max_sweeps``] (default [3, 20]).
 4. After β = 1, a final importance stage (:mod:`evidence1d.inference.importance`) gives an
-   estimate of Z that does not rely on the moves having equilibrated the population.
+   estimate of Z that does not rely on the moves having equilibrated the population.  When
+   its weights' effective sample size stays below :data:`IMPORTANCE_MIN_ESS` of the draws,
+   the population is swept further at β = 1 (``max_sweeps`` sweeps) and the proposal fitted
+   again, up to :data:`IMPORTANCE_ROUNDS` times.  Measured on the coupled-chains family on
+   chain data (J_⊥ piled at 0, 2 × 150 particles): the first proposals had ESS 13 and 28 of
+   600 draws and the islands kept tempered estimates 1.5 nats low; after one round ESS 33
+   and 64, direct ln K 8.09 ± 0.17 against the Savage–Dickey 7.73 ± 0.10.
 
 Why at least 3 sweeps and not more: with the final importance stage the moves only have to
 carry the population to the posterior, not equilibrate it for an unbiased tempered estimate.
@@ -79,6 +85,11 @@ _TARGET_ACC = 0.25
 #: at least this fraction of its draws (common practice: below it the proposal missed part of
 #: the posterior and the weights' variance estimate is itself unreliable)
 IMPORTANCE_MIN_ESS = 0.05
+
+#: Rounds of further equilibration at β = 1 (``max_sweeps`` sweeps of the population's own
+#: moves) and a new proposal, at most, each only when the previous proposal's effective sample
+#: size is below IMPORTANCE_MIN_ESS of its draws
+IMPORTANCE_ROUNDS = 2
 
 #: Draws of the final importance stage per particle (measured on the coupled-chains family on
 #: chain data, 4 parameters, 150 particles: ESS 10 % of the draws, ln Z within 0.2 nat of an
@@ -332,6 +343,22 @@ def _run_island(call, prior, rng, n, rho, moved, min_sweeps, max_sweeps, max_tem
     imp, final = None, float(log_z)
     if importance_draws:
         imp = importance_evidence(call, prior, space, z, rng, int(importance_draws))
+        for _ in range(IMPORTANCE_ROUNDS):
+            if not (imp["ess"] < IMPORTANCE_MIN_ESS * imp["n_draws"]
+                    and math.isfinite(imp["log_z"])):
+                break
+            # the proposal covered the posterior poorly: the population lags behind the
+            # posterior (typically one piled at a bound), so it is equilibrated further at
+            # β = 1 by the same moves and the proposal fitted again; only the new round's
+            # fresh draws make the estimate, so it stays unbiased
+            spent, rounds = imp["n_evaluations"], imp.get("adapted", 0)
+            n_before = call.n_evaluations
+            for _ in range(max_sweeps):
+                _split_sweep(z, ll, lbase, 1.0, scale, call, prior, space, rng)
+            samples[-1], lls[-1] = space.from_work(z)[0], ll.copy()
+            imp = importance_evidence(call, prior, space, z, rng, int(importance_draws))
+            imp["n_evaluations"] = spent + call.n_evaluations - n_before   # sweeps and draws
+            imp["adapted"] = rounds + 1
         imp["used"] = bool(imp["ess"] >= IMPORTANCE_MIN_ESS * imp["n_draws"]
                            and math.isfinite(imp["log_z"]))
         if imp["used"]:

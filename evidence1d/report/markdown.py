@@ -360,7 +360,9 @@ def _methods(s, ctx) -> tuple:
                              "(half a Student t with ν = 5 and the population's covariance "
                              "widened 1.5 times in every direction, half Gaussian kernels "
                              "on the particles, 10 % of the prior) and quotes that importance estimate of its evidence when "
-                             "the weights' effective sample size reaches 5 % of the draws, "
+                             "the weights' effective sample size reaches 5 % of the draws "
+                             "(below that, up to twice, after further sweeps of its moves at "
+                             "β = 1 and a proposal fitted again), "
                              f"else its tempered estimate (importance estimate quoted on "
                              f"{counts} islands). ")
             parts.append("ln Z is the log of the mean island evidence and its error the "

@@ -105,3 +105,42 @@ def test_tempered_evidence_on_a_posterior_piled_at_a_bound():
                             n_islands=4, progress=False)
     assert all(isl.importance["used"] for isl in res.islands)
     assert abs(res.log_z - truth) < max(3 * res.log_z_err, 0.1), (res.log_z, truth)
+
+
+def test_a_poorly_covered_posterior_is_swept_again_before_the_tempered_estimate_is_kept(
+        monkeypatch):
+    # When the first proposal's ESS is below 5 % of its draws, the island sweeps its
+    # population further at β = 1 and fits the proposal again (tempering.IMPORTANCE_ROUNDS),
+    # instead of falling back at once to a tempered estimate that may be biased low.  Here
+    # the first proposal is made to fail (its population is moved away from the posterior,
+    # as test_a_population_far_from_the_posterior_is_flagged_by_its_ess shows it then
+    # fails); the next round must recover the analytic evidence of the boundary problem.
+    from evidence1d.inference import tempering
+    loglike, prior, truth = _boundary_problem()
+    calls = []
+    real = tempering.importance_evidence
+
+    fresh = []
+    real_island = tempering._run_island
+
+    def island(*a, **kw):
+        fresh.append(True)                          # the next proposal is the island's first
+        return real_island(*a, **kw)
+
+    def first_fails(call, prior_, space, z, rng, n_draws, **kw):
+        if fresh and fresh.pop():
+            z = np.column_stack([space.to_work(np.column_stack([
+                rng.uniform(0.5, 1.5, z.shape[0]), rng.normal(-0.5, 0.01, z.shape[0])]))])
+        calls.append(z.shape[0])
+        return real(call, prior_, space, z, rng, n_draws, **kw)
+
+    monkeypatch.setattr(tempering, "importance_evidence", first_fails)
+    monkeypatch.setattr(tempering, "_run_island", island)
+    res = tempered_evidence(loglike, prior, rng=np.random.default_rng(16), n_particles=150,
+                            n_islands=2, progress=False)
+    assert len(calls) >= 2 * 2                     # every island took a second round
+    for isl in res.islands:
+        assert isl.importance["adapted"] >= 1 and isl.importance["used"]
+        # the round's sweeps count among the importance stage's evaluations
+        assert isl.importance["n_evaluations"] > isl.importance["n_draws"]
+    assert abs(res.log_z - truth) < max(3 * res.log_z_err, 0.1), (res.log_z, truth)
