@@ -2,7 +2,7 @@
 
 A Cholesky factor L of a badly conditioned matrix (a linear nuisance whose column is almost
 zero, next to prior variances of 10²⁶) is still an exact factor, and forward or back
-substitution with it is backward stable (Higham 2002, Thm 8.5).  A general solver
+substitution with it is backward stable (Higham 2002, ch. 8; theorem number from memory).  A general solver
 (``numpy.linalg.solve``, LU with partial pivoting) applied to the same triangle may pivot
 and lose that stability: on a scale column of 10⁻³¹ it returned |L⁻¹b|² larger than the
 data's Σr², an impossible marginal likelihood.  Hence these.

@@ -210,7 +210,7 @@ def chain_average(values, x, values2=None) -> np.ndarray:
     ----------
     Isotropic average with Q_∥ = |Q| cos θ, cos θ uniform: Squires (1978), Ch. 7;
     closed-form integral of the cosine series (Trefethen 2000, Ch. 8); ∫ t² cos t dt by
-    parts (Gradshteyn & Ryzhik 2.633).
+    parts (Gradshteyn & Ryzhik 2.633, from memory).
     """
     values = np.asarray(values, dtype=float)
     n = values.shape[-1] - 1

@@ -95,7 +95,7 @@ def test_chain_average_quadratic_term_against_quadrature():
                            limit=200, epsabs=0, epsrel=1e-13)[0] / xi for xi in x]
     np.testing.assert_allclose(got, want, rtol=1e-11)
     # one term each: the basis alone at m = 3 against ∫ q² cos(3q) dq by parts
-    # (Gradshteyn & Ryzhik 2.633)
+    # (Gradshteyn & Ryzhik 2.633, from memory; the quadrature above checks it independently)
     B = pw._quadratic_basis(x, 3)[3]
     y = 3 * x
     closed = (y ** 2 * np.sin(y) + 2 * y * np.cos(y) - 2 * np.sin(y)) / y ** 3
