@@ -15,7 +15,7 @@ from .inference.likelihood import gaussian_loglike, student_t_loglike
 from .inference.likelihood import gaussian_loglike_pointwise as gaussian_pointwise
 from .inference.likelihood import student_t_loglike_pointwise as student_t_pointwise
 from .inference.prior_specs import prior_from_spec
-from .inference.priors import JointPrior
+from .inference.priors import Fixed, JointPrior
 
 __all__ = ["JointProblem"]
 
@@ -64,6 +64,11 @@ class JointProblem:
                 pr = case.sample.g_prior
             priors[pname] = choice.priors.get(pname, pr)
             units[pname] = pinfo["unit"]
+        warm = any(ds.kind.endswith("spectrum") and float(ds.options.get("temperature") or 0.0) > 0
+                   for ds in case.datasets)
+        for pname in cls.thermal_parameters:
+            if not warm and pname not in choice.priors:
+                priors[pname] = Fixed(0.0)      # no spectrum at T > 0 can see it
         extras = []
         for pr_ in self.predictors:
             extras += [e for e in pr_.extras if e not in extras]

@@ -15,7 +15,7 @@ from evidence1d.simulate import NoiseModel, regenerate
 HERE = Path(__file__).resolve().parent
 SEED = 14
 TRUTH = {
-    "J": 1.05, "delta": 0.85, "g": 2.12,
+    "J": 1.05, "delta": 0.85, "thermal_damping": 0.0, "g": 2.12,
     "chi0": 2.0e-4, "c_imp": 4.0e-3, "gamma_e": 5.0e-3, "beta_lattice": 2.0e-4,
     "powder:scale": 40.0, "powder:background": 0.5, "powder:slope": 0.05,
 }

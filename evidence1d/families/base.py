@@ -146,6 +146,11 @@ class Family:
     #: loader rejects any other spin with a one-line error
     spins: tuple[float, ...] | None = None
 
+    #: physical parameters that act only on spectra measured at T > 0 (a thermal damping);
+    #: where no spectrum dataset of a case has T > 0 they are held at 0 and not sampled,
+    #: unless the case gives them a prior of its own
+    thermal_parameters: tuple[str, ...] = ()
+
     #: whether :meth:`spectrum` applies the momentum resolution of ``pts`` itself
     handles_q_resolution: bool = False
 

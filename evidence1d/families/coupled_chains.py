@@ -65,7 +65,8 @@ class CoupledChainsFamily(ChainPolarisation, Family):
     Notes
     -----
     Parameters (model card ``models/coupled_chains.yaml``): ``J`` (meV), ``J_perp`` (meV),
-    ``delta`` (Δ, 1), ``g`` (1).  ``spectrum`` is the polarisation-weighted cross-section:
+    ``delta`` (Δ, 1), ``thermal_damping`` (b, 1: the spinon family's thermal damping of the
+    chain's continuum, applied to the chain's part of the dressed spectrum), ``g`` (1).  ``spectrum`` is the polarisation-weighted cross-section:
     the dressed spectrum with the three spin components summed times the chain's uniaxial
     polarisation factor (:mod:`.chain_polarisation`, with the chain's longitudinal share
     f_zz(q)), as the spinon family.  That is exact at J_⊥ = 0 (the spinon family) and at
@@ -81,7 +82,9 @@ class CoupledChainsFamily(ChainPolarisation, Family):
     """
 
     family_name = "coupled_chains"
-    parameters = ("J", "J_perp", "delta", "g")
+    parameters = ("J", "J_perp", "delta", "thermal_damping", "g")
+    #: the thermal damping is invisible where every spectrum is measured at T = 0
+    thermal_parameters = ("thermal_damping",)
     spins = (0.5,)
     kinds = ("crystal_spectrum", "powder_spectrum", "susceptibility", "heat_capacity", "entropy")
 
@@ -124,7 +127,8 @@ class CoupledChainsFamily(ChainPolarisation, Family):
         Parameters
         ----------
         p : dict
-            ``J``, ``J_perp`` (meV) and ``delta``, each of shape (n_sets, 1).
+            ``J``, ``J_perp`` (meV), ``delta`` and ``thermal_damping`` (b; 0 if absent),
+            each of shape (n_sets, 1).
         pts : SpectralPoints
             Chain and interchain phases, energies, resolution σ (meV) and temperature (K).
 
@@ -139,7 +143,8 @@ class CoupledChainsFamily(ChainPolarisation, Family):
         return coupled_spectrum(pts.q_par, pts.q_a, pts.q_b, pts.energy, pts.sigma,
                                 pts.temperature, _col(p["J"]), _col(p["J_perp"]),
                                 _col(p["delta"]), z_perp=self.z_perp,
-                                line_shape=self.line_shape, grid=self._grid(pts))
+                                line_shape=self.line_shape, grid=self._grid(pts),
+                                thermal_damping=_col(p.get("thermal_damping", 0.0)))
 
     def susceptibility(self, p: dict, T: np.ndarray, direction: str = "powder") -> np.ndarray:
         """χ(T) in emu/mol: chain tables dressed by interchain mean field above T_N.

@@ -24,6 +24,7 @@ import numpy as np
 from .. import units as U
 from ..errors import InputError
 from ..physics.chain_spectrum import LINE_SHAPES, spinon_spectrum
+from ..physics.thermal_damping import damped_spectrum
 from .base import Family, SpectralPoints
 from .chain_polarisation import ChainPolarisation, check_anisotropy_axis
 
@@ -54,8 +55,10 @@ class SpinonFamily(ChainPolarisation, Family):
     Notes
     -----
     Parameters (model card ``models/spinon_continuum.yaml``): ``J`` (meV, > 0), ``delta``
-    (Δ > −1, dimensionless), ``g`` (Landé factor, used by the generic layer's form factor
-    and by the thermodynamics, not by the spectrum).
+    (Δ > −1, dimensionless), ``thermal_damping`` (b ≥ 0: χ'' convolved with a Gaussian of
+    standard deviation b k_BT, :mod:`evidence1d.physics.thermal_damping`; no effect at
+    T = 0), ``g`` (Landé factor, used by the generic layer's form factor and by the
+    thermodynamics, not by the spectrum).
 
     References
     ----------
@@ -64,7 +67,10 @@ class SpinonFamily(ChainPolarisation, Family):
     """
 
     family_name = "spinon_continuum"
-    parameters = ("J", "delta", "g")
+    parameters = ("J", "delta", "thermal_damping", "g")
+
+    #: the thermal damping is invisible where every spectrum is measured at T = 0
+    thermal_parameters = ("thermal_damping",)
 
     #: the two-spinon continuum and the chain thermodynamics hold for S = 1/2 only
     spins = (0.5,)
@@ -93,7 +99,8 @@ class SpinonFamily(ChainPolarisation, Family):
         Parameters
         ----------
         p : dict
-            ``J`` (meV) and ``delta``, each of shape (n_sets, 1).
+            ``J`` (meV), ``delta`` and ``thermal_damping`` (b, dimensionless; 0 if absent),
+            each of shape (n_sets, 1).
         pts : SpectralPoints
             Chain phase ``q_par`` (rad), ``energy`` and ``sigma`` (meV), ``temperature`` (K).
 
@@ -110,8 +117,15 @@ class SpinonFamily(ChainPolarisation, Family):
         """
         J = np.asarray(p["J"], dtype=float).reshape(-1, 1)
         delta = np.asarray(p["delta"], dtype=float).reshape(-1, 1)
-        return spinon_spectrum(pts.q_par, pts.energy, pts.sigma, pts.temperature, J, delta,
-                               line_shape=self.line_shape)
+        b = np.broadcast_to(np.asarray(p.get("thermal_damping", 0.0), float).reshape(-1, 1),
+                            J.shape)
+        q = np.asarray(pts.q_par, dtype=float)
+
+        def undamped(E, sigma, rows):
+            return spinon_spectrum(q[rows], E, sigma, pts.temperature, J, delta,
+                                   line_shape=self.line_shape)
+
+        return damped_spectrum(undamped, pts.energy, pts.sigma, pts.temperature, b)
 
     # ------------------------------------------------------------- thermodynamics
     @staticmethod

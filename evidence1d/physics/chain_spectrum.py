@@ -58,13 +58,20 @@ __all__ = ["spinon_spectrum", "spinon_density", "LINE_SHAPES"]
 LINE_SHAPES = ("exact", "muller")
 
 _HERMITE_MAX = HERMITE_TIERS[-1][1]  # σ/k_BT up to which the thermal path is Gauss–Hermite
+#: exact profile at T > 0: (panels of the signed-axis rule, σ/k_BT up to which it is used);
+#: beyond 1.25 k_BT every window takes it (more panels as the window spans more of the
+#: thermal edge), not only those near ±ω_U
+_SIGNED_PANELS = ((2, _HERMITE_MAX), (3, 1.8), (4, 2.4), (5, 3.2))
 
 
 def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth):
     """One sheet with the exact profile A R_T(ω) D(ω) on [ω_L, top], convolved, flat arrays.
 
     T = 0: :func:`evidence1d.physics.chain_exact_quadrature.convolve_zero`.  T > 0:
-    σ ≤ 1.25 k_BT near ±ω_U, :func:`~evidence1d.physics.chain_exact_quadrature.signed_side`;
+    σ ≤ 1.25 k_BT near ±ω_U, and every window with 1.25 k_BT < σ ≤ 3.2 k_BT (the widths of
+    a thermally damped spectrum; 3 to 5 panels, :data:`_SIGNED_PANELS`; measured within
+    1.2e-5 of the peak of the all-Gauss–Legendre reference path, and the tests against
+    adaptive quadrature), :func:`~evidence1d.physics.chain_exact_quadrature.signed_side`;
     the rest, :func:`evidence1d.physics.chain_thermal.convolve_thermal` with the profile
     ratio R_T at its nodes, :func:`~evidence1d.physics.chain_exact_quadrature.t_side` as the
     T = 0 edge path and, for windows clear of the thermal edge but not of ω_U, on the
@@ -86,16 +93,25 @@ def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth):
     # profile vanishes as a square root; all such pairs on the reference path)
     kTa = np.full(Ef.size, float(kT))
     six = N_SIGMA * sf
-    narrow = ((A > 0) & (sf <= _HERMITE_MAX * kT) & (Ef - six < top) & (Ef + six > -top)
+    reach = _SIGNED_PANELS[-1][1] if smooth else _HERMITE_MAX
+    narrow = ((A > 0) & (sf <= reach * kT) & (Ef - six < top) & (Ef + six > -top)
               & ((Ef + six > wl - 40.0 * kT) | (Ef - six < 40.0 * kT - wl)))
     if smooth:
-        narrow &= np.abs(Ef) + cxq.TOP_CLEAR * sf > top
+        narrow &= (np.abs(Ef) + cxq.TOP_CLEAR * sf > top) | (sf > _HERMITE_MAX * kT)
     out = np.zeros(Ef.size)
-    ix = np.flatnonzero(narrow)
-    if ix.size:
-        rule = () if smooth else (n_nodes, max(n_panels, 2), N_SIGMA)
-        out[ix] = A[ix] * cxq.signed_side(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
-                                                  *rule)
+    if smooth:
+        prev = 0.0
+        for panels, r_max in _SIGNED_PANELS:
+            ix = np.flatnonzero(narrow & (sf > prev * kT) & (sf <= r_max * kT))
+            prev = r_max
+            if ix.size:
+                out[ix] = A[ix] * cxq.signed_side(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
+                                                  n_panels=panels)
+    else:
+        ix = np.flatnonzero(narrow)
+        if ix.size:
+            out[ix] = A[ix] * cxq.signed_side(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
+                                              n_nodes, max(n_panels, 2), N_SIGMA)
     out += convolve_thermal(Ef, sf, wl, top, np.where(narrow, 0.0, A), kT, old_side,
                             "quadrature", n_nodes, n_panels, smooth,
                             ratio=chain_exact.ratio_fast, top_side=top_side)

@@ -78,6 +78,7 @@ from ..units import K_B_MEV
 from . import chain_exact
 from .chain import all_sheets
 from .chain_spectrum import _EDGE_WINDOW, _cold_density, spinon_spectrum
+from .thermal_damping import damped_spectrum
 from .chain_thermal import thermal_density
 from .coupled_chain import _check, _chi2, _couplings, _Sheets, rpa_poles
 from .coupled_chain_ordered import ordered_modes, ordered_state, two_soliton_threshold
@@ -425,7 +426,8 @@ def _ordered(rows, grid, chain, pts, T, J, Jp, delta, z_perp, ls, te):
 
 
 def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
-                     line_shape="exact", thermal_edge="near_pi", grid=None):
+                     line_shape="exact", thermal_edge="near_pi", grid=None,
+                     thermal_damping=0.0):
     """Resolution-convolved S(Q, E) of the coupled chains per spin, 1/meV (module notes).
 
     Above this family's T_N (:func:`evidence1d.physics.coupled_chain_thermo.neel_temperature`)
@@ -450,6 +452,12 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
         As the spinon family.
     grid : tuple, optional
         ``spectrum_grid(q, q_a, q_b, E, sigma)`` computed once for these points (a cache).
+    thermal_damping : array_like, shape (n_sets, 1) or scalar, optional
+        The spinon family's thermal damping b ≥ 0 (dimensionless;
+        :mod:`evidence1d.physics.thermal_damping`), applied to the chain's part G_σ ∗ S_1D
+        of the split above (so that J_⊥ = 0 is the spinon family at the same b); the
+        interchain corrections (the bracket on the grid, the edge step, the poles and the
+        modes below T_N) are computed from the undamped chain.
 
     Returns
     -------
@@ -467,8 +475,13 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
     q, q_a, q_b, E, sigma = np.broadcast_arrays(*(np.asarray(x, float).ravel()
                                                   for x in (q, q_a, q_b, E, sigma)))
     rows, grid_ = grid if grid is not None else spectrum_grid(q, q_a, q_b, E, sigma)
-    chain = spinon_spectrum(q, E, sigma, T, J, delta, line_shape=line_shape,
-                            thermal_edge=thermal_edge)
+    b = np.broadcast_to(np.asarray(thermal_damping, float).reshape(-1, 1), J.shape)
+
+    def undamped(E_, s_, idx):
+        return spinon_spectrum(q[idx], E_, s_, T, J, delta, line_shape=line_shape,
+                               thermal_edge=thermal_edge)
+
+    chain = damped_spectrum(undamped, E, sigma, T, b)
     TN = neel_temperature(J, Jp, delta, z_perp=z_perp, line_shape=line_shape,
                           thermal_edge=thermal_edge)
     below = (TN > T)[:, 0] & (Jp > 0)[:, 0]

@@ -122,9 +122,10 @@ def test_fitted_scale_on_two_spinon_data_is_the_published_moment_share(tmp_path)
     J, g = 1.0, 2.1
     case = _absolute_case(tmp_path, J=J, g=g)
     prob = case.problem("spinon_continuum")
-    theta = np.tile([J, 1.0, g], (40, 1)).astype(float)
+    theta = np.zeros((40, len(prob.names)))
     theta[:, prob.names.index("J")] = J
     theta[:, prob.names.index("delta")] = 1.0
+    theta[:, prob.names.index("thermal_damping")] = 0.0       # undamped: T = 0 data
     theta[:, prob.names.index("g")] = g
     nuis = prob.draw_marginalised(theta, np.random.default_rng(1))
     full = np.hstack([theta, nuis])
@@ -152,7 +153,9 @@ def test_scale_ratio_follows_the_samples(tmp_path):
     # doubles r, and the consistency flag follows |ln r| against the uncertainty
     case = _absolute_case(tmp_path)
     prob = case.problem("spinon_continuum")
-    theta = np.tile([1.0, 1.0, 2.1], (40, 1))
+    theta = np.zeros((40, len(prob.names)))
+    for k, v in {"J": 1.0, "delta": 1.0, "thermal_damping": 0.0, "g": 2.1}.items():
+        theta[:, prob.names.index(k)] = v
     nuis = prob.draw_marginalised(theta, np.random.default_rng(2))
     full = np.hstack([theta, nuis])
     i = prob.full_names.index("map:scale")

@@ -313,6 +313,7 @@ def test_a_case_with_data_its_family_does_not_predict_is_rejected(tmp_path, regi
     card = _CARD.format(family="spectra_only").replace("parameters:\n", textwrap.dedent("""\
         parameters:
           delta: {unit: "1", description: anisotropy, prior: {kind: uniform, lower: 0, upper: 2}}
+          thermal_damping: {unit: "1", description: damping, prior: {kind: uniform, lower: 0, upper: 3}}
           g: {unit: "1", description: g factor, prior: {kind: normal, mean: 2.1, sd: 0.1}}
         """))
     (tmp_path / "card.yaml").write_text(card)

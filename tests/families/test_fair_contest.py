@@ -23,7 +23,7 @@ from evidence1d.families import FAMILY_CLASSES, SpectralPoints
 from evidence1d.units import K_B_MEV
 
 CARDS = {n: load_card(p) for n, p in sorted(bundled_cards().items())}
-SHARED = ("J", "delta", "g")
+SHARED = ("J", "delta", "thermal_damping", "g")
 
 
 def _spec(prior):
@@ -74,9 +74,10 @@ def _family(name):
 
 
 PARAMS = {
-    "spinon_continuum": {"J": 1.0, "delta": 1.0, "g": 2.1},
+    "spinon_continuum": {"J": 1.0, "delta": 1.0, "thermal_damping": 0.8, "g": 2.1},
     "gapped_spin_wave": {"J": 1.0, "J_perp": 0.1, "delta": 1.05, "damping": 0.4, "g": 2.1},
-    "coupled_chains": {"J": 1.0, "J_perp": 0.05, "delta": 1.0, "g": 2.1},
+    "coupled_chains": {"J": 1.0, "J_perp": 0.05, "delta": 1.0, "thermal_damping": 0.8,
+                       "g": 2.1},
     "paramagnon": {"chi_uniform": 0.01, "theta_sf": 30.0, "xi_par": 8.0, "xi_perp": 2.0,
                    "gamma0": 1.0, "g": 2.1},
     "paramagnon_incommensurate": {"chi_uniform": 0.01, "theta_sf": 30.0, "xi_par": 8.0,

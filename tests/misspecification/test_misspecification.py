@@ -76,13 +76,7 @@ def _chi2_per_point(case, name, samples):
 
 
 #: a verdict known to be wrong today, kept visible (strict: the test fails once it is right)
-KNOWN_WRONG = {
-    "chain_thermal": "at k_BT = 0.3 J the spinon family's conformal finite-temperature edge "
-                     "and the generator's Lorentzian thermal damping disagree near q = pi "
-                     "(cut chi2/N about 18 at J = 1.03 meV); the ordered family in its "
-                     "one-dimensional limit (J_perp = 0.015 meV) with the largest damping its "
-                     "prior allows fits better by about 600 nats",
-}
+KNOWN_WRONG: dict = {}
 
 
 @pytest.mark.slow

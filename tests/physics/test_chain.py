@@ -165,7 +165,7 @@ def test_batch_equals_loop_and_periodicity(shape, T):
 
 def test_family_adapter():
     fam = SpinonFamily()
-    assert fam.parameters == ("J", "delta", "g")
+    assert fam.parameters == ("J", "delta", "thermal_damping", "g")
     # the family contract's declared spins (families/base.py): spinons exist for S = 1/2 only
     assert SpinonFamily.spins == (0.5,) and fam.spins == (0.5,)
     pts = SpectralPoints(Q_par=np.linspace(0.1, 1.5, 30), Q_a=np.zeros(30), Q_b=np.zeros(30),

@@ -164,11 +164,12 @@ def test_zero_temperature_convolution_against_quadrature(seed, K1):
         assert np.max(np.abs(got - want)) < 2e-4 * peak
 
 
-@pytest.mark.parametrize("ratio", [0.1, 0.45, 1.0, 1.3, 4.0, 20.0])
+@pytest.mark.parametrize("ratio", [0.1, 0.45, 1.0, 1.3, 1.6, 2.2, 3.0, 4.0, 20.0])
 def test_thermal_convolution_against_quadrature(ratio, K1):
-    # sigma / k_BT picks the path: Gauss-Hermite on the signed axis (<= 1.25) or per side with
-    # the thermal correction; windows near the upper edge on their own rule; a continuum
-    # narrower than k_BT (q = 0.3 at Delta = 1)
+    # sigma / k_BT picks the path: the signed-axis rule near the upper edge (<= 1.25) and,
+    # with 3 to 5 panels, for every window up to 3.2 (the widths of a thermally damped
+    # spectrum), or per side with the thermal correction; windows near the upper edge on
+    # their own rule; a continuum narrower than k_BT (q = 0.3 at Delta = 1)
     for J, D, q in [(1.0, 1.0, 2.0), (1.0, 1.0, 0.3), (1.3, 0.6, np.pi - 0.01),
                     (0.7, 2.0, 2.4)]:
         sh = chain.two_spinon_sheets(np.array([q]), np.array([[J]]), np.array([[D]]))
