@@ -39,6 +39,13 @@ def test_no_interchain_coupling_is_the_spinon_family(delta, T):
     pts = _points(T)
     ref = chain.spectrum(p, pts)
     np.testing.assert_allclose(fam.spectrum(p, pts), ref, rtol=1e-12, atol=1e-14 * ref.max())
+    # with the thermal damping too (both families, the same b per set)
+    pd = {**p, "thermal_damping": np.array([[0.7], [2.4]])}
+    ref_d = chain.spectrum(pd, pts)
+    if T > 0:
+        assert np.abs(ref_d - ref).max() > 1e-3 * ref.max()      # the damping acts
+    np.testing.assert_allclose(fam.spectrum(pd, pts), ref_d, rtol=1e-12,
+                               atol=1e-14 * ref_d.max())
     temps = np.geomspace(0.5, 300.0, 30)
     for d in DIRECTIONS:
         np.testing.assert_allclose(fam.susceptibility(p, temps, d),
