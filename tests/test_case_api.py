@@ -185,3 +185,27 @@ def test_one_dimensional_limits_key(tmp_path):
         off["definition"]
     assert on["nested_limits"][0]["counted"] is True and "are counted" in on["definition"]
     assert on["p_with_nested_limits"] == pytest.approx(off["p_with_nested_limits"])
+
+
+def _damping_case(tmp_path, text):
+    from casefactory import write_valid_case
+    return evidence1d.load_case(write_valid_case(tmp_path, text))
+
+
+def test_thermal_damping_is_sampled_only_where_a_spectrum_is_warm(tmp_path):
+    """The chain families' damping acts only on spectra at T > 0 (Family.thermal_parameters):
+    sampled with a spectrum, held at 0 in a case of thermodynamics only, sampled again when
+    the case gives it a prior of its own."""
+    warm = _damping_case(tmp_path / "warm", CASE_YAML)
+    assert "thermal_damping" in warm.parameter_names("spinon_continuum")
+    head, rest = CASE_YAML.split("  - name: map\n", 1)
+    cold_text = head + "  - name: chi\n" + rest.split("  - name: chi\n", 1)[1]
+    cold = _damping_case(tmp_path / "cold", cold_text)
+    assert "thermal_damping" not in cold.parameter_names("spinon_continuum")
+    prob = cold.problem("spinon_continuum")
+    theta = np.array([[1.0, 1.0, 2.1]])
+    assert prob.params(theta)["thermal_damping"][0, 0] == 0.0
+    own = cold_text.replace("  - spinon_continuum\n", "  - {name: spinon_continuum, priors: "
+                            "{thermal_damping: {kind: uniform, lower: 0, upper: 1}}}\n")
+    assert "thermal_damping" in _damping_case(tmp_path / "own", own).parameter_names(
+        "spinon_continuum")

@@ -147,7 +147,7 @@ class Family:
     spins: tuple[float, ...] | None = None
 
     #: physical parameters that act only on spectra measured at T > 0 (a thermal damping);
-    #: where no spectrum dataset of a case has T > 0 they are held at 0 and not sampled,
+    #: in a case without spectra (every spectrum has T > 0) they are held at 0, not sampled,
     #: unless the case gives them a prior of its own
     thermal_parameters: tuple[str, ...] = ()
 
