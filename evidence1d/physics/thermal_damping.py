@@ -9,8 +9,9 @@ standard deviation σ_th = b k_BT (b ≥ 0 dimensionless, sampled by the chain f
 χ''_b stays odd in ω, so S_b obeys detailed balance S_b(−ω) = e^{−ω/k_BT} S_b(ω) exactly, and
 χ''_b has the same integral ∫ χ''/ω dω up to O(σ_th²) (the static susceptibility is not
 renormalised to first order).  A width proportional to k_BT is the scale of the thermal
-relaxation of a critical (Luttinger-liquid) chain, whose correlations decay in time as
-e^{−πk_BT t/ħ} at the staggered wavevector (Schulz, PRB 34, 6372 (1986); from memory); the
+relaxation of a critical (Luttinger-liquid) chain, whose staggered on-site correlation
+decays in time as [πk_BT/sinh(πk_BT t/ħ)]^{4h} → e^{−πk_BT t/ħ} for the Heisenberg chain's
+h = 1/4 (Schulz, PRB 34, 6372 (1986); from memory); the
 Gaussian form and the free factor b are phenomenology (common practice), the same footing as
 the Lorentzian damping ratio of the ordered family's modes.
 
