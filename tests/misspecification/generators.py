@@ -65,8 +65,9 @@ def chain_spectrum(q, E, J, T, thermal_width=0.0):
     """2 S^zz(q, ω) of the Heisenberg chain (exact two-spinon shape), resolution applied.
 
     With ``thermal_width`` = Γ > 0 the T = 0 χ''(q, ω) (odd in ω) is convolved with a
-    Lorentzian of HWHM Γ before the Bose factor: an ad hoc thermal damping of the spinons
-    that no family contains.
+    Lorentzian of HWHM Γ before the Bose factor: a lifetime damping of the spinons (the
+    chain families damp χ'' with a Gaussian instead; the scenarios choose Γ by
+    :func:`scenarios.thermal_hwhm`).
     """
     q, E = np.asarray(q, float), np.asarray(E, float)
     out = np.zeros_like(E)
