@@ -64,11 +64,10 @@ class JointProblem:
                 pr = case.sample.g_prior
             priors[pname] = choice.priors.get(pname, pr)
             units[pname] = pinfo["unit"]
-        warm = any(ds.kind.endswith("spectrum") and float(ds.options.get("temperature") or 0.0) > 0
-                   for ds in case.datasets)
+        spectra = any(ds.kind.endswith("spectrum") for ds in case.datasets)
         for pname in cls.thermal_parameters:
-            if not warm and pname not in choice.priors:
-                priors[pname] = Fixed(0.0)      # no spectrum at T > 0 can see it
+            if not spectra and pname not in choice.priors:
+                priors[pname] = Fixed(0.0)      # no dataset can see it
         extras = []
         for pr_ in self.predictors:
             extras += [e for e in pr_.extras if e not in extras]

@@ -146,9 +146,9 @@ class Family:
     #: loader rejects any other spin with a one-line error
     spins: tuple[float, ...] | None = None
 
-    #: physical parameters that act only on spectra measured at T > 0 (a thermal damping);
-    #: in a case without spectra (every spectrum has T > 0) they are held at 0, not sampled,
-    #: unless the case gives them a prior of its own
+    #: physical parameters that act only on spectra (a thermal damping, which vanishes at
+    #: T = 0; every spectrum of a case has T > 0): in a case without spectra they are held at
+    #: 0, not sampled, unless the case gives them a prior of its own
     thermal_parameters: tuple[str, ...] = ()
 
     #: whether :meth:`spectrum` applies the momentum resolution of ``pts`` itself

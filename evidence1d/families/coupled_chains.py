@@ -66,8 +66,8 @@ class CoupledChainsFamily(ChainPolarisation, Family):
     -----
     Parameters (model card ``models/coupled_chains.yaml``): ``J`` (meV), ``J_perp`` (meV),
     ``delta`` (Δ, 1), ``thermal_damping`` (b, 1: the spinon family's thermal damping of the
-    chain's continuum, applied to the chain's part of the dressed spectrum), ``g`` (1).  ``spectrum`` is the polarisation-weighted cross-section:
-    the dressed spectrum with the three spin components summed times the chain's uniaxial
+    chain's continuum, applied to the chain's part of the dressed spectrum), ``g`` (1).
+    ``spectrum`` is the polarisation-weighted cross-section: the dressed spectrum with the three spin components summed times the chain's uniaxial
     polarisation factor (:mod:`.chain_polarisation`, with the chain's longitudinal share
     f_zz(q)), as the spinon family.  That is exact at J_⊥ = 0 (the spinon family) and at
     Δ = 1 (isotropic); for Δ ≠ 1 and J_⊥ > 0 the dressing changes the components' mix
@@ -83,7 +83,7 @@ class CoupledChainsFamily(ChainPolarisation, Family):
 
     family_name = "coupled_chains"
     parameters = ("J", "J_perp", "delta", "thermal_damping", "g")
-    #: the thermal damping is invisible where every spectrum is measured at T = 0
+    #: the thermal damping acts on spectra only (held at 0 in a case without spectra)
     thermal_parameters = ("thermal_damping",)
     spins = (0.5,)
     kinds = ("crystal_spectrum", "powder_spectrum", "susceptibility", "heat_capacity", "entropy")

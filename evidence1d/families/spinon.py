@@ -24,7 +24,6 @@ import numpy as np
 from .. import units as U
 from ..errors import InputError
 from ..physics.chain_spectrum import LINE_SHAPES, spinon_spectrum
-from ..physics.thermal_damping import damped_spectrum
 from .base import Family, SpectralPoints
 from .chain_polarisation import ChainPolarisation, check_anisotropy_axis
 
@@ -69,7 +68,7 @@ class SpinonFamily(ChainPolarisation, Family):
     family_name = "spinon_continuum"
     parameters = ("J", "delta", "thermal_damping", "g")
 
-    #: the thermal damping is invisible where every spectrum is measured at T = 0
+    #: the thermal damping acts on spectra only (held at 0 in a case without spectra)
     thermal_parameters = ("thermal_damping",)
 
     #: the two-spinon continuum and the chain thermodynamics hold for S = 1/2 only
@@ -117,15 +116,9 @@ class SpinonFamily(ChainPolarisation, Family):
         """
         J = np.asarray(p["J"], dtype=float).reshape(-1, 1)
         delta = np.asarray(p["delta"], dtype=float).reshape(-1, 1)
-        b = np.broadcast_to(np.asarray(p.get("thermal_damping", 0.0), float).reshape(-1, 1),
-                            J.shape)
-        q = np.asarray(pts.q_par, dtype=float)
-
-        def undamped(E, sigma, rows):
-            return spinon_spectrum(q[rows], E, sigma, pts.temperature, J, delta,
-                                   line_shape=self.line_shape)
-
-        return damped_spectrum(undamped, pts.energy, pts.sigma, pts.temperature, b)
+        return spinon_spectrum(pts.q_par, pts.energy, pts.sigma, pts.temperature, J, delta,
+                               line_shape=self.line_shape,
+                               thermal_damping=p.get("thermal_damping", 0.0))
 
     # ------------------------------------------------------------- thermodynamics
     @staticmethod

@@ -50,6 +50,7 @@ from . import chain_exact, chain_exact_quadrature as cxq
 from .chain import all_sheets, reduced_phase
 from .chain_muller_quadrature import N_SIGMA, muller_edge_side, muller_smooth_side
 from .chain_thermal import HERMITE_TIERS, convolve_thermal, thermal_density
+from .thermal_damping import damped_spectrum
 
 __all__ = ["spinon_spectrum", "spinon_density", "LINE_SHAPES"]
 
@@ -236,7 +237,7 @@ def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth,
 
 
 def spinon_spectrum(q, E, sigma, T, J, delta, *, line_shape="exact", method="quadrature",
-                    n_nodes=None, n_panels=3, thermal_edge="near_pi"):
+                    n_nodes=None, n_panels=3, thermal_edge="near_pi", thermal_damping=None):
     """Resolution-convolved two-spinon S(q, E) per spin, S = χ''(n + 1)/π.
 
     T = 0: the model of :func:`evidence1d.physics.chain.two_spinon_sheets` on the
@@ -293,6 +294,10 @@ def spinon_spectrum(q, E, sigma, T, J, delta, *, line_shape="exact", method="qua
         of :func:`_edge_blend` (the conformal form is the chain's low-energy theory, valid
         where ω_L ≲ 2πk_BT, i.e. near q = π); 'everywhere' uses it at every q (kept for the
         tests of its quadrature).
+    thermal_damping : array_like, shape (n_sets, 1) or scalar, optional
+        Thermal damping b ≥ 0 (dimensionless): χ'' convolved with a Gaussian of standard
+        deviation b k_BT, detailed balance kept (:mod:`evidence1d.physics.thermal_damping`);
+        ``None`` or 0: undamped.
 
     Returns
     -------
@@ -330,9 +335,19 @@ def spinon_spectrum(q, E, sigma, T, J, delta, *, line_shape="exact", method="qua
     if thermal_edge not in ("near_pi", "everywhere"):
         raise InputError(f"the 'thermal_edge' parameter of spinon_spectrum must be 'near_pi' "
                          f"or 'everywhere'; got {thermal_edge!r} instead")
-    return _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels,
-                     smooth=(method == "quadrature"), line_shape=line_shape,
-                     thermal_edge=thermal_edge)
+    smooth = method == "quadrature"
+    if thermal_damping is None:
+        return _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth=smooth,
+                         line_shape=line_shape, thermal_edge=thermal_edge)
+    J = np.asarray(J, dtype=float).reshape(-1, 1)
+    delta = np.asarray(delta, dtype=float).reshape(-1, 1)
+    b = np.broadcast_to(np.asarray(thermal_damping, dtype=float).reshape(-1, 1), J.shape)
+
+    def undamped(E_, s_, rows):
+        return _spectrum(q[rows], E_, s_, T, J, delta, method, n_nodes, n_panels,
+                         smooth=smooth, line_shape=line_shape, thermal_edge=thermal_edge)
+
+    return damped_spectrum(undamped, E, sigma, T, b)
 
 
 def _check_line_shape(line_shape, where):

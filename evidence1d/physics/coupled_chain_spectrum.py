@@ -78,7 +78,6 @@ from ..units import K_B_MEV
 from . import chain_exact
 from .chain import all_sheets
 from .chain_spectrum import _EDGE_WINDOW, _cold_density, spinon_spectrum
-from .thermal_damping import damped_spectrum
 from .chain_thermal import thermal_density
 from .coupled_chain import _check, _chi2, _couplings, _Sheets, rpa_poles
 from .coupled_chain_ordered import ordered_modes, ordered_state, two_soliton_threshold
@@ -475,13 +474,8 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
     q, q_a, q_b, E, sigma = np.broadcast_arrays(*(np.asarray(x, float).ravel()
                                                   for x in (q, q_a, q_b, E, sigma)))
     rows, grid_ = grid if grid is not None else spectrum_grid(q, q_a, q_b, E, sigma)
-    b = np.broadcast_to(np.asarray(thermal_damping, float).reshape(-1, 1), J.shape)
-
-    def undamped(E_, s_, idx):
-        return spinon_spectrum(q[idx], E_, s_, T, J, delta, line_shape=line_shape,
-                               thermal_edge=thermal_edge)
-
-    chain = damped_spectrum(undamped, E, sigma, T, b)
+    chain = spinon_spectrum(q, E, sigma, T, J, delta, line_shape=line_shape,
+                            thermal_edge=thermal_edge, thermal_damping=thermal_damping)
     TN = neel_temperature(J, Jp, delta, z_perp=z_perp, line_shape=line_shape,
                           thermal_edge=thermal_edge)
     below = (TN > T)[:, 0] & (Jp > 0)[:, 0]

@@ -120,7 +120,7 @@ def damped_spectrum(convolve, E, sigma, T, width):
         pr_here = convolve(np.broadcast_to(E[rows][idx], s_e[:, idx].shape),
                            np.broadcast_to(s_r[idx], s_e[:, idx].shape), rows[idx])
     with np.errstate(over="ignore"):
-        n1 = 1.0 / -np.expm1(-x)                                      # n(E) + 1 (→ −0 far on the gain side)
+        n1 = 1.0 / -np.expm1(-x)              # n(E) + 1 (→ −0 far on the gain side)
     change = n1 * ((pe_p - pe_m) - (pr_p - pr_m))
     base = pr_p
     if np.any(moved):
