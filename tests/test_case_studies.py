@@ -6,7 +6,9 @@ case evidence1d's own simulator); expected.yaml names the family that must win, 
 ln Bayes factor against every other family, the parameters whose 95 % posterior interval
 must contain the truth (``truth_in_95``) and, where the generator's physics differs from
 every family's, the parameters whose posterior median must lie within a stated relative
-tolerance of the truth (``truth_within: {name: [truth, tolerance]}``).
+tolerance of the truth (``truth_within: {name: [truth, tolerance]}``) and, optionally, the
+largest χ²/N the winner may reach on each dataset (``winner_chi2_per_point_below``: a verdict is
+only worth its winner's fit).
 """
 from __future__ import annotations
 
@@ -60,6 +62,11 @@ def test_case_study_outcome(name, tmp_path):
     for pname, (truth, tol) in (expected.get("truth_within") or {}).items():
         med = float(np.median(samples[:, names.index(pname)]))
         assert abs(med / truth - 1.0) <= tol, f"{pname}: median {med:.4g}, truth {truth}"
+    fits = mr.analysis["goodness_of_fit"]
+    for ds, limit in (expected.get("winner_chi2_per_point_below") or {}).items():
+        f = fits[ds]
+        got = min(f["chi2_per_point"], f["chi2_min_draws"] / f["n_points"])
+        assert got < limit, f"{winner} fits {ds} at chi2/N = {got:.3g} (expected < {limit})"
 
 
 @pytest.mark.parametrize("name", CASES)

@@ -100,12 +100,32 @@ def chain_thermal(design=None):
             spectra, chi, heat, T)
 
 
-def _ordered_thermo(J, J_perp, z, T_N, jump, D):
-    """Chain ring χ dressed by interchain mean field above T_N, χ_⊥ = χ(T_N) and
-    χ_∥ = χ(T_N)(T/T_N)² below (powder (2χ_⊥ + χ_∥)/3); C: ring C above T_N, below
-    (C(T_N) + jump)(T/T_N)³ (a mean-field jump and a T³ magnon tail).  When T_N lies below
-    the ring's range (t < 0.33) the data start above it (χ from t = 0.33, C from t = 0.4)
-    and show only the paramagnetic chain."""
+def magnon_gas(omega, T, n=24):
+    """Heat capacity per spin (units of k_B) and the Kubo sum ⟨n(n + 1)⟩/T (1/K) of a gas of
+    bosons with dispersion ``omega(q, q_a, q_b)`` (meV, one mode per spin over the chemical
+    zone, the rotated-frame form of a collinear antiferromagnet's two transverse modes),
+    averaged over an n³ midpoint grid of the zone: c = ⟨x² n(n + 1)⟩, x = ω/k_BT
+    (R. M. White, Quantum Theory of Magnetism, 3rd ed. (2007), Ch. 6; R. Kubo, Phys. Rev.
+    87, 568 (1952) for χ_∥ ∝ ⟨n(n + 1)⟩/T)."""
+    k = 2.0 * np.pi * (np.arange(n) + 0.5) / n - np.pi
+    q, qa, qb = (a.ravel() for a in np.meshgrid(k, k, k, indexing="ij"))
+    w = np.asarray(omega(q, qa, qb), float)
+    T = np.atleast_1d(np.asarray(T, float))
+    x = w[None, :] / (K_B * T[:, None])
+    e = np.exp(-x)
+    nn1 = e / (1.0 - e) ** 2
+    return (x * x * nn1).mean(axis=1), nn1.mean(axis=1) / T
+
+
+def _ordered_thermo(J, J_perp, z, T_N, jump, D, omega=None):
+    """Chain ring χ dressed by interchain mean field above T_N; below it χ_⊥ = χ(T_N) and
+    χ_∥ falling (powder (2χ_⊥ + χ_∥)/3); C: ring C above T_N, (C(T_N) + jump) times a
+    falling shape below.  The shapes below T_N: with ``omega`` (the generator's own magnon
+    dispersion, meV, of (q, q_a, q_b)) those of its magnon gas (:func:`magnon_gas`; C and
+    χ_∥ ∝ ⟨n(n + 1)⟩/T, each scaled to its value at T_N), consistent with a gapped
+    spectrum; without it, χ_∥ ∝ (T/T_N)² and C ∝ (T/T_N)³ (a gapless antiferromagnet's
+    low-temperature laws).  When T_N lies below the ring's range (t < 0.33) the data start
+    above it (χ from t = 0.33, C from t = 0.4) and show only the paramagnetic chain."""
     paramagnetic_only = T_N < 0.33 * J / K_B
     T_chi = D["T_chi"][D["T_chi"] >= 0.33 * J / K_B] if paramagnetic_only else D["T_chi"]
     T_c = D["T_c"][D["T_c"] >= 0.4 * J / K_B] if paramagnetic_only else D["T_c"]
@@ -115,14 +135,38 @@ def _ordered_thermo(J, J_perp, z, T_N, jump, D):
     chi_TN = G.ring_ed.ring_thermodynamics(K_B * T_N / J)[0]
     chi_TN = chi_TN / (1.0 + z * (J_perp / J) * chi_TN)
     below = T_chi < T_N
-    r = T_chi / T_N
-    chi3 = np.where(below, chi_TN * (2.0 + r ** 2) / 3.0, chi3)
+    cold = T_c < T_N
+    if omega is None:
+        par_shape = (T_chi / T_N) ** 2
+        c_shape = (T_c / T_N) ** 3
+    else:
+        _, kubo = magnon_gas(omega, np.r_[np.minimum(T_chi, T_N), T_N])
+        par_shape = kubo[:-1] / kubo[-1]
+        c_gas, _ = magnon_gas(omega, np.r_[np.minimum(T_c, T_N), T_N])
+        c_shape = c_gas[:-1] / c_gas[-1]
+    chi3 = np.where(below, chi_TN * (2.0 + par_shape) / 3.0, chi3)
     chi = G.chi_emu(chi3, J)
     _, c_hi = G.chain_chi_c(np.maximum(T_c, T_N), J)
     _, c_TN = G.chain_chi_c(np.array([T_N]), J)
-    c = np.where(T_c < T_N, (c_TN + jump) * (T_c / T_N) ** 3, c_hi)
+    c = np.where(cold, (c_TN + jump) * c_shape, c_hi)
     return ((T_chi, _extras_chi(T_chi, chi), 0.01, 2e-5, "chi"),
             (T_c, _extras_heat(T_c, c), 0.015, 2e-3, "C"))
+
+
+def lswt_dispersion(J, Jp, z, delta, renormalisation):
+    """ω(q, q_a, q_b) = Z S √((Δ J₀)² − J(Q)²) (meV) of linear spin waves about the Néel
+    state of chains (J) coupled to z = 2 (along a) or 4 (along a and b) neighbouring chains
+    (J_⊥), J₀ = 2J + z J_⊥, J(Q) = 2J cos q + 2J_⊥ Σ cos q_⊥, easy axis Δ ≥ 1, with the
+    factor Z on every term (the rotated-frame form; T. Holstein & H. Primakoff, Phys. Rev.
+    58, 1098 (1940); P. W. Anderson, Phys. Rev. 86, 694 (1952))."""
+    S_ = 0.5
+    J0 = 2.0 * J + z * Jp
+
+    def omega(q, qa, qb):
+        inter = np.cos(qa) if z == 2 else np.cos(qa) + np.cos(qb)
+        JQ = 2.0 * J * np.cos(q) + 2.0 * Jp * inter
+        return renormalisation * S_ * np.sqrt((delta * J0) ** 2 - JQ ** 2)
+    return omega
 
 
 def mode_and_continuum_spectra(D, J, Jp, gap, frac, T):
@@ -156,12 +200,18 @@ def ordered_with_continuum(design=None):
     """(c) Weakly coupled chains below T_N ≈ 4 K (J_⊥ = 0.16 J, 4 neighbouring chains):
     a sharp transverse magnon ω² = ((π/2) J sin q)² + Δ_T² + π J J_⊥ (1 + cos q_a),
     Δ_T = 0.35 meV, carrying 40 % of the two-spinon weight, and the exact two-spinon
-    continuum (60 %) pushed above 2Δ_T (ω → sqrt(ω² + 4Δ_T²)).  Differs from the ordered
+    continuum (60 %) pushed above 2Δ_T (ω → sqrt(ω² + 4Δ_T²)); C and χ_∥ below T_N
+    from the magnon gas of that mode (:func:`_ordered_thermo`).  Differs from the ordered
     family by the continuum, from the spinon family by the gapped mode and the order."""
     J, Jp, gap, frac, T = J_CHAIN, 0.16, 0.35, 0.4, 1.5
     D = design or G.design()
     spectra = mode_and_continuum_spectra(D, J, Jp, gap, frac, T)
-    chi, heat = _ordered_thermo(J, Jp, 4, schulz_neel_temperature(J, Jp, 4), 0.6, D)
+
+    def omega(q, qa, qb):        # the mode over the whole zone (equal to it at Q_b = 0)
+        return np.sqrt((0.5 * np.pi * J * np.sin(q)) ** 2 + gap ** 2
+                       + 0.5 * np.pi * J * Jp * (1.0 + np.cos(qa)) * (1.0 + np.cos(qb)))
+    chi, heat = _ordered_thermo(J, Jp, 4, schulz_neel_temperature(J, Jp, 4), 0.6, D,
+                                omega=omega)
     return (Scenario("ordered_with_continuum", ordered_with_continuum.__doc__, "ordered", J,
                      extra_models=("coupled_chains",)), spectra, chi, heat, T)
 
@@ -193,13 +243,15 @@ def magnon_planar(design=None, renormalisation=np.pi / 2):
     the family's default 4; the case file says so, as a user who knows the structure
     would), J_⊥ = 0.15 J, easy-axis Δ = 1.06, measured at 0.5 K: linear spin waves
     (:func:`magnon_lswt`) with the chain's quantum factor Z = π/2 (des Cloizeaux & Pearson
-    1962) on every term, HWHM 0.03 meV; ordered thermodynamics with T_N ≈ 2.1 K.  Differs
+    1962) on every term, HWHM 0.03 meV; ordered thermodynamics with T_N ≈ 2.1 K (below it
+    the magnon gas of the same spin waves, :func:`_ordered_thermo`).  Differs
     from the ordered family by its unrenormalised interchain exchange and its intensities
     (spin-wave theory, not the single-mode sum rule)."""
     J, Jp, delta, T = J_CHAIN, 0.15, 1.06, 0.5
     D = design or G.design()
     spectra = magnon_lswt(D, J, Jp, 2, delta, T, renormalisation=renormalisation)
-    chi, heat = _ordered_thermo(J, Jp, 2, schulz_neel_temperature(J, Jp, 2), 0.5, D)
+    chi, heat = _ordered_thermo(J, Jp, 2, schulz_neel_temperature(J, Jp, 2), 0.5, D,
+                                omega=lswt_dispersion(J, Jp, 2, delta, renormalisation))
     return (Scenario("magnon_planar", magnon_planar.__doc__, "ordered", J,
                      model_options={"gapped_spin_wave": {"interchain": 2}}),
             spectra, chi, heat, T)

@@ -55,3 +55,23 @@ def test_mode_spectrum_obeys_detailed_balance():
     loss = np.trapezoid(np.where(E > 0, s, 0), E)
     gain = np.trapezoid(np.where(E < 0, s, 0), E)
     assert gain / loss == pytest.approx(np.exp(-1.0 / (G.K_B * T)), rel=1e-3)
+
+
+def test_magnon_gas_against_the_einstein_mode_and_a_one_dimensional_zone_sum():
+    import scenarios
+    T = np.array([2.0, 5.0, 20.0])
+    # a flat mode of energy w: the Einstein heat capacity x^2 e^x/(e^x - 1)^2 and
+    # n(n + 1) = e^x/(e^x - 1)^2 (analytic)
+    w = 0.7
+    c, kubo = scenarios.magnon_gas(lambda q, qa, qb: np.full(q.shape, w), T)
+    x = w / (G.K_B * T)
+    np.testing.assert_allclose(c, x ** 2 * np.exp(x) / np.expm1(x) ** 2, rtol=1e-12)
+    np.testing.assert_allclose(kubo, np.exp(x) / np.expm1(x) ** 2 / T, rtol=1e-12)
+    # a gapped mode dispersing along q only: the zone average against adaptive quadrature
+    from scipy import integrate
+    om = lambda q: np.sqrt(0.3 ** 2 + (1.2 * np.sin(q)) ** 2)
+    c, _ = scenarios.magnon_gas(lambda q, qa, qb: om(q), T, n=64)
+    for Ti, ci in zip(T, c):
+        f = lambda q: (lambda y: y * y * np.exp(-y) / (-np.expm1(-y)) ** 2)(om(q) / (G.K_B * Ti))
+        ref = integrate.quad(f, -np.pi, np.pi, limit=200)[0] / (2 * np.pi)
+        assert ci == pytest.approx(ref, rel=1e-6)
