@@ -14,6 +14,7 @@ from .data import KINDS, SPECTRUM_KINDS, load_dataset
 from .data.geometry import make_geometry
 from .errors import InputError, closest_key
 from .figure_settings import figure_settings
+from .inference.tempering import DEFAULT_PARTICLES
 from .physics.powder_settings import SETTINGS_FIELDS as _POWDER_FIELDS
 from .schema import (Field, Spec, as_any, as_bool, as_float_list, as_int, as_mapping,
                      as_positive_float, as_positive_int, as_str, check_mapping, integer,
@@ -105,7 +106,8 @@ _POWDER = Spec({k: Field(_POWDER_FIELDS[k].convert, help=_POWDER_FIELDS[k].help)
 _SAMPLER = Spec({
     "walkers": Field(integer(0), default=0, help="emcee walkers (0: automatic)"),
     "steps": Field(as_positive_int, default=1000, help="emcee steps per walker"),
-    "particles": Field(as_positive_int, default=200, help="particles per evidence island"),
+    "particles": Field(as_positive_int, default=DEFAULT_PARTICLES,
+                       help="particles per evidence island"),
     "islands": Field(as_positive_int, default=8, help="independent evidence runs"),
     "mcmc_steps": Field(integer(0), default=0,
                         help="rejuvenation steps per temperature (0: auto)"),

@@ -332,40 +332,48 @@ def signed_side(E, s, wl, top, kT, n_nodes=7, n_panels=2, n_sigma=4.5):
     out = np.zeros(E.size)
     lo = np.maximum(E - n_sigma * s, -top)
     hi = np.minimum(E + n_sigma * s, top)
-    ix = np.flatnonzero(hi > lo)
+    live = hi > lo
+    edge = live & ((hi >= top) | (lo <= -top))
     xg, wg = gauss_legendre(n_nodes)
     xt, wt = _top_rule(n_nodes + 2)
     n_p = max(int(n_panels), 2)
     frac = np.linspace(0.0, 1.0, n_p + 1)[:, None]
-    for start in range(0, ix.size, _CHUNK):
-        j = ix[start:start + _CHUNK]
-        Ej, sj, wlj, topj, kTj, loj, hij = E[j], s[j], wl[j], top[j], kT[j], lo[j], hi[j]
-        a = loj + (hij - loj) * frac[:-1]                              # (P, m)
-        half = (0.5 / n_p) * (hij - loj)
-        up, down = hij >= topj, loj <= -topj
-        # middle panels: Gauss–Legendre; the first and last: the top rule where they meet
-        # ∓ω_U (ξ → −ξ for the first), else Gauss–Legendre with two idle nodes
-        xg2 = np.concatenate([xg, np.zeros(2)])[:, None]
-        wg2 = np.concatenate([wg, np.zeros(2)])[:, None]
-        x_last = np.where(up, xt[:, None], xg2)
-        w_last = np.where(up, wt[:, None], wg2)
-        x_first = np.where(down, -xt[:, None], xg2)
-        w_first = np.where(down, wt[:, None], wg2)
-        om = np.concatenate([a[0] + half * (1.0 + x_first),
-                             (a[1:-1, None, :] + half * (1.0 + xg[None, :, None])
-                              ).reshape(-1, j.size),
-                             a[-1] + half * (1.0 + x_last)], axis=0)
-        w = np.concatenate([w_first, np.broadcast_to(np.tile(wg, n_p - 2)[:, None],
-                                                     ((n_p - 2) * n_nodes, j.size)),
-                            w_last], axis=0)
-        f = thermal_density(om, wlj, kTj)
-        f *= ratio_fast(om, wlj, topj, kTj)
-        g = Ej - om
-        g /= sj
-        g *= g
-        g *= -0.5
-        np.exp(g, out=g)
-        f *= g
-        f *= w
-        out[j] = half * f.sum(axis=0) / (math.sqrt(2.0 * math.pi) * sj)
+    # windows clear of ±ω_U: Gauss–Legendre on every panel; windows that meet them: the first
+    # and last panels take the top rule where they meet ∓ω_U (ξ → −ξ for the first), else
+    # Gauss–Legendre with two idle nodes
+    for ix, at_edge in ((np.flatnonzero(live & ~edge), False), (np.flatnonzero(edge), True)):
+        for start in range(0, ix.size, _CHUNK):
+            j = ix[start:start + _CHUNK]
+            Ej, sj, wlj, topj, kTj, loj, hij = E[j], s[j], wl[j], top[j], kT[j], lo[j], hi[j]
+            a = loj + (hij - loj) * frac[:-1]                              # (P, m)
+            half = (0.5 / n_p) * (hij - loj)
+            if at_edge:
+                up, down = hij >= topj, loj <= -topj
+                xg2 = np.concatenate([xg, np.zeros(2)])[:, None]
+                wg2 = np.concatenate([wg, np.zeros(2)])[:, None]
+                x_last = np.where(up, xt[:, None], xg2)
+                w_last = np.where(up, wt[:, None], wg2)
+                x_first = np.where(down, -xt[:, None], xg2)
+                w_first = np.where(down, wt[:, None], wg2)
+                om = np.concatenate([a[0] + half * (1.0 + x_first),
+                                     (a[1:-1, None, :] + half * (1.0 + xg[None, :, None])
+                                      ).reshape(-1, j.size),
+                                     a[-1] + half * (1.0 + x_last)], axis=0)
+                w = np.concatenate([w_first,
+                                    np.broadcast_to(np.tile(wg, n_p - 2)[:, None],
+                                                    ((n_p - 2) * n_nodes, j.size)),
+                                    w_last], axis=0)
+            else:
+                om = (a[:, None, :] + half * (1.0 + xg[None, :, None])).reshape(-1, j.size)
+                w = np.tile(wg, n_p)[:, None]
+            f = thermal_density(om, wlj, kTj)
+            f *= ratio_fast(om, wlj, topj, kTj)
+            g = Ej - om
+            g /= sj
+            g *= g
+            g *= -0.5
+            np.exp(g, out=g)
+            f *= g
+            f *= w
+            out[j] = half * f.sum(axis=0) / (math.sqrt(2.0 * math.pi) * sj)
     return out

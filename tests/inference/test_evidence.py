@@ -4,6 +4,7 @@ import pytest
 from scipy import special, stats
 
 from evidence1d.inference.evidence import tempered_evidence
+from evidence1d.inference.tempering import DEFAULT_PARTICLES
 from evidence1d.inference.priors import JointPrior, Uniform
 
 from gaussian_problems import linear_gaussian
@@ -65,14 +66,15 @@ def test_agrees_with_dynesty_on_a_nonlinear_problem(rng):
 
 @pytest.mark.slow
 def test_error_bar_is_calibrated(seed):
-    # 50 repeats of a cheap 3-d problem with analytic ln Z: z-scores should be ~N(0, 1)
+    # 50 repeats of a cheap 3-d problem with analytic ln Z, at the default particles per
+    # island: z-scores should be ~N(0, 1)
     # (a loose check: sd in [0.65, 1.45] and |z| < 3 in at least 96 % of runs).
     rng = np.random.default_rng(seed)
     z = []
     for _ in range(50):
         loglike, prior, truth, _, _ = linear_gaussian(rng, 3, "normal", 10.0, 0.5)
-        res = tempered_evidence(loglike, prior, rng=rng, n_particles=100, n_islands=8,
-                                progress=False)
+        res = tempered_evidence(loglike, prior, rng=rng, n_particles=DEFAULT_PARTICLES,
+                                n_islands=8, progress=False)
         z.append((res.log_z - truth) / res.log_z_err)
     z = np.array(z)
     assert 0.65 < np.std(z) < 1.45
