@@ -223,7 +223,7 @@ def _run_model(problem, sample, settings, streams, ev, store, progress, position
                     independence=post.population_moves)
     samples = post.samples
     lap = laplace_evidence(problem.log_likelihood, problem.prior, samples=samples,
-                           optimise=False)
+                           optimise=False, log_prob=post.samples_log_prob)
     sd = None
     nested = problem.card.nested_1d_limit
     if nested is not None and nested["parameter"] in problem.names:

@@ -82,7 +82,7 @@ def _hessian(f, x, h):
 
 
 def laplace_evidence(log_likelihood, prior, map_point=None, samples=None,
-                     optimise: bool = True) -> LaplaceResult:
+                     optimise: bool = True, log_prob=None) -> LaplaceResult:
     """Approximate ln Z by the Laplace method (Kass & Raftery 1995, eq. 4.1).
 
     Parameters
@@ -98,6 +98,10 @@ def laplace_evidence(log_likelihood, prior, map_point=None, samples=None,
     optimise : bool
         Refine the mode with a Nelder–Mead search (one likelihood call per step); False
         takes the best sample as the mode (cheap; for the quick look after sampling).
+    log_prob : ndarray (n,), optional
+        The log posterior ln L + ln π at ``samples`` (nats), where the sampler has it
+        already (emcee's values); the best sample is then found without evaluating the
+        likelihood again.
 
     Returns
     -------
@@ -115,7 +119,11 @@ def laplace_evidence(log_likelihood, prior, map_point=None, samples=None,
         x0 = np.asarray(map_point, dtype=float).reshape(-1)
     else:
         samples = np.asarray(samples, dtype=float)
-        x0 = samples[np.argmax(target(samples))]
+        lp = target(samples) if log_prob is None else np.asarray(log_prob, dtype=float)
+        if lp.shape != (samples.shape[0],):
+            raise InputError(f"laplace_evidence: log_prob has shape {lp.shape}, expected "
+                             f"({samples.shape[0]},), one value per sample")
+        x0 = samples[np.argmax(lp)]
     if not optimise:
         res = optimize.OptimizeResult(x=x0, fun=-target(x0[None, :])[0])
     else:

@@ -31,3 +31,25 @@ def test_bic_tracks_ln_z_up_to_order_one():
         gaps.append(ln_z - bic(ln_lmax, 1, n).log_z)
     assert abs(gaps[0] - gaps[1]) < 0.2 and abs(gaps[1]) < 1.5
     assert bic(-10.0, 2, 100).bic == pytest.approx(2 * np.log(100) + 20.0)
+
+
+def test_known_log_posterior_of_the_samples_spares_the_likelihood(rng):
+    # the sampler's own log posterior at its samples gives the same mode and ln Z as
+    # evaluating the target again, with a handful of likelihood calls instead of one per sample
+    from evidence1d.inference.target import LogTarget
+    loglike, prior, truth, mean, cov = linear_gaussian(rng, 3, "normal", 3.0, 0.5)
+    samples = rng.multivariate_normal(mean, cov, 5000)
+    calls = []
+
+    def counted(theta):
+        calls.append(len(theta))
+        return loglike(theta)
+    ref = laplace_evidence(counted, prior, samples=samples, optimise=False)
+    n_ref = sum(calls)
+    calls.clear()
+    lp = LogTarget(loglike, prior)(samples)
+    got = laplace_evidence(counted, prior, samples=samples, optimise=False, log_prob=lp)
+    assert got.log_z == ref.log_z and np.array_equal(got.map_point, ref.map_point)
+    assert n_ref >= 5000 and sum(calls) <= 4
+    with pytest.raises(Exception, match="one value per sample"):
+        laplace_evidence(loglike, prior, samples=samples, optimise=False, log_prob=lp[:-1])
