@@ -119,3 +119,38 @@ def test_continuous_in_q_and_through_the_isotropic_point():
     W = [chain.two_spinon_sheets(q, np.array([[1.0]]), np.array([[d]]))["weight"][0]
          for d in (1.0, 1.0 + 1e-6)]
     np.testing.assert_allclose(W[1], W[0], atol=1e-4)
+
+
+def _default_model_structure_factor(q, delta):
+    """∫ S(q, ω) dω of the spinon family's default line shape (the exact Δ = 1 profile between
+    the XXZ edges, both sheets) by adaptive quadrature, plus the line at the continuum
+    bottom below q_κ (per spin, three components, T = 0)."""
+    import warnings
+    from scipy import integrate
+    from evidence1d.physics import chain_spectrum as cs
+    J, D = np.array([[1.0]]), np.array([[delta]])
+    sh = chain.two_spinon_sheets(q, J, D)
+    out = np.array(sh["line_weight"][0], dtype=float)
+    warnings.simplefilter("ignore", integrate.IntegrationWarning)   # the lower-edge singularity
+    for i, qi in enumerate(q):
+        f = lambda w: float(cs.spinon_density(np.array([qi]), np.array([w]), 0.0, J, D)[0, 0])
+        edges = sorted({float(sh["lower"][0, i]), float(sh["top"][0, i]), float(sh["b"][0, i])})
+        hi = max(edges) * 1.001
+        out[i] += integrate.quad(f, 0.0, hi, points=[e for e in edges if 0 < e < hi],
+                                 limit=400)[0]
+    return out
+
+
+@pytest.mark.xfail(strict=True, reason="open: for Δ > 1 the default line shape (the exact "
+                   "Δ = 1 profile between gapped edges) puts too much weight at the lower edge")
+@pytest.mark.parametrize("delta", [2.0, 3.0])
+def test_default_line_shape_static_structure_factor_within_ten_percent(delta):
+    # The default line shape's S(q) against the 16-site ring (q = pi/8 ... pi; q = 0 left
+    # out, the ring's S(0) is not converged in L).  Measured ratios (2026-12-04):
+    #   Delta = 2: 1.33 1.12 1.04 1.01 1.01 1.05 1.15 1.49
+    #   Delta = 3: 1.29 1.16 1.05 1.01 1.01 1.10 1.21 1.32
+    # The target of 10 % (exact two-spinon theory of the massive regime) is not met at the
+    # zone ends; the test turns into a failure (strict xfail) once it is.
+    q, S_ring = _inelastic_structure_factor(L_RING, delta)
+    ratio = _default_model_structure_factor(q[1:], delta) / S_ring[1:]
+    assert np.all(np.abs(ratio - 1.0) < 0.10), ratio
