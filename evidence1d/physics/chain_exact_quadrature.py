@@ -100,6 +100,16 @@ def _t_panels(ta, tb, Es, s, wl, vmax2, kT, sign, thermal, n_nodes):
     return np.einsum("knm,km->m", f, half)
 
 
+def _gauss_times(f, E, om, s):
+    """f *= exp(−(E − ω)²/2σ²) in place, with one temporary array (nodes ``om``)."""
+    g = E - om
+    g /= s
+    g *= g
+    g *= -0.5
+    np.exp(g, out=g)
+    f *= g
+
+
 def t_side(Es, s, wl, top, kT, sign=1.0, thermal=False, n_nodes=6, n_panels=3):
     """∫ G_σ(Es − ω) R_T(ω) D(ω) dω over [ω_L, ω_U] ∩ [Es − 6σ, Es + 6σ], flat arrays.
 
@@ -204,12 +214,7 @@ def _omega_window(Es, s, wl, top, kT, lo, hi, frac, sign, thermal, n_nodes):
         x /= vmax2
         omx /= vmax2
         f *= _ratio_xy(x, omx)
-    g = Es - om
-    g /= s
-    g *= g
-    g *= -0.5
-    np.exp(g, out=g)
-    f *= g
+    _gauss_times(f, Es, om, s)
     f *= wn
     return half * f.sum(axis=0)
 
@@ -368,12 +373,7 @@ def signed_side(E, s, wl, top, kT, n_nodes=7, n_panels=2, n_sigma=4.5):
                 w = np.tile(wg, n_p)[:, None]
             f = thermal_density(om, wlj, kTj)
             f *= ratio_fast(om, wlj, topj, kTj)
-            g = Ej - om
-            g /= sj
-            g *= g
-            g *= -0.5
-            np.exp(g, out=g)
-            f *= g
+            _gauss_times(f, Ej, om, sj)
             f *= w
             out[j] = half * f.sum(axis=0) / (math.sqrt(2.0 * math.pi) * sj)
     return out
