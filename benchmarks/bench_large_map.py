@@ -69,7 +69,7 @@ models:
   - spinon_continuum
   - gapped_spin_wave
   - paramagnon
-sampler: {{steps: 1000, walkers: 32, particles: 200, islands: 8}}
+sampler: {{steps: 1000, walkers: 32, particles: 64, islands: 8}}
 seed: 20261201
 """
 
