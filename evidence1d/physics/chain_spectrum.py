@@ -172,9 +172,11 @@ def _edge_blend(Ef, sf, wl, top, A, kT, settings):
     chain where both ω and the edge ω_L are small against J, i.e. near q = π (Schulz 1986);
     applied at an edge far above k_BT it would smear the edge over ~5 k_BT regardless.  The
     spectrum is therefore w S_T + (1 − w) S_cold with w = 1/(1 + (ω_L/2πk_BT)²), a function
-    of q only, and S_cold the T = 0 edge with detailed balance, S_cold(E) = S_0(E) plus, for
-    E < 0, e^{−|E|/k_BT} S_0(|E|) (resolution applied to S_0); where 1 − w matters,
-    ω ≥ ω_L ≳ 2πk_BT and S_0 differs from S_0 [n(ω) + 1] by less than e^{−2π}.  Both parts
+    of q only, and S_cold the T = 0 edge with detailed balance, S_cold(ω) = S_0(ω) for ω > 0
+    and e^{−|ω|/k_BT} S_0(|ω|) for ω < 0, both convolved exactly (the gain-side image by
+    completing the square in the Gaussian, so that a resolution wider than k_BT is right
+    too); where 1 − w matters, ω ≥ ω_L ≳ 2πk_BT and S_0 differs from S_0 [n(ω) + 1] by less
+    than e^{−2π}.  Both parts
     obey detailed balance point by point, so the blend does; w → 1 at q = π, w → 0 as T → 0.
     """
     if kT <= 0:
@@ -187,13 +189,17 @@ def _edge_blend(Ef, sf, wl, top, A, kT, settings):
                                             *settings)
     cold = np.flatnonzero(w < 1.0 - _W_MIN)
     if cold.size:
-        args = (sf[cold], wl[cold], top[cold], A[cold], 0.0)
-        s0 = _convolve_sheet(Ef[cold], *args, *settings)          # the loss side, any E
-        neg = Ef[cold] < 0
-        if neg.any():                                             # the gain side
-            e = -Ef[cold][neg]
-            gain = _convolve_sheet(e, *(a[neg] for a in args[:4]), 0.0, *settings)
-            s0[neg] += np.exp(-e / kT) * gain
+        Ec, sc, wlc, topc, Ac = Ef[cold], sf[cold], wl[cold], top[cold], A[cold]
+        s0 = _convolve_sheet(Ec, sc, wlc, topc, Ac, 0.0, *settings)   # S_0 on ω > 0, any E
+        # its gain-side image e^{−|ω|/k_BT} S_0(|ω|), ω < 0, convolved exactly by completing
+        # the square: ∫ G_σ(E + x) e^{−x/k_BT} S_0(x) dx
+        #   = e^{E/k_BT + σ²/2(k_BT)²} (G_σ ∗ S_0)(−E − σ²/k_BT)
+        shift = sc * sc / kT
+        r = np.flatnonzero(N_SIGMA * sc - Ec - shift > wlc)      # the window reaches S_0
+        if r.size:
+            gain = _convolve_sheet(-Ec[r] - shift[r], sc[r], wlc[r], topc[r], Ac[r], 0.0,
+                                   *settings)
+            s0[r] += np.exp(Ec[r] / kT + 0.5 * (sc[r] / kT) ** 2) * gain
         out[cold] += (1.0 - w[cold]) * s0
     return out
 
