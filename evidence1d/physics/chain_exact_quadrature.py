@@ -90,12 +90,7 @@ def _t_panels(ta, tb, Es, s, wl, vmax2, kT, sign, thermal, n_nodes):
         f *= vmax * sech
     elif sign < 0:
         f *= np.exp(-om / kT)
-    g = Es - om
-    g /= s
-    g *= g
-    g *= -0.5
-    np.exp(g, out=g)
-    f *= g
+    _gauss_times(f, Es, om, s)
     f *= w[:, None]
     return np.einsum("knm,km->m", f, half)
 
