@@ -105,7 +105,12 @@ _POWDER = Spec({k: Field(_POWDER_FIELDS[k].convert, help=_POWDER_FIELDS[k].help)
 #: the sampler settings and their defaults (``--quick`` scales them down)
 _SAMPLER = Spec({
     "walkers": Field(integer(0), default=0, help="emcee walkers (0: automatic)"),
-    "steps": Field(as_positive_int, default=1000, help="emcee steps per walker"),
+    "steps": Field(as_positive_int, default=1000,
+                   help="most emcee steps per walker (fewer once posterior_ess is reached)"),
+    "posterior_ess": Field(integer(0), default=2000,
+                           help="stop the posterior once every convergence check passes and "
+                                "each parameter's bulk and tail ESS reach this (0: run every "
+                                "step)"),
     "particles": Field(as_positive_int, default=DEFAULT_PARTICLES,
                        help="particles per evidence island"),
     "islands": Field(as_positive_int, default=8, help="independent evidence runs"),

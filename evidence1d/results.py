@@ -68,7 +68,11 @@ class ModelResult:
     nuisance_names : list of str
         Analytically marginalised nuisances.
     nuisance_samples : ndarray or None
-        Their draws from the conditional posterior, one row per posterior sample.
+        Their draws from the conditional posterior, one row per posterior sample listed in
+        ``nuisance_rows``.
+    nuisance_rows : ndarray of int or None
+        The posterior samples (row indices) that have nuisance draws; None: every sample
+        (:data:`evidence1d.runner.MARGINAL_DRAWS` limits them).
     analysis : dict
         The analyses of :mod:`evidence1d.analysis` (goodness of fit, bounds, the parameter
         table with priors, dataset constraints, figure data, ...).
@@ -88,6 +92,7 @@ class ModelResult:
     run_time: float = 0.0
     nuisance_names: list = field(default_factory=list)
     nuisance_samples: object = None
+    nuisance_rows: object = None
     analysis: dict = field(default_factory=dict)
 
     @property
@@ -98,11 +103,14 @@ class ModelResult:
     @property
     def full_samples(self):
         """Posterior samples of :attr:`full_names` (marginalised nuisances drawn from their
-        conditional posterior given each sample)."""
+        conditional posterior given each sample): the samples of :attr:`nuisance_rows`."""
         if not self.nuisance_names:
             return np.asarray(self.posterior.samples)
-        return np.hstack([np.asarray(self.posterior.samples),
-                          np.asarray(self.nuisance_samples)])
+        samples = np.asarray(self.posterior.samples)
+        rows = getattr(self, "nuisance_rows", None)
+        if rows is not None:
+            samples = samples[np.asarray(rows, dtype=int)]
+        return np.hstack([samples, np.asarray(self.nuisance_samples)])
 
 
 @dataclass(frozen=True)

@@ -39,6 +39,14 @@ QUICK = {"steps": 300, "particles": 150, "islands": 2}
 QUICK_POINTS = 2000
 
 
+#: most posterior samples for which the marginalised nuisances are drawn (each draw needs
+#: the model at its sample).  Evenly spaced along the thinned chain, so with the chain's
+#: τ of a few steps 4000 rows carry an effective sample size of the order of a thousand:
+#: nuisance quantiles to a few per cent of their width (common practice for quoted
+#: intervals).  The sampled parameters keep every sample.
+MARGINAL_DRAWS = 4000
+
+
 def quick_subset(case, limit: int | None = None):
     """The case with every spectrum of more than ``limit`` points reduced to every k-th
     point in file order (k = ⌈n/limit⌉), and what was kept.
@@ -195,7 +203,7 @@ def _run_model(problem, sample, settings, streams, ev, store, progress, position
     from .analysis.figure_data import model_figure_data
     from .analysis.absolute import absolute_scale_check
     from .analysis.metal import metal_context
-    from .analysis.parameters import parameter_table
+    from .analysis.parameters import draw_indices, parameter_table
     from .inference.laplace import laplace_evidence
     from .inference.posterior import population_moves, sample_posterior
 
@@ -217,7 +225,7 @@ def _run_model(problem, sample, settings, streams, ev, store, progress, position
                             n_walkers=walkers, n_steps=settings["steps"], initial=start,
                             checkpoint=ckpt, resume=resume, progress=progress,
                             checkpoint_every=settings["checkpoint_every"], moves=moves,
-                            population=pool)
+                            population=pool, ess=settings.get("posterior_ess", 0))
     diag = diagnose(post.chain[post.burn_in:], problem.names,
                     acceptance=post.acceptance_fraction, tau=post.tau,
                     independence=post.population_moves)
@@ -242,8 +250,11 @@ def _run_model(problem, sample, settings, streams, ev, store, progress, position
         loo = loo_res.to_dict() if hasattr(loo_res, "to_dict") else dict(loo_res)
     except Exception as exc:  # a predictive cross-check must not sink the run
         loo = {"error": f"{exc.__class__.__name__}: {exc}"}
-    nuis = problem.draw_marginalised(samples, np.random.default_rng(nu_seed))
-    full = np.hstack([np.asarray(samples), np.asarray(nuis)])
+    # the nuisances' conditional draws need the model at each sample: at most
+    # MARGINAL_DRAWS samples, evenly spaced along the chain, get them
+    rows = draw_indices(len(samples), MARGINAL_DRAWS)
+    nuis = problem.draw_marginalised(samples[rows], np.random.default_rng(nu_seed))
+    full = np.hstack([np.asarray(samples)[rows], np.asarray(nuis)])
     analysis = {
         "goodness_of_fit": goodness_of_fit(problem, full,
                                            rng=np.random.default_rng(nu_seed.spawn(1)[0])),
@@ -252,7 +263,10 @@ def _run_model(problem, sample, settings, streams, ev, store, progress, position
         "metal": metal_context(problem.full_names, full, problem.units),
         "absolute_scale": absolute_scale_check(problem, problem.full_names, full),
         "sampler": {"moves": _describe_moves(moves), "n_walkers": int(walkers),
-                    "n_steps": int(settings["steps"]), "population_size": int(len(pool)),
+                    "n_steps": int(post.n_steps), "max_steps": int(settings["steps"]),
+                    "stop_rule": post.stop_rule,
+                    "posterior_ess": int(settings.get("posterior_ess", 0)),
+                    "population_size": int(len(pool)),
                     "move_acceptance": dict(post.move_acceptance),
                     "marginalised": list(problem.marginalised)},
     }
@@ -266,6 +280,7 @@ def _run_model(problem, sample, settings, streams, ev, store, progress, position
                        diagnostics=diag, laplace=lap, savage_dickey=sd, loo=loo,
                        run_time=ev.wall_time + time.perf_counter() - t0,
                        nuisance_names=list(problem.marginalised), nuisance_samples=nuis,
+                       nuisance_rows=None if len(rows) == len(samples) else rows,
                        analysis=analysis)
 
 

@@ -180,3 +180,28 @@ def test_evidence_budget_of_a_small_case(tmp_path):
     quoted = s["comparison"]["evidence_budget"]["sequential"]
     assert [r["ln_k"] for r in local["sequential"]] == pytest.approx([r["ln_k"] for r in quoted],
                                                                      rel=1e-12)
+
+
+def test_nuisances_drawn_for_an_even_subset_of_a_long_chain(first_run, monkeypatch):
+    """Above MARGINAL_DRAWS samples the nuisances are drawn for that many evenly spaced
+    samples; full_samples pairs each draw with its own sample, and the parameter table's
+    nuisance quantiles stay those of the subset (the rule of the runner's notes)."""
+    import evidence1d.runner as runner
+    case, out = first_run
+    monkeypatch.setattr(runner, "MARGINAL_DRAWS", 100)
+    res = evidence1d.run(case, progress=False, figures=False, workers=1, budget=False,
+                         models=["paramagnon", "gapped_spin_wave"])
+    for name, mr in res.models.items():
+        n = len(mr.posterior.samples)
+        assert n > 100 and mr.nuisance_names
+        rows = np.asarray(mr.nuisance_rows)
+        assert rows.size == 100 and rows[0] == 0 and rows[-1] == n - 1
+        assert np.all(np.diff(rows) > 0)
+        full = np.asarray(mr.full_samples)
+        assert full.shape == (100, len(mr.names) + len(mr.nuisance_names))
+        np.testing.assert_array_equal(full[:, :len(mr.names)],
+                                      np.asarray(mr.posterior.samples)[rows])
+        j = len(mr.names)
+        table = mr.analysis["parameter_table"]["parameters"]
+        n0 = mr.nuisance_names[0]
+        assert table[n0]["median"] == pytest.approx(float(np.median(full[:, j])))

@@ -162,8 +162,9 @@ def parameter_table(problem, samples, nuisance_samples=None) -> dict:
     problem : JointProblem
     samples : ndarray, shape (n_samples, m)
         Posterior samples of ``problem.names``, parameter units.
-    nuisance_samples : ndarray, shape (n_samples, k), optional
-        Draws of the analytically marginalised nuisances ``problem.marginalised``.
+    nuisance_samples : ndarray, shape (n_rows, k), optional
+        Draws of the analytically marginalised nuisances ``problem.marginalised`` (for all
+        the samples or an evenly spaced subset of them).
 
     Returns
     -------

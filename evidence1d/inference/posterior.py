@@ -16,6 +16,15 @@ Choices, stated once:
   (emcee's estimator, ``tol=0``; Sokal 1997, Goodman & Weare 2010): burn-in = 5 max τ
   (safety factor 5, common practice; capped at half the chain), thinning = max(1, ⌊τ_min/2⌋)
   (emcee documentation, common practice).
+* **Length.** ``n_steps`` is the most steps.  With a target ``ess`` the chain stops at the
+  first multiple of :data:`STOP_CHECK_EVERY` steps (from :data:`STOP_MIN_STEPS` on) where the
+  post-burn-in chain passes every convergence check of
+  :func:`evidence1d.inference.diagnostics.diagnose` (R-hat, length over τ, ESS > 400) and
+  the bulk and tail ESS of every parameter reach ``ess``: the "run until converged" rule of
+  the emcee documentation (check τ every 100 steps, stop when the chain is long enough for
+  it; Foreman-Mackey, emcee documentation, "Saving & monitoring progress", common practice)
+  with the ESS of Vehtari et al. (2021) as the measure of "enough".  The decision at a step
+  depends only on the chain up to it, so a resumed run stops where an uninterrupted one does.
 * **Randomness.** emcee draws from a ``numpy.random.RandomState``; it is seeded from a seed
   drawn from the caller's ``numpy.random.Generator``.  Its state is stored with every
   checkpoint, so a resumed run continues with exactly the numbers an uninterrupted run
@@ -50,7 +59,8 @@ from .records import frozen_array
 from .target import LogTarget
 
 # the moves are defined in .moves; these names stay importable from here
-__all__ = ["PosteriorResult", "sample_posterior", "BURN_IN_FACTOR", "THIN_FACTOR",
+__all__ = ["PosteriorResult", "sample_posterior", "converged_enough", "BURN_IN_FACTOR",
+           "THIN_FACTOR", "STOP_CHECK_EVERY", "STOP_MIN_STEPS",
            "default_moves", "population_moves", "PopulationProposal", "POPULATION_WEIGHT",
            "LogTarget"]
 
@@ -59,6 +69,10 @@ BURN_IN_FACTOR = 5.0
 #: Thinning = max(1, ⌊THIN_FACTOR × min τ⌋) (common practice, emcee documentation).
 THIN_FACTOR = 0.5
 _GROUP = "mcmc"
+#: steps between the checks of the stopping rule (module notes)
+STOP_CHECK_EVERY = 100
+#: no stop before this many steps
+STOP_MIN_STEPS = 200
 
 
 @dataclass(frozen=True)
@@ -95,6 +109,10 @@ class PosteriorResult:
         ``{"population": f, "local": f}``: acceptance fractions of the population proposals
         and of the local moves in this session's steps (empty for a chain read whole from
         its checkpoint).
+    max_steps : int
+        The most steps allowed (``n_steps`` of :func:`sample_posterior`).
+    stop_rule : str
+        Why the chain ended: the stopping rule met at its length, or "" (every step run).
     """
 
     names: tuple
@@ -111,6 +129,8 @@ class PosteriorResult:
     warnings: tuple = field(default_factory=tuple)
     population_moves: bool = False
     move_acceptance: dict = field(default_factory=dict)
+    max_steps: int = 0
+    stop_rule: str = ""
     burn_in_rule: str = (f"burn-in = {BURN_IN_FACTOR:g} × max τ (capped at half the chain); "
                          f"thin = max(1, ⌊{THIN_FACTOR:g} × min τ⌋)")
 
@@ -131,6 +151,56 @@ def _settings_spec(m: int) -> Spec:
                  "checkpoint_every": Field(integer(1), default=100,
                                            help="steps between checkpoint writes")},
                 what="the posterior sampler settings")
+
+
+def _burn_thin(chain):
+    """τ of each parameter, burn-in and thinning of a chain (module notes), and a warning
+    when the chain is too short for its τ (or None)."""
+    tau = np.atleast_1d(emcee.autocorr.integrated_time(chain, tol=0))
+    tau = np.where(np.isfinite(tau), tau, chain.shape[0])
+    burn_in = int(math.ceil(BURN_IN_FACTOR * float(np.max(tau))))
+    warning = None
+    if burn_in > chain.shape[0] // 2:
+        warning = (f"the chain ({chain.shape[0]} steps) is shorter than 10 τ "
+                   f"(τ_max = {np.max(tau):.1f} steps): burn-in capped at half the chain, "
+                   "so the samples may still remember the start; run more steps")
+        burn_in = chain.shape[0] // 2
+    thin = max(1, int(THIN_FACTOR * float(np.min(tau))))
+    return tau, burn_in, thin, warning
+
+
+def converged_enough(chain, ess):
+    """The stopping rule of the module notes on a chain so far: (met, reason).
+
+    Parameters
+    ----------
+    chain : ndarray, shape (n_steps, n_walkers, m)
+        Every step so far.
+    ess : float
+        Bulk and tail effective sample size that every parameter must reach.  The acceptance
+        range of :func:`evidence1d.inference.diagnostics.diagnose` is not part of the rule
+        (it does not measure mixing; the run's diagnostics report it).
+
+    Returns
+    -------
+    (bool, str)
+        Whether to stop, and the rule as met (for the record) or "".
+
+    References
+    ----------
+    .. [1] Vehtari et al., Bayesian Analysis 16, 667 (2021).
+    .. [2] Foreman-Mackey et al., PASP 125, 306 (2013); emcee documentation (common practice).
+    """
+    from .diagnostics import diagnose
+    tau, burn_in, _, warning = _burn_thin(chain)
+    if warning is not None:
+        return False, ""
+    d = diagnose(chain[burn_in:], [f"p{j}" for j in range(chain.shape[2])], tau=tau)
+    worst = min(min(d.ess_bulk.values()), min(d.ess_tail.values()))
+    if not d.ok or any(w.startswith("note:") for w in d.warnings) or worst < ess:
+        return False, ""
+    return True, (f"stopped after {chain.shape[0]} steps: every check passed and the "
+                  f"smallest bulk or tail ESS, {worst:.0f}, reached the target {ess:.0f}")
 
 
 def _initial_walkers(target, prior, rng, n_walkers, optimise):
@@ -222,7 +292,7 @@ def _open_checkpoint(path, resume, names, n_walkers, m):
 def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=None,
                      moves=None, checkpoint=None, resume=False, progress=True,
                      checkpoint_every=100, add_prior=True, optimise=True,
-                     population=None) -> PosteriorResult:
+                     population=None, ess=None) -> PosteriorResult:
     """Sample the posterior with emcee's ensemble sampler (vectorised).
 
     Parameters
@@ -237,7 +307,8 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
     n_walkers : int, optional
         Walkers; default ``max(32, 4 m)`` rounded up to even.
     n_steps : int
-        Total steps (including any read from the checkpoint).
+        Total steps (including any read from the checkpoint); the most steps when ``ess``
+        is given.
     initial : ndarray, optional
         Starting walkers (n_walkers, m) inside the support, or one point (m,) to start a
         small ball around; default: optimised prior draws (see the module notes).
@@ -262,6 +333,11 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
         Draws from (close to) the posterior, such as the final population of
         :func:`~evidence1d.inference.evidence.tempered_evidence`; they define the
         independence proposal of :func:`~evidence1d.inference.moves.population_moves`.
+    ess : float, optional
+        Stop early once every convergence check passes and the bulk and tail effective
+        sample size of every parameter reach ``ess`` (checked every
+        :data:`STOP_CHECK_EVERY` steps from :data:`STOP_MIN_STEPS` on; module notes).
+        None or 0: run all ``n_steps``.
 
     Returns
     -------
@@ -327,6 +403,19 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
                             random_state=np.random.RandomState(seed).get_state())
     remaining = n_steps - start
     warnings = []
+    stop_rule = ""
+    adaptive = bool(ess) and ess > 0
+
+    def check(steps_so_far, chain_so_far):
+        if not adaptive or steps_so_far < STOP_MIN_STEPS or steps_so_far % STOP_CHECK_EVERY:
+            return False
+        nonlocal stop_rule
+        met, stop_rule = converged_enough(chain_so_far, float(ess))
+        return met
+
+    stored = backend.get_chain() if (adaptive and start > 0) else None   # steps before
+    if remaining > 0 and stored is not None and check(start, stored):
+        remaining = 0        # the stored chain already met the rule where it ended
     if remaining > 0:
         bar = stage_bar(n_steps, progress, "posterior", unit="step", initial=start)
         done = written = 0
@@ -336,12 +425,21 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
                                      skip_initial_state_check=start > 0):
                 done += 1
                 bar.update(1)
-                if backend is not None and (done % checkpoint_every == 0 or done == remaining):
+                stop = False
+                if adaptive and (start + done) % STOP_CHECK_EVERY == 0:
+                    so_far = sampler.backend.chain[:done]
+                    if stored is not None:
+                        so_far = np.concatenate([stored, so_far])
+                    stop = check(start + done, so_far)
+                if backend is not None and (done % checkpoint_every == 0 or done == remaining
+                                            or stop):
                     acc = sampler.backend.accepted.copy()
                     _write_block(backend, sampler.backend.chain[written:done],
                                  sampler.backend.log_prob[written:done], acc - acc_saved,
                                  st.random_state)
                     acc_saved, written = acc, done
+                if stop:
+                    break
         finally:
             bar.close()
     if backend is not None:
@@ -351,15 +449,9 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
         chain, lps = sampler.get_chain(), sampler.get_log_prob()
         accepted = sampler.backend.accepted
     accept = accepted / chain.shape[0]
-    tau = np.atleast_1d(emcee.autocorr.integrated_time(chain, tol=0))
-    tau = np.where(np.isfinite(tau), tau, chain.shape[0])
-    burn_in = int(math.ceil(BURN_IN_FACTOR * float(np.max(tau))))
-    if burn_in > chain.shape[0] // 2:
-        warnings.append(f"the chain ({chain.shape[0]} steps) is shorter than 10 τ "
-                        f"(τ_max = {np.max(tau):.1f} steps): burn-in capped at half the chain, "
-                        "so the samples may still remember the start; run more steps")
-        burn_in = chain.shape[0] // 2
-    thin = max(1, int(THIN_FACTOR * float(np.min(tau))))
+    tau, burn_in, thin, warning = _burn_thin(chain)
+    if warning is not None:
+        warnings.append(warning)
     if target.n_nonfinite:
         warnings.append(f"{target.n_nonfinite} likelihood values inside the support were NaN "
                         "or +inf and were treated as zero likelihood; check the model")
@@ -371,4 +463,5 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
         tau=frozen_array(tau), acceptance_fraction=frozen_array(accept),
         n_evaluations=target.n_evaluations, resumed_from=start, warnings=tuple(warnings),
         population_moves=independence,
-        move_acceptance=move_acceptance([t for t, _ in tallied]))
+        move_acceptance=move_acceptance([t for t, _ in tallied]),
+        max_steps=int(n_steps), stop_rule=stop_rule if chain.shape[0] < n_steps else "")

@@ -262,6 +262,22 @@ def _near(near) -> str:
                      for k, v in near.items())
 
 
+def _steps_words(models, fams) -> str:
+    """How many steps each family's chain ran, and the stopping rule where one ended early."""
+    sms = [models[f]["sampler"] for f in fams]
+    most = max(int(sm.get("max_steps", sm["n_steps"])) for sm in sms)
+    if all(int(sm["n_steps"]) == most for sm in sms):
+        return f"{most} steps per walker"
+    used = ", ".join(f"{int(models[f]['sampler']['n_steps'])} ({f})" for f in fams) \
+        if len(fams) > 1 else f"{int(sms[0]['n_steps'])}"
+    from ..inference.posterior import STOP_CHECK_EVERY, STOP_MIN_STEPS
+    return (f"at most {most} steps per walker, stopped at the first multiple of "
+            f"{STOP_CHECK_EVERY} steps (from {STOP_MIN_STEPS} on) where every convergence "
+            "check passed and the bulk and tail "
+            "effective sample size of every parameter reached the target "
+            f"{max(int(sm.get('posterior_ess', 0)) for sm in sms)}; steps run: {used}")
+
+
 def _families(names) -> str:
     return ", ".join(f"`{n}`" for n in names)
 
@@ -316,7 +332,7 @@ def _methods(s, ctx) -> tuple:
                if any(mv == "population" for mv, _ in mix) else "")
         parts.append(f"The posterior of {_families(fams)} was sampled with the ensemble "
                      f"sampler emcee {cite('emcee')}, {sm['n_walkers']} walkers and "
-                     f"{sm['n_steps']} steps per walker ({rule}); each step drew its move "
+                     f"{_steps_words(models, fams)} ({rule}); each step drew its move "
                      f"from the mixture: {words}{pop}. ")
     for marg, fams in _grouped(s, lambda m: tuple(m["sampler"]["marginalised"])):
         if marg:

@@ -1,6 +1,8 @@
 """The exported posterior samples of a run: ``samples/<model>.nc`` (NetCDF, the
 post-burn-in chain as arviz InferenceData) and ``samples/<model>.csv`` (thinned samples,
-one column per parameter, marginalised nuisances included).
+one column per parameter, marginalised nuisances included; when the nuisances were drawn
+for an evenly spaced subset of the samples, :data:`evidence1d.runner.MARGINAL_DRAWS` at
+most, the CSV holds that subset and the NetCDF file every sample).
 
 References
 ----------

@@ -75,7 +75,11 @@ def _sampler_block(rec, ev) -> dict:
     """What the samplers of one family did (the methods text is written from this)."""
     st = ev.settings
     return {"moves": [dict(m) for m in rec["moves"]], "n_walkers": int(rec["n_walkers"]),
-            "n_steps": int(rec["n_steps"]), "population_size": int(rec["population_size"]),
+            "n_steps": int(rec["n_steps"]),
+            "max_steps": int(rec.get("max_steps", rec["n_steps"])),
+            "stop_rule": str(rec.get("stop_rule", "")),
+            "posterior_ess": int(rec.get("posterior_ess", 0)),
+            "population_size": int(rec["population_size"]),
             "move_acceptance": dict(rec["move_acceptance"]),
             "marginalised": list(rec["marginalised"]),
             "evidence_particles": int(st.get("n_particles", 0)),

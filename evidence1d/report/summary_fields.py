@@ -232,6 +232,12 @@ SUMMARY_FIELDS = (
     _F(f"{_M}.sampler.n_walkers", "integer", "", "emcee walkers"),
     _F(f"{_M}.sampler.n_steps", "integer", "steps", "emcee steps per walker (burn-in "
        "included)"),
+    _F(f"{_M}.sampler.max_steps", "integer", "steps", "most steps allowed (the case's "
+       "steps)"),
+    _F(f"{_M}.sampler.stop_rule", "string", "", "why the chain stopped before max_steps "
+       "(empty: every step was run)"),
+    _F(f"{_M}.sampler.posterior_ess", "integer", "samples", "bulk and tail ESS at which "
+       "the chain may stop (0: no early stop)"),
     _F(f"{_M}.sampler.population_size", "integer", "samples", "points of the tempered "
        "population that started the walkers and shaped the population proposal"),
     _F(f"{_M}.sampler.move_acceptance", "mapping[number|null]", "", "acceptance fraction of "

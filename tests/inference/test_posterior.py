@@ -159,3 +159,47 @@ def test_population_moves_fall_back_without_a_density():
     flat = np.column_stack([np.linspace(0, 1, 50), np.full(50, 2.0)])   # x1 does not vary
     assert len(population_moves(flat)) == len(default_moves())
     assert len(population_moves(np.zeros((2, 3)))) == len(default_moves())
+
+
+def test_stops_once_converged_and_matches_the_analytic_posterior(rng):
+    # Analytic posterior of the linear-Gaussian model (Bishop 2006, eqs. 2.116-2.117); the
+    # stopping rule (every diagnostic passes, bulk and tail ESS >= target) must end the
+    # chain well before the most steps, at a multiple of the check interval, and the
+    # samples it keeps must still describe the posterior.
+    from evidence1d.inference.posterior import STOP_CHECK_EVERY, STOP_MIN_STEPS
+    loglike, prior, _, mean, cov = linear_gaussian(rng, 2, "normal", 5.0, 0.7)
+    res = sample_posterior(loglike, prior, rng=rng, n_steps=5000, ess=800, progress=False)
+    assert STOP_MIN_STEPS <= res.n_steps < 5000 and res.n_steps % STOP_CHECK_EVERY == 0
+    assert res.max_steps == 5000 and "reached the target 800" in res.stop_rule
+    from evidence1d.inference.diagnostics import diagnose
+    d = diagnose(res.chain[res.burn_in:], res.names, tau=res.tau)
+    assert d.ok and min(min(d.ess_bulk.values()), min(d.ess_tail.values())) >= 800
+    sd = np.sqrt(np.diag(cov))
+    s = res.samples
+    assert np.all(np.abs(s.mean(0) - mean) < 5 * sd / np.sqrt(800))
+    np.testing.assert_allclose(np.cov(s, rowvar=False), cov, atol=0.15 * sd.max() ** 2)
+    # with no target every step is run
+    rng2 = np.random.default_rng(1)
+    a = sample_posterior(loglike, prior, rng=rng2, n_steps=res.n_steps + 100, progress=False)
+    assert a.n_steps == res.n_steps + 100 and a.stop_rule == ""
+
+
+def test_an_early_stop_resumes_to_the_same_chain(tmp_path, seed):
+    # an interrupted run resumed with the rule stops where the uninterrupted one did
+    loglike, prior, _, _, _ = linear_gaussian(np.random.default_rng(seed), 2, "normal", 5.0)
+    kw = dict(progress=False, checkpoint_every=100)
+    full = sample_posterior(loglike, prior, rng=np.random.default_rng(seed), n_steps=3000,
+                            ess=1500, checkpoint=tmp_path / "a.h5", **kw)
+    assert 300 < full.n_steps < 3000, full.n_steps
+    cut = tmp_path / "b.h5"
+    sample_posterior(loglike, prior, rng=np.random.default_rng(seed), n_steps=300,
+                     checkpoint=cut, **kw)                       # "interrupted" at step 300
+    resumed = sample_posterior(loglike, prior, rng=np.random.default_rng(seed + 1),
+                               n_steps=3000, ess=1500, checkpoint=cut, resume=True, **kw)
+    assert resumed.resumed_from == 300
+    np.testing.assert_array_equal(resumed.chain, full.chain)
+    assert resumed.stop_rule == full.stop_rule != ""
+    # a finished early stop resumed again runs no further step
+    again = sample_posterior(loglike, prior, rng=np.random.default_rng(seed + 2),
+                             n_steps=3000, ess=1500, checkpoint=cut, resume=True, **kw)
+    assert again.n_steps == full.n_steps and again.n_evaluations == 0
