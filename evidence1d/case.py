@@ -14,7 +14,7 @@ from .data import KINDS, SPECTRUM_KINDS, load_dataset
 from .data.geometry import make_geometry
 from .errors import InputError, closest_key
 from .figure_settings import figure_settings
-from .inference.tempering import DEFAULT_PARTICLES
+from .inference.tempering import DEFAULT_PARTICLES, IMPORTANCE_DRAWS_PER_PARTICLE
 from .physics.powder_settings import SETTINGS_FIELDS as _POWDER_FIELDS
 from .schema import (Field, Spec, as_any, as_bool, as_float_list, as_int, as_mapping,
                      as_positive_float, as_positive_int, as_str, check_mapping, integer,
@@ -114,6 +114,9 @@ _SAMPLER = Spec({
     "particles": Field(as_positive_int, default=DEFAULT_PARTICLES,
                        help="particles per evidence island"),
     "islands": Field(as_positive_int, default=8, help="independent evidence runs"),
+    "importance_draws": Field(integer(0), default=IMPORTANCE_DRAWS_PER_PARTICLE,
+                              help="draws of each island's final importance stage, per "
+                                   "particle (0: the tempered estimate alone)"),
     "mcmc_steps": Field(integer(0), default=0,
                         help="rejuvenation steps per temperature (0: auto)"),
     "ess_fraction": Field(real(0.0, 1.0, lower_open=True, upper_open=True), default=0.5,

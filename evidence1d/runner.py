@@ -32,7 +32,7 @@ __all__ = ["ModelResult", "RunResults", "run", "effective_settings", "QUICK", "Q
            "quick_subset"]
 
 #: reductions applied by ``--quick`` (a first look, not for publication)
-QUICK = {"steps": 300, "particles": 150, "islands": 2}
+QUICK = {"steps": 300, "particles": 150, "islands": 2, "importance_draws": 6}
 #: ``--quick`` fits at most this many points of each spectrum: a dense map (10⁴–10⁵ points)
 #: is reduced to every k-th point in file order, so that a first look costs about what the
 #: flagship's does whatever the size of the data (the report says what was kept)
@@ -116,6 +116,8 @@ def _evidence_options(settings) -> dict:
     """Keyword arguments of :func:`~evidence1d.inference.evidence.run_island` from the
     sampler settings of a case."""
     opts = {"n_particles": settings["particles"], "target_cess": settings["ess_fraction"]}
+    if "importance_draws" in settings:
+        opts["importance_draws"] = int(settings["importance_draws"]) * int(settings["particles"])
     if settings["mcmc_steps"]:
         opts["min_sweeps"] = settings["mcmc_steps"]
     return opts
