@@ -32,9 +32,9 @@ __all__ = ["FAST", "SMOKE", "replicate_settings", "task_streams", "simulate_data
 #: sampler settings of a replicate, laid under the case's (each the smaller of the two):
 #: the settings of ``evidence1d run --quick``, whose decisions README "Calibration and
 #: planning" compares with the full settings'
-FAST = {"steps": 300, "particles": 150, "islands": 2}
+FAST = {"steps": 300, "particles": 150, "islands": 2, "importance_draws": 6}
 #: ``--quick`` campaigns: a smoke run of the command (numbers not for conclusions)
-SMOKE = {"steps": 60, "particles": 40, "islands": 2}
+SMOKE = {"steps": 60, "particles": 40, "islands": 2, "importance_draws": 6}
 
 
 def replicate_settings(case, quick: bool = False) -> dict:

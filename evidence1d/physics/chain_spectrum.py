@@ -236,7 +236,8 @@ def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth,
     ix = np.flatnonzero(W > 0)
     if ix.size:
         e, s, en = Ef[ix], sf[ix], a[ix]
-        bose = 1.0 / np.expm1(en / kT) if kT > 0 else 0.0
+        with np.errstate(over="ignore"):          # e^{a/k_BT} → ∞: no thermal weight
+            bose = 1.0 / np.expm1(en / kT) if kT > 0 else 0.0
         g = lambda x: np.exp(-0.5 * (x / s) ** 2) / (math.sqrt(2.0 * math.pi) * s)
         out[ix] += W[ix] * ((1.0 + bose) * g(e - en) + bose * g(e + en))
     return out.reshape(shape)
