@@ -54,8 +54,8 @@ from evidence1d.schema import Field, Spec, check_mapping, integer, real
 
 from .progress import stage_bar
 from .records import frozen_array
-from .tempering import (DEFAULT_PARTICLES, IMPORTANCE_DRAWS_PER_PARTICLE, IMPORTANCE_MIN_ESS,
-                        IslandRun, log_mean_exp, run_island)
+from .tempering import (DEFAULT_PARTICLES, IMPORTANCE_MIN_ESS, IslandRun,
+                        importance_draws_of, log_mean_exp, run_island)
 
 # IslandRun, run_island and log_mean_exp are defined in .tempering and used here
 __all__ = ["EvidenceResult", "tempered_evidence", "island_seeds", "combine_islands",
@@ -261,11 +261,10 @@ def evidence_settings(n_particles=DEFAULT_PARTICLES, n_islands=8, target_cess=0.
     """The settings record of an evidence run (as stored in :attr:`EvidenceResult.settings`);
     ``importance_draws`` per island (None: the default per particle of
     :data:`evidence1d.inference.tempering.IMPORTANCE_DRAWS_PER_PARTICLE`)."""
-    draws = (IMPORTANCE_DRAWS_PER_PARTICLE * int(n_particles) if importance_draws is None
-             else int(importance_draws))
     return {"n_particles": int(n_particles), "n_islands": int(n_islands),
             "target_cess": target_cess, "moved": moved, "min_sweeps": int(min_sweeps),
-            "max_sweeps": int(max_sweeps), "importance_draws": draws}
+            "max_sweeps": int(max_sweeps),
+            "importance_draws": importance_draws_of(n_particles, importance_draws)}
 
 
 def tempered_evidence(log_likelihood, prior, *, rng, n_particles=DEFAULT_PARTICLES, n_islands=8,

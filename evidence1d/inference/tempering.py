@@ -112,6 +112,13 @@ IMPORTANCE_SWEEPS = 8
 IMPORTANCE_DRAWS_PER_PARTICLE = 24
 
 
+def importance_draws_of(n_particles, importance_draws=None) -> int:
+    """Draws of an island's final importance stage: ``importance_draws`` if given, else
+    :data:`IMPORTANCE_DRAWS_PER_PARTICLE` × ``n_particles``."""
+    return (IMPORTANCE_DRAWS_PER_PARTICLE * int(n_particles) if importance_draws is None
+            else int(importance_draws))
+
+
 def log_mean_exp(x, axis=None):
     """ln[(1/n) Σ exp(x_i)], computed stably.
 
@@ -420,8 +427,7 @@ def run_island(log_likelihood, prior, seed, *, n_particles=DEFAULT_PARTICLES, ta
     .. [1] Del Moral, Doucet & Jasra, JRSS B 68, 411 (2006).
     .. [2] Hesterberg, Technometrics 37, 185 (1995): the defensive importance stage.
     """
-    draws = (IMPORTANCE_DRAWS_PER_PARTICLE * int(n_particles) if importance_draws is None
-             else int(importance_draws))
+    draws = importance_draws_of(n_particles, importance_draws)
     return _run_island(LogTarget(log_likelihood), prior, np.random.default_rng(seed),
                        int(n_particles), target_cess, moved, int(min_sweeps),
                        int(max_sweeps), int(max_temperatures), bar, importance_draws=draws)
