@@ -124,7 +124,7 @@ def test_evidence_budget_of_a_small_case(tmp_path):
             CASE_YAML.split("  - name: chi", 1)[1])
     text = (text.replace("  - spinon_continuum\n", "  - spinon_continuum\n  - paramagnon\n")
             .replace("sampler: {steps: 200, particles: 100, islands: 2}",
-                     "sampler: {steps: 40, particles: 24, islands: 2}"))
+                     "sampler: {steps: 40, particles: 24, islands: 2, importance_draws: 6}"))
     case = evidence1d.load_case(write_valid_case(tmp_path / "case", text))
     res = evidence1d.run_to_folder(case, out=tmp_path / "out", progress=False, figures=False)
     s = json.loads((tmp_path / "out" / "summary.json").read_text())
@@ -159,7 +159,8 @@ def test_evidence_budget_of_a_small_case(tmp_path):
         new = next(v[1] for v in prior_variants(prior) if v[0] == r["change"])
         pb = case.replace(priors={fam: {r["parameter"]: new}}).problem(fam)
         ev = tempered_evidence(pb.log_likelihood, pb.prior, rng=np.random.default_rng(99),
-                               n_particles=100, n_islands=4, progress=False)
+                               n_particles=100, n_islands=4, progress=False,
+                               importance_draws=600)
         lz[fam] = (ev.log_z, ev.log_z_err)
     want = lz[a][0] - lz[b][0]
     tol = 4.0 * math.hypot(r["ln_k_err"], math.hypot(lz[a][1], lz[b][1])) + 0.5
@@ -205,3 +206,19 @@ def test_nuisances_drawn_for_an_even_subset_of_a_long_chain(first_run, monkeypat
         table = mr.analysis["parameter_table"]["parameters"]
         n0 = mr.nuisance_names[0]
         assert table[n0]["median"] == pytest.approx(float(np.median(full[:, j])))
+
+
+def test_quick_caps_every_setting_and_asks_the_diagnostics_own_ess(tmp_path):
+    """--quick lowers each sampler setting to at most its QUICK value and never raises one;
+    the chain's ESS target is the diagnostics' floor (so a converged quick chain stops at
+    the first check that passes), and a stop rule switched off (posterior_ess 0) stays off."""
+    from evidence1d.inference.diagnostics import THRESHOLDS
+    from evidence1d.runner import QUICK, effective_settings
+    case = evidence1d.load_case(write_valid_case(tmp_path / "case", CASE_YAML))
+    full = effective_settings(case)
+    quick = effective_settings(case, quick=True)
+    assert quick["posterior_ess"] == THRESHOLDS["ess_min"] < full["posterior_ess"]
+    for key, cap in QUICK.items():
+        assert quick[key] == min(full[key], cap)
+    off = effective_settings(case.replace(sampler={"posterior_ess": 0}), quick=True)
+    assert off["posterior_ess"] == 0

@@ -269,7 +269,8 @@ def evidence_settings(n_particles=DEFAULT_PARTICLES, n_islands=8, target_cess=0.
 
 def tempered_evidence(log_likelihood, prior, *, rng, n_particles=DEFAULT_PARTICLES, n_islands=8,
                       target_cess=0.5, moved=0.9, min_sweeps=3, max_sweeps=20,
-                      max_temperatures=500, progress=True) -> EvidenceResult:
+                      max_temperatures=500, progress=True,
+                      importance_draws=None) -> EvidenceResult:
     """Evidence ln Z = ln ∫ L(θ) π(θ) dθ by adaptive-tempering sequential Monte Carlo.
 
     See the module notes for the algorithm and the error estimate.  The islands run one
@@ -300,6 +301,10 @@ def tempered_evidence(log_likelihood, prior, *, rng, n_particles=DEFAULT_PARTICL
     progress : bool or dict
         Show progress (in units of β per island; see :mod:`.progress`); a dict ``{"label": str,
         "position": int}`` names it and gives its line (for several runs at once).
+    importance_draws : int, optional
+        Draws of each island's final importance stage (default
+        :data:`evidence1d.inference.tempering.IMPORTANCE_DRAWS_PER_PARTICLE` per particle;
+        0 keeps the tempered estimate alone).
 
     Returns
     -------
@@ -323,13 +328,14 @@ def tempered_evidence(log_likelihood, prior, *, rng, n_particles=DEFAULT_PARTICL
             run, warn = run_island(log_likelihood, prior, seq, n_particles=n_particles,
                                    target_cess=target_cess, moved=moved,
                                    min_sweeps=min_sweeps, max_sweeps=max_sweeps,
-                                   max_temperatures=max_temperatures, bar=bar)
+                                   max_temperatures=max_temperatures, bar=bar,
+                                   importance_draws=importance_draws)
             islands.append(run)
             if warn:
                 warnings.append(warn)
     finally:
         bar.close()
     settings = evidence_settings(n_particles, n_islands, target_cess, moved, min_sweeps,
-                                 max_sweeps)
+                                 max_sweeps, importance_draws)
     return combine_islands(islands, prior.free_names, settings, warnings,
                            wall_time=time.perf_counter() - start)
