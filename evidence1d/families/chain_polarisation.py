@@ -23,13 +23,16 @@ fix f_zz).
 """
 from __future__ import annotations
 
+import dataclasses
+
 import numpy as np
 
 from ..errors import InputError
 from ..physics.chain import longitudinal_share
 from ..physics.neutron import uniaxial_polarisation
 
-__all__ = ["ANISOTROPY_AXES", "ChainPolarisation", "check_anisotropy_axis"]
+__all__ = ["ANISOTROPY_AXES", "ChainPolarisation", "check_anisotropy_axis",
+           "distinct_chain_points"]
 
 #: directions the spin-anisotropy axis of a chain family may take
 ANISOTROPY_AXES = ("par", "a", "b")
@@ -42,6 +45,51 @@ def check_anisotropy_axis(axis, family: str) -> str:
                          f"chain), a or b (across it); got {axis!r} instead",
                          key="options.anisotropy_axis")
     return axis
+
+
+#: a chain-phase-only family's summed spectrum is computed once per distinct (Q_∥, E, σ)
+#: when the distinct points are at most this fraction of all (a cut across the chains
+#: repeats each of its energies at every Q_⊥); above it the points are used as they are
+DISTINCT_FRACTION = 0.9
+
+
+def distinct_chain_points(pts):
+    """The distinct (Q_∥, E, σ) of ``pts`` and the map back, or None if not worth it.
+
+    For a family whose spectrum depends on Q only through the chain phase q = Q_∥ d
+    (:attr:`~evidence1d.families.base.Family.chain_only`), points that differ only across
+    the chains have the same summed spectrum.
+
+    Parameters
+    ----------
+    pts : SpectralPoints
+        With one-dimensional ``Q_par``, ``energy`` and ``sigma`` of the same length n.
+
+    Returns
+    -------
+    (SpectralPoints, ndarray of int) or None
+        Points holding each distinct (Q_∥ in Å⁻¹, E and σ in meV) once (interchain
+        components and momentum widths 0), and for each of the n points the index of its
+        distinct point; None when ``pts`` is not of that form or the distinct points are
+        more than :data:`DISTINCT_FRACTION` of n.
+    """
+    if not dataclasses.is_dataclass(pts):
+        return None
+    E = np.asarray(pts.energy, dtype=float)
+    if E.ndim != 1 or E.size < 2:
+        return None
+    Qp = np.asarray(pts.Q_par, dtype=float)
+    s = np.asarray(pts.sigma, dtype=float)
+    if Qp.shape != E.shape or s.shape != E.shape:
+        return None
+    uniq, inverse = np.unique(np.stack([Qp, E, s], axis=1), axis=0, return_inverse=True)
+    if uniq.shape[0] > DISTINCT_FRACTION * E.size:
+        return None
+    m = uniq.shape[0]
+    reduced = dataclasses.replace(pts, Q_par=uniq[:, 0], Q_a=np.zeros(m), Q_b=np.zeros(m),
+                                  energy=uniq[:, 1], sigma=uniq[:, 2], sigma_Q_par=0.0,
+                                  sigma_Q_perp=0.0)
+    return reduced, inverse.reshape(-1)
 
 
 class ChainPolarisation:
@@ -60,6 +108,16 @@ class ChainPolarisation:
     def _unpolarised(self, p: dict, pts) -> np.ndarray:          # pragma: no cover
         raise NotImplementedError
 
+    def _summed(self, p: dict, pts) -> np.ndarray:
+        """:meth:`_unpolarised`, computed once per distinct (Q_∥, E, σ) for a family whose
+        spectrum depends on Q through the chain phase only (:func:`distinct_chain_points`)."""
+        if getattr(self, "chain_only", False):
+            found = distinct_chain_points(pts)
+            if found is not None:
+                reduced, back = found
+                return self._unpolarised(p, reduced)[..., back]
+        return self._unpolarised(p, pts)
+
     def _share(self, p: dict, pts) -> np.ndarray:
         J = np.asarray(p["J"], dtype=float).reshape(-1, 1)
         delta = np.asarray(p["delta"], dtype=float).reshape(-1, 1)
@@ -76,11 +134,11 @@ class ChainPolarisation:
         Squires (1978), Ch. 7; Hohenberg & Brinkman, Phys. Rev. B 10, 128 (1974).
         """
         factor = uniaxial_polarisation(self._share(p, pts), pts.axis_cos2(self.anisotropy_axis))
-        return factor * self._unpolarised(p, pts)
+        return factor * self._summed(p, pts)
 
     def unpolarised_spectrum(self, p: dict, pts) -> np.ndarray:
         """The three spin components summed, Σ_a S^aa(Q, E), per spin in 1/meV."""
-        return self._unpolarised(p, pts)
+        return self._summed(p, pts)
 
     def chain_terms(self, p: dict, pts):
         """(S₀, S₂) with the azimuthal mean of :meth:`spectrum` = S₀ + u² S₂, u = Q_∥/|Q|.
@@ -96,7 +154,7 @@ class ChainPolarisation:
             In 1/meV.
         """
         f = self._share(p, pts)
-        S = self._unpolarised(p, pts)
+        S = self._summed(p, pts)
         a0, a2 = 0.5 * (1.0 + f) * S, 0.5 * (1.0 - 3.0 * f) * S
         if self.anisotropy_axis == "par":
             return a0, a2
