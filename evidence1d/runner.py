@@ -26,6 +26,7 @@ import numpy as np
 
 from .errors import InputError
 from .inference.diagnostics import THRESHOLDS
+from .inference.tempering import QUICK_IMPORTANCE_DRAWS_PER_PARTICLE
 from .parallel import run_in_pool, worker_count
 from .results import ModelResult, RunResults
 
@@ -39,7 +40,7 @@ __all__ = ["ModelResult", "RunResults", "run", "effective_settings", "QUICK", "Q
 #: 2026-12-05: at most 600 steps would take the spinon chain from 25 to 51 s and still end
 #: with R-hat notes of 1.011-1.017 from the 2 x 64-particle start, so 300 is kept.)
 QUICK = {"steps": 300, "posterior_ess": int(THRESHOLDS["ess_min"]), "particles": 150,
-         "islands": 2, "importance_draws": 6}
+         "islands": 2, "importance_draws": QUICK_IMPORTANCE_DRAWS_PER_PARTICLE}
 #: ``--quick`` fits at most this many points of each spectrum: a dense map (10⁴–10⁵ points)
 #: is reduced to every k-th point in file order, so that a first look costs about what the
 #: flagship's does whatever the size of the data (the report says what was kept)

@@ -25,16 +25,20 @@ import warnings
 import numpy as np
 
 from ..errors import InputError
+from ..inference.tempering import QUICK_IMPORTANCE_DRAWS_PER_PARTICLE
 
 __all__ = ["FAST", "SMOKE", "replicate_settings", "task_streams", "simulate_data",
            "add_noise", "run_replicate", "one_dimensional_log_k"]
 
 #: sampler settings of a replicate, laid under the case's (each the smaller of the two):
-#: the settings of ``evidence1d run --quick``, whose decisions README "Calibration and
-#: planning" compares with the full settings'
-FAST = {"steps": 300, "particles": 150, "islands": 2, "importance_draws": 6}
+#: those of ``evidence1d run --quick`` (whose decisions README "Calibration and planning"
+#: compares with the full settings') except its lower ESS target: a replicate's chain keeps
+#: the case's
+FAST = {"steps": 300, "particles": 150, "islands": 2,
+        "importance_draws": QUICK_IMPORTANCE_DRAWS_PER_PARTICLE}
 #: ``--quick`` campaigns: a smoke run of the command (numbers not for conclusions)
-SMOKE = {"steps": 60, "particles": 40, "islands": 2, "importance_draws": 6}
+SMOKE = {"steps": 60, "particles": 40, "islands": 2,
+         "importance_draws": QUICK_IMPORTANCE_DRAWS_PER_PARTICLE}
 
 
 def replicate_settings(case, quick: bool = False) -> dict:

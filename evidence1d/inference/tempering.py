@@ -110,6 +110,9 @@ IMPORTANCE_SWEEPS = 8
 #: time for an error of 0.013 instead of 0.019.  64 draws gave no further gain (0.013, 0.011).
 #: Earlier, 6 (coupled chains on chain data, 150 particles: ESS 10 % of the draws).
 IMPORTANCE_DRAWS_PER_PARTICLE = 24
+#: the same for a first look (``--quick``, campaign replicates): the spread of ln Z over seeds
+#: is then 1.5–3.5 times larger (see above), still hundredths of a nat on the flagship
+QUICK_IMPORTANCE_DRAWS_PER_PARTICLE = 6
 
 
 def importance_draws_of(n_particles, importance_draws=None) -> int:
