@@ -150,8 +150,13 @@ def compare_models(models: dict, prior_odds: dict | None = None, unreliable=()) 
     word = kass_raftery_wording(2 * lk)
     lo, hi = kass_raftery_wording(2 * max(lk - 2 * lk_err, 0)), kass_raftery_wording(2 * (lk + 2 * lk_err))
     span = "" if lo == hi else f" (within two standard errors: from '{lo}' to '{hi}')"
-    verdict = (f"The data favour {best} over {second} with 2 ln K = {2 * lk:.1f} ± "
-               f"{2 * lk_err:.1f}, evidence '{word}' on the Kass & Raftery (1995) scale{span}; "
+    # as many decimals as show the error's first significant digit (at least one): an error
+    # of 0.03 is not printed as "± 0.0"
+    two_err = 2 * lk_err
+    dec = (max(1, min(3, -math.floor(math.log10(two_err))))
+           if math.isfinite(two_err) and two_err > 0 else 1)
+    verdict = (f"The data favour {best} over {second} with 2 ln K = {2 * lk:.{dec}f} ± "
+               f"{two_err:.{dec}f}, evidence '{word}' on the Kass & Raftery (1995) scale{span}; "
                f"P(one-dimensional | data) = {p1:.3g} ± {p1_err:.2g} with {stated}.")
     unreliable = tuple(n for n in unreliable if n in names)
     if unreliable:

@@ -81,3 +81,11 @@ def test_nested_limits_counted_in_p_one_dimensional():
     # a family without a limit leaves the number as it was
     same = with_nested_limits(cmp_, {})
     assert same.p_one_dimensional == cmp_.p_one_dimensional and same.verdict == cmp_.verdict
+
+
+def test_verdict_prints_the_error_to_its_first_significant_digit():
+    """2 ln K ± its error: a small error is shown, not rounded to "± 0.0"."""
+    small = compare_models({"a": (-1163.32, 0.01, True), "b": (-2381.48, 0.01, False)})
+    assert "2 ln K = 2436.32 ± 0.03," in small.verdict
+    wide = compare_models({"a": (0.0, 0.5, True), "b": (-3.0, 0.5, False)})
+    assert "2 ln K = 6.0 ± 1.4," in wide.verdict
