@@ -21,6 +21,12 @@ the singular lower edge ∝ √(ln(1/(ω − ω_L)))/√(ω − ω_L).  Three ru
 * Gauss–Hermite for windows clear of both edges (:func:`convolve_zero` at T = 0; the thermal
   paths of :mod:`~evidence1d.physics.chain_thermal`, which take R_T as their ``ratio``).
 
+The fast paths evaluate the density once per sheet where the windows of a column overlap
+(:func:`t_side_grid`, :func:`signed_side_grid`): one lattice of panels per sheet (one
+parameter set and one wavevector) and class of σ, each window summing the Gaussian over the
+nodes of the panels it meets.  On the flagship case study this made the spinon likelihood
+1.45 times cheaper (side by side, same process) and closer to the reference path.
+
 Measured against adaptive quadrature of the model (tests): < 1e-4 of the peak at T = 0, at
 T > 0 < 2e-4 for σ/k_BT from 0.05 to 20.
 
@@ -43,7 +49,8 @@ from .chain_exact import (_pair_params, _ratio_xy, _ratio_y2, _rho_t, _t_of, _yc
 from .chain_thermal import thermal_density
 from .neutron import gauss_hermite
 
-__all__ = ["t_side", "convolve_zero", "signed_side", "TOP_CLEAR"]
+__all__ = ["t_side", "convolve_zero", "signed_side", "signed_side_grid", "t_side_grid",
+           "column_groups", "TOP_CLEAR"]
 
 _N_SIGMA = 6.0
 #: Gauss–Hermite paths need the upper edge this many σ beyond the window centre (measured:
@@ -252,7 +259,7 @@ def _window(Es, s, wl, top, kT, hi, frac, sign, thermal, n_nodes):
     return val + _t_panels(ta, tbb, Es, s, wl, vmax2, kT, sign, thermal, n_nodes)
 
 
-def convolve_zero(E, s, wl, top, A, n_nodes=6, n_panels=3, smooth=True):
+def convolve_zero(E, s, wl, top, A, n_nodes=6, n_panels=3, smooth=True, group=None):
     """T = 0 exact-profile sheet A R(ω)/√(ω² − ω_L²) on [ω_L, ω_U], convolved; flat arrays.
 
     Windows clear of ω_L by 6σ and of ω_U by 4.5σ: Gauss–Hermite (4 nodes; measured < 3e-6
@@ -292,7 +299,10 @@ def convolve_zero(E, s, wl, top, A, n_nodes=6, n_panels=3, smooth=True):
                 out[j] = A[j] * (w @ exact_profile(om, wl[j], top[j]))
         active &= ~easy
     ix = np.flatnonzero(active)
-    if ix.size:
+    if ix.size and smooth:
+        out[ix] = A[ix] * t_side_grid(E[ix], s[ix], wl[ix], top[ix],
+                                      None if group is None else group[ix])
+    elif ix.size:
         out[ix] = A[ix] * t_side(E[ix], s[ix], wl[ix], top[ix], np.zeros(ix.size), 1.0,
                                  False, n_nodes, n_panels)
     return out
@@ -371,4 +381,264 @@ def signed_side(E, s, wl, top, kT, n_nodes=7, n_panels=2, n_sigma=4.5):
             _gauss_times(f, Ej, om, sj)
             f *= w
             out[j] = half * f.sum(axis=0) / (math.sqrt(2.0 * math.pi) * sj)
+    return out
+
+
+#: shared-grid rules (:func:`signed_side_grid`, :func:`t_side_grid`): Gauss–Legendre nodes
+#: per panel; the panel width in units of the σ of a class and of k_BT (the narrower wins);
+#: the ratio of the σ bounds of one class (σ in [r^c, r^{c+1}))
+GRID_NODES = 9
+GRID_WIDTH_SIGMA = 4.5
+GRID_WIDTH_KT = 5.4
+GRID_CLASS_RATIO = 1.5
+
+
+def column_groups(wl, top):
+    """Integer labels of the pairs that share one sheet (equal ω_L and ω_U), shape (m,)."""
+    key = np.stack([wl, top], axis=-1)
+    return np.unique(key, axis=0, return_inverse=True)[1].reshape(-1)
+
+
+def _classes(s, class_ratio):
+    """The σ class c = ⌊log_r σ⌋ of each pair and its lower bound r^c (meV)."""
+    c = np.floor(np.log(s) * (1.0 / math.log(class_ratio)))
+    return c.astype(np.int64), np.exp(c * math.log(class_ratio))
+
+
+def _grouped(ix, s, lo, hi, group, cls):
+    """Sort the pairs ``ix`` into clusters: the same sheet (``group``) and σ class, windows
+    [lo, hi] overlapping in a chain (a gap starts a new cluster, so that no panel between
+    windows is evaluated).  Returns the sorted pairs, the index of each cluster's first pair
+    and the cluster of each pair (0, 1, …)."""
+    c = cls[ix] - cls[ix].min()
+    key = np.asarray(group, dtype=np.int64)[ix] * (int(c.max()) + 1) + c
+    order = np.lexsort((lo[ix], key))
+    ix, key = ix[order], key[order]
+    first = np.empty(ix.size, dtype=bool)
+    first[0] = True
+    np.not_equal(key[1:], key[:-1], out=first[1:])
+    # running maximum of hi within each (sheet, class), offset so that it restarts per key
+    run = np.cumsum(first) - 1
+    span = float(np.max(hi[ix]) - np.min(lo[ix])) + 1.0
+    reach = np.maximum.accumulate(hi[ix] + run * span) - run * span
+    first[1:] |= lo[ix][1:] > reach[:-1]
+    return ix, np.flatnonzero(first), np.cumsum(first) - 1
+
+
+def _gather_sum(values, nodes, first, count, E, s):
+    """Σ over the rows first … first + count − 1 of ``nodes``/``values`` (the panels a window
+    meets) of values × exp(−(E − ω)²/2σ²), per pair, in a fixed order."""
+    val = np.empty(E.size)
+    for k in np.unique(count):
+        sel = np.flatnonzero(count == k)
+        for start in range(0, sel.size, _CHUNK):
+            j = sel[start:start + _CHUNK]
+            rows = (first[j][:, None] + np.arange(k)).reshape(-1)
+            o = nodes[rows].reshape(j.size, -1)
+            f = values[rows].reshape(j.size, -1)
+            _gauss_times(f, E[j][:, None], o, s[j][:, None])
+            val[j] = f.sum(axis=1)
+    return val
+
+
+def _panels_needed(p0, p1, starts):
+    """Per cluster the first and last panel any of its windows meets, the panels between
+    (cluster of each, absolute index) and the offset of each cluster's first panel."""
+    pmin = np.minimum.reduceat(p0, starts)
+    pmax = np.maximum.reduceat(p1, starts)
+    n = pmax - pmin + 1
+    off = np.cumsum(n) - n
+    pg = np.repeat(np.arange(n.size), n)
+    pk = pmin[pg] + np.arange(pg.size) - off[pg]
+    return pmin, pmax, pg, pk, off
+
+
+def signed_side_grid(E, s, wl, top, kT, group=None, n_sigma=4.5, n_nodes=GRID_NODES,
+                     width_sigma=GRID_WIDTH_SIGMA, width_kT=GRID_WIDTH_KT,
+                     class_ratio=GRID_CLASS_RATIO):
+    """:func:`signed_side` on one lattice of panels per sheet, shared by its windows.
+
+    The pairs of one parameter set and one wavevector (one sheet: the same ω_L, ω_U, k_BT)
+    differ only in E and σ.  On a spectrum measured at steps finer than σ (a thermally damped
+    spectrum has σ of a few k_BT) their windows E ± ``n_sigma`` σ overlap several times, so
+    the density R_T D_T is evaluated once per panel of a lattice that tiles [−ω_U, ω_U] and
+    each window sums the Gaussian over the nodes of the panels it meets.  The lattice
+    depends only on the sheet and on the class of σ (σ within [r^c, r^{c+1}), r =
+    ``class_ratio``): N uniform panels, N = max(2, ⌈2ω_U/h_c⌉), h_c = min(``width_sigma``
+    r^c, ``width_kT`` k_BT) (the per-window rule of :func:`signed_side` has panels of 1.8–4.5
+    σ and ≤ 5.8 k_BT); the panels ending at ±ω_U take the u-rule of :func:`_top_rule`, the
+    others Gauss–Legendre, ``n_nodes`` each.  A window's value therefore does not depend on
+    which other windows are computed with it.  Measured against adaptive quadrature in the
+    tests (< 5e-5 of the peak).
+
+    Parameters
+    ----------
+    E, s, wl, top, kT : ndarray, shape (m,)
+        Energy transfer, σ, ω_L, ω_U and k_BT (> 0), all in meV.
+    group : ndarray of int, shape (m,), optional
+        Pairs with the same label share ω_L, ω_U and k_BT (default: found from ω_L, ω_U).
+    n_sigma : float
+        Half-width of each window in σ (panels beyond it are not summed).
+    n_nodes, width_sigma, width_kT, class_ratio
+        Rule settings (see above).
+
+    Returns
+    -------
+    ndarray, shape (m,)
+        ∫ G_σ(E − ω) R_T(ω) D_T(ω) dω in 1/meV per unit Müller amplitude.
+
+    References
+    ----------
+    Karbach et al., Phys. Rev. B 55, 12510 (1997); Abramowitz & Stegun 25.4.29.
+    """
+    out = np.zeros(E.size)
+    lo = np.maximum(E - n_sigma * s, -top)
+    hi = np.minimum(E + n_sigma * s, top)
+    ix = np.flatnonzero(hi > lo)
+    if ix.size == 0:
+        return out
+    if group is None:
+        group = column_groups(wl, top)
+    cls, sig_c = _classes(s, class_ratio)
+    ix, starts, gid = _grouped(ix, s, lo, hi, group, cls)
+    E_i, s_i = E[ix], s[ix]
+    head = ix[starts]
+    gtop, gwl, gkT = top[head], wl[head], kT[head]
+    N = np.maximum(np.ceil(2.0 * gtop / np.minimum(width_sigma * sig_c[head],
+                                                    width_kT * gkT)), 2.0)
+    h = 2.0 * gtop / N
+    N = N.astype(np.int64)
+    p0 = np.clip(np.floor((lo[ix] + gtop[gid]) / h[gid]), 0, N[gid] - 1).astype(np.int64)
+    p1 = np.clip(np.floor((hi[ix] + gtop[gid]) / h[gid]), 0, N[gid] - 1).astype(np.int64)
+    pmin, _, pg, pk, off = _panels_needed(p0, p1, starts)
+    xg, wg = gauss_legendre(n_nodes)
+    xt, wt = _top_rule(n_nodes)
+    up = (pk == N[pg] - 1)[:, None]
+    down = (pk == 0)[:, None]
+    xi = np.where(up, xt, np.where(down, -xt, xg))
+    wi = np.where(up | down, wt, wg)
+    half = 0.5 * h[pg]
+    om = (pk * h[pg] - gtop[pg] + half)[:, None] + half[:, None] * xi         # (panels, n)
+    pwl, ptop, pkT = gwl[pg][:, None], gtop[pg][:, None], gkT[pg][:, None]
+    wf = thermal_density(om, pwl, pkT)
+    wf *= ratio_fast(om, pwl, ptop, pkT)
+    wf *= wi
+    wf *= half[:, None]
+    val = _gather_sum(wf, om, off[gid] + p0 - pmin[gid], p1 - p0 + 1, E_i, s_i)
+    out[ix] = val / (math.sqrt(2.0 * math.pi) * s_i)
+    return out
+
+
+def t_side_grid(Es, s, wl, top, group=None, n_nodes=GRID_NODES, width_sigma=GRID_WIDTH_SIGMA,
+                class_ratio=GRID_CLASS_RATIO):
+    """:func:`t_side` at T = 0 on the loss side, on one lattice of panels per sheet.
+
+    The pairs of one sheet (one parameter set and wavevector: the same ω_L and ω_U) share a
+    lattice of N panels uniform in ω on [ω_L, ω_U], N = ⌈(ω_U − ω_L)/h_c⌉, h_c =
+    ``width_sigma`` r^c for the σ class c (σ within [r^c, r^{c+1}), r = ``class_ratio``),
+    each integrated in the Karbach variable t by Gauss–Legendre (``n_nodes``); the first
+    panel is cut at 15 % and 1 % of its width and at t₁ + 1.3 and t₁ + 4.5, with the weight
+    beyond put at ω_L, as in :func:`t_side`.  Each window (down to ω_L where it reaches
+    within 2σ of it, else E ± 6σ) sums the Gaussian over the nodes of the panels it meets;
+    its value does not depend on which other windows are computed with it.  Measured against
+    adaptive quadrature in the tests (< 5e-5 of the peak).
+
+    Parameters
+    ----------
+    Es, s, wl, top : ndarray, shape (m,)
+        Energy transfer, σ, ω_L (> 0) and ω_U in meV.
+    group : ndarray of int, shape (m,), optional
+        Pairs with the same label share ω_L and ω_U (default: found from them).
+    n_nodes, width_sigma, class_ratio
+        Rule settings (see above).
+
+    Returns
+    -------
+    ndarray, shape (m,)
+        ∫ G_σ(Es − ω) R(ω)/√(ω² − ω_L²) dω over the window, 1/meV per unit Müller amplitude.
+
+    References
+    ----------
+    Karbach et al., Phys. Rev. B 55, 12510 (1997); Abramowitz & Stegun 25.4.29.
+    """
+    out = np.zeros(Es.size)
+    clear = Es - _N_SIGMA * s >= wl + _CLEAR * s
+    lo = np.where(clear, Es - _N_SIGMA * s, wl)
+    hi = np.minimum(top, Es + _N_SIGMA * s)
+    ix = np.flatnonzero(hi > lo)
+    if ix.size == 0:
+        return out
+    if group is None:
+        group = column_groups(wl, top)
+    cls, sig_c = _classes(s, class_ratio)
+    ix, starts, gid = _grouped(ix, s, lo, hi, group, cls)
+    E_i, s_i = Es[ix], s[ix]
+    head = ix[starts]
+    gwl, gtop = wl[head], top[head]
+    vmax2 = (gtop - gwl) * (gtop + gwl)
+    N = np.maximum(np.ceil((gtop - gwl) / (width_sigma * sig_c[head])), 1.0)
+    h = (gtop - gwl) / N
+    N = N.astype(np.int64)
+    p0 = np.clip(np.floor((lo[ix] - gwl[gid]) / h[gid]), 0, N[gid] - 1).astype(np.int64)
+    p1 = np.clip(np.floor((hi[ix] - gwl[gid]) / h[gid]), 0, N[gid] - 1).astype(np.int64)
+    pmin, _, pg, pk, off = _panels_needed(p0, p1, starts)
+    n_sub = _EDGE_FRACTIONS.size + 2                 # intervals of the first panel (k = 0)
+    # intervals: the first panel's n_sub pieces where a cluster needs it, one per other panel
+    n_int = np.where(pk == 0, n_sub, 1)
+    ioff = np.cumsum(n_int) - n_int                  # first interval of each panel
+    ig = np.repeat(pg, n_int)                        # cluster of each interval
+    ipk = np.repeat(pk, n_int)
+
+    def t_at(om, g):
+        x = (om - gwl[g]) * (om + gwl[g]) / vmax2[g]
+        omx = (gtop[g] - om) * (gtop[g] + om) / vmax2[g]
+        return np.where(omx > 0, _t_of(np.maximum(x, 1e-300), np.maximum(omx, 1e-300)), 0.0)
+
+    # t decreases as ω grows: panel k spans t(ω_{k+1}) … t(ω_k), ω_k = ω_L + k h
+    ta = t_at(gwl[ig] + (ipk + 1) * h[ig], ig)
+    tbb = t_at(gwl[ig] + ipk * h[ig], ig)
+    tail = np.zeros(pk.size)
+    first_panels = np.flatnonzero(pk == 0)
+    if first_panels.size:
+        g = pg[first_panels]
+        wle, vme, he = gwl[g], vmax2[g], h[g]
+        om_f = wle + he * _EDGE_FRACTIONS[:, None]
+        tf = _t_of((om_f - wle) * (om_f + wle) / vme, (gtop[g] - om_f) * (gtop[g] + om_f) / vme)
+        tL = np.arccosh(np.maximum(np.sqrt(vme) / wle, 1.0)) / math.pi
+        t1 = np.maximum(tf[-1], tL)
+        cuts = np.concatenate([t_at(wle + he, g)[None], tf, (t1 + _EDGE_SPAN[0])[None],
+                               (t1 + _EDGE_SPAN[1])[None]], axis=0)   # (n_sub + 1, panels)
+        rows = ioff[first_panels] + np.arange(n_sub)[:, None]
+        ta[rows] = cuts[:-1]
+        tbb[rows] = cuts[1:]
+        # the weight beyond the last cut, at ω_L (see :func:`_window`)
+        e2 = np.exp(-2.0 * math.pi * cuts[-1])
+        tail[first_panels] = _rho_t(cuts[-1]) * 2.0 * np.sqrt(vme * e2) / wle
+    # nodes and weights of every interval: R D_0 dω/dt = π v_max R sech(πt) tanh(πt)/ω
+    xg, wg = gauss_legendre(n_nodes)
+    half = 0.5 * (tbb - ta)
+    t = (0.5 * (tbb + ta))[:, None] + half[:, None] * xg
+    e = np.exp(t * (-2.0 * math.pi))
+    d = 1.0 / (1.0 + e)
+    sech = 2.0 * np.sqrt(e) * d
+    th = (1.0 - e) * d
+    vm2 = vmax2[ig][:, None]
+    om = np.sqrt(sech * sech * vm2 + gwl[ig][:, None] ** 2)
+    f = _rho_t(t)
+    f *= sech * th
+    f *= math.pi * np.sqrt(vm2)
+    f /= om
+    f *= wg
+    f *= half[:, None]
+    # each window: the intervals of the panels p0 … p1
+    pan0 = off[gid] + p0 - pmin[gid]                  # row of the window's first panel
+    pan1 = off[gid] + p1 - pmin[gid]
+    first = ioff[pan0]
+    last = ioff[pan1] + np.where(p1 == 0, n_sub - 1, 0)
+    val = _gather_sum(f, om, first, last - first + 1, E_i, s_i)
+    at_edge = np.flatnonzero(p0 == 0)
+    if at_edge.size:
+        val[at_edge] += tail[pan0[at_edge]] * np.exp(
+            -0.5 * ((E_i[at_edge] - gwl[gid[at_edge]]) / s_i[at_edge]) ** 2)
+    out[ix] = val / (math.sqrt(2.0 * math.pi) * s_i)
     return out

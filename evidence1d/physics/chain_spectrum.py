@@ -65,14 +65,16 @@ _HERMITE_MAX = HERMITE_TIERS[-1][1]  # σ/k_BT up to which the thermal path is G
 _SIGNED_PANELS = ((2, _HERMITE_MAX), (3, 1.8), (4, 2.4), (5, 3.2))
 
 
-def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth):
+def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth, group=None):
     """One sheet with the exact profile A R_T(ω) D(ω) on [ω_L, top], convolved, flat arrays.
 
     T = 0: :func:`evidence1d.physics.chain_exact_quadrature.convolve_zero`.  T > 0:
-    σ ≤ 1.25 k_BT near ±ω_U, and every window with 1.25 k_BT < σ ≤ 3.2 k_BT (the widths of
-    a thermally damped spectrum; 3 to 5 panels, :data:`_SIGNED_PANELS`; measured within
-    1.2e-5 of the peak of the all-Gauss–Legendre reference path, and the tests against
-    adaptive quadrature), :func:`~evidence1d.physics.chain_exact_quadrature.signed_side`;
+    σ ≤ 1.25 k_BT near ±ω_U, :func:`~evidence1d.physics.chain_exact_quadrature.signed_side`
+    (one rule per window); every window with 1.25 k_BT < σ ≤ 3.2 k_BT (the widths of a
+    thermally damped spectrum, whose windows overlap several times along a column),
+    :func:`~evidence1d.physics.chain_exact_quadrature.signed_side_grid` (one lattice of
+    panels per sheet, shared by its windows; ``group`` labels the pairs of one sheet;
+    measured within 5e-5 of the peak against adaptive quadrature in the tests);
     the rest, :func:`evidence1d.physics.chain_thermal.convolve_thermal` with the profile
     ratio R_T at its nodes, :func:`~evidence1d.physics.chain_exact_quadrature.t_side` as the
     T = 0 edge path and, for windows clear of the thermal edge but not of ω_U, on the
@@ -81,7 +83,7 @@ def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth):
     if not (A > 0).any():
         return np.zeros(Ef.size)
     if kT <= 0:
-        return cxq.convolve_zero(Ef, sf, wl, top, A, n_nodes, n_panels, smooth)
+        return cxq.convolve_zero(Ef, sf, wl, top, A, n_nodes, n_panels, smooth, group)
 
     def old_side(Es, s, wl_, top_, A_, kTa, boltz):
         return A_ * cxq.t_side(Es, s, wl_, top_, kTa, -1.0 if boltz else 1.0, False,
@@ -101,13 +103,17 @@ def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth):
         narrow &= (np.abs(Ef) + cxq.TOP_CLEAR * sf > top) | (sf > _HERMITE_MAX * kT)
     out = np.zeros(Ef.size)
     if smooth:
-        prev = 0.0
-        for panels, r_max in _SIGNED_PANELS:
-            ix = np.flatnonzero(narrow & (sf > prev * kT) & (sf <= r_max * kT))
-            prev = r_max
-            if ix.size:
-                out[ix] = A[ix] * cxq.signed_side(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
-                                                  n_panels=panels)
+        # σ ≤ 1.25 k_BT (windows near ±ω_U only): one rule per window; wider windows (a
+        # thermally damped spectrum, σ of a few k_BT, overlapping several times along a
+        # column): one node grid per sheet shared by the windows
+        ix = np.flatnonzero(narrow & (sf <= _HERMITE_MAX * kT))
+        if ix.size:
+            out[ix] = A[ix] * cxq.signed_side(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
+                                              n_panels=_SIGNED_PANELS[0][0])
+        ix = np.flatnonzero(narrow & (sf > _HERMITE_MAX * kT))
+        if ix.size:
+            out[ix] = A[ix] * cxq.signed_side_grid(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
+                                                   None if group is None else group[ix])
     else:
         ix = np.flatnonzero(narrow)
         if ix.size:
@@ -120,7 +126,7 @@ def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth):
 
 
 def _convolve_sheet(Ef, sf, wl, top, A, kT, method, n_nodes, n_panels, smooth,
-                    line_shape="muller"):
+                    line_shape="muller", group=None):
     """One sheet on [ω_L, top], convolved, flat (pair) arrays: the Müller shape
     A/√(ω² − ω_L²) (below), or the exact profile (:func:`_convolve_exact`).
 
@@ -131,7 +137,7 @@ def _convolve_sheet(Ef, sf, wl, top, A, kT, method, n_nodes, n_panels, smooth,
     :func:`evidence1d.physics.chain_thermal.convolve_thermal`.
     """
     if line_shape == "exact":
-        return _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth)
+        return _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth, group)
     out = np.zeros(Ef.size)
     valid = A > 0
     if not valid.any():
@@ -165,7 +171,7 @@ _EDGE_WINDOW = 2.0 * math.pi
 _W_MIN = 1e-3
 
 
-def _edge_blend(Ef, sf, wl, top, A, kT, settings):
+def _edge_blend(Ef, sf, wl, top, A, kT, settings, group=None):
     """One sheet with the finite-temperature edge confined to the Luttinger regime.
 
     The conformal finite-temperature form of the edge (:mod:`chain_thermal`) describes the
@@ -180,17 +186,19 @@ def _edge_blend(Ef, sf, wl, top, A, kT, settings):
     obey detailed balance point by point, so the blend does; w → 1 at q = π, w → 0 as T → 0.
     """
     if kT <= 0:
-        return _convolve_sheet(Ef, sf, wl, top, A, kT, *settings)
+        return _convolve_sheet(Ef, sf, wl, top, A, kT, *settings, group=group)
     w = 1.0 / (1.0 + (wl / (_EDGE_WINDOW * kT)) ** 2)
     out = np.zeros_like(Ef)
     hot = np.flatnonzero(w > _W_MIN)
     if hot.size:
         out[hot] = w[hot] * _convolve_sheet(Ef[hot], sf[hot], wl[hot], top[hot], A[hot], kT,
-                                            *settings)
+                                            *settings,
+                                            group=None if group is None else group[hot])
     cold = np.flatnonzero(w < 1.0 - _W_MIN)
     if cold.size:
         Ec, sc, wlc, topc, Ac = Ef[cold], sf[cold], wl[cold], top[cold], A[cold]
-        s0 = _convolve_sheet(Ec, sc, wlc, topc, Ac, 0.0, *settings)   # S_0 on ω > 0, any E
+        gc = None if group is None else group[cold]
+        s0 = _convolve_sheet(Ec, sc, wlc, topc, Ac, 0.0, *settings, group=gc)  # S_0, ω > 0
         # its gain-side image e^{−|ω|/k_BT} S_0(|ω|), ω < 0, convolved exactly by completing
         # the square: ∫ G_σ(E + x) e^{−x/k_BT} S_0(x) dx
         #   = e^{E/k_BT + σ²/2(k_BT)²} (G_σ ∗ S_0)(−E − σ²/k_BT)
@@ -198,7 +206,7 @@ def _edge_blend(Ef, sf, wl, top, A, kT, settings):
         r = np.flatnonzero(N_SIGMA * sc - Ec - shift > wlc)      # the window reaches S_0
         if r.size:
             gain = _convolve_sheet(-Ec[r] - shift[r], sc[r], wlc[r], topc[r], Ac[r], 0.0,
-                                   *settings)
+                                   *settings, group=None if gc is None else gc[r])
             s0[r] += np.exp(Ec[r] / kT + 0.5 * (sc[r] / kT) ** 2) * gain
         out[cold] += (1.0 - w[cold]) * s0
     return out
@@ -225,14 +233,21 @@ def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth,
     shape = np.broadcast_shapes(parts[0].shape, E.shape, sigma.shape)
     wl, top, A, wl_s, b, A_s, a, W, Ef, sf = (
         np.ascontiguousarray(np.broadcast_to(p, shape)).ravel() for p in parts + [E, sigma])
+    # pairs of one parameter set and one wavevector share a sheet (the windows of a column
+    # share one node grid where the rule allows it)
+    if inverse is not None and len(shape) == 2:
+        group = (np.arange(shape[0])[:, None] * q_unique.size + inverse).ravel()
+    else:
+        group = np.arange(Ef.size)
     kT = K_B_MEV * T
     settings = (method, int(n_nodes), int(n_panels), smooth, line_shape)
     sheet = _edge_blend if thermal_edge == "near_pi" else (
-        lambda e, s_, lo, hi, amp, kT_, st: _convolve_sheet(e, s_, lo, hi, amp, kT_, *st))
-    out = sheet(Ef, sf, wl, top, A, kT, settings)
+        lambda e, s_, lo, hi, amp, kT_, st, group: _convolve_sheet(e, s_, lo, hi, amp, kT_, *st,
+                                                                 group=group))
+    out = sheet(Ef, sf, wl, top, A, kT, settings, group)
     ix = np.flatnonzero(A_s > 0)
     if ix.size:
-        out[ix] += sheet(Ef[ix], sf[ix], wl_s[ix], b[ix], A_s[ix], kT, settings)
+        out[ix] += sheet(Ef[ix], sf[ix], wl_s[ix], b[ix], A_s[ix], kT, settings, group[ix])
     ix = np.flatnonzero(W > 0)
     if ix.size:
         e, s, en = Ef[ix], sf[ix], a[ix]

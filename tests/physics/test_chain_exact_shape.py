@@ -185,6 +185,53 @@ def test_thermal_convolution_against_quadrature(ratio, K1):
         assert np.max(np.abs(got - want)) < 2e-4 * peak, (J, D, q)
 
 
+@pytest.mark.parametrize("kT_over_J", [0.0, 0.05, 0.12])
+def test_shared_column_grids_against_quadrature(kT_over_J, K1):
+    # a column of a measured map: energies at steps far finer than sigma (here 0.2 sigma)
+    # and sigma growing with E, as a thermally damped spectrum has (sigma = 1.3-3.2 k_BT);
+    # the windows share one node grid per sheet (t_side_grid at T = 0, signed_side_grid at
+    # T > 0), each value checked against adaptive quadrature of the model, and against
+    # the same window computed on its own
+    from evidence1d.physics import chain_exact_quadrature as cxq
+    J, D, q = 1.07, 0.98, 2.3
+    sh = chain.two_spinon_sheets(np.array([q]), np.array([[J]]), np.array([[D]]))
+    wl, wu = sh["lower"][0, 0], sh["top"][0, 0]
+    kT = kT_over_J * J
+    s0 = 0.03 * J if kT == 0 else 1.4 * kT
+    E = np.linspace(-wu - 2 * s0 if kT else wl - 3 * s0, wu + 3 * s0, 60)
+    s = s0 * (1.0 + 0.6 * np.abs(E) / wu)
+    full = lambda v: np.full(E.size, float(v))
+    if kT == 0:
+        got = cxq.t_side_grid(E, s, full(wl), full(wu))
+    else:
+        got = cxq.signed_side_grid(E, s, full(wl), full(wu), full(kT))
+    want = np.array([_sheet_ref(e, si, wl, wu, kT, K1) for e, si in zip(E, s)])
+    peak = want.max()
+    assert np.max(np.abs(got - want)) < 5e-5 * peak, np.max(np.abs(got - want)) / peak
+    # each window alone (its own grid) agrees to the same accuracy
+    one = lambda i: (cxq.t_side_grid(E[i:i + 1], s[i:i + 1], full(wl)[:1], full(wu)[:1])
+                     if kT == 0 else cxq.signed_side_grid(E[i:i + 1], s[i:i + 1], full(wl)[:1],
+                                                          full(wu)[:1], full(kT)[:1]))
+    alone = np.concatenate([one(i) for i in range(0, E.size, 7)])
+    assert np.max(np.abs(alone - got[::7])) < 5e-5 * peak
+
+
+def test_shared_grids_keep_the_sets_of_a_batch_apart():
+    # one grid per parameter set and wavevector: a set's spectrum is the same to rounding
+    # whether it is computed alone or with other sets (a damped, finite-T map)
+    rng = np.random.default_rng(5)
+    J, D = rng.uniform(0.8, 1.3, (3, 1)), rng.uniform(0.7, 1.2, (3, 1))
+    q = np.repeat(np.linspace(0.3, 3.0, 6), 30)
+    E = np.tile(np.linspace(-0.5, 4.0, 30), 6)
+    sig = 0.03 + 0.01 * np.abs(E)
+    b = np.array([[1.5], [0.5], [2.5]])
+    both = cs.spinon_spectrum(q, E, sig, 1.5, J, D, thermal_damping=b)
+    for k in range(3):
+        alone = cs.spinon_spectrum(q, E, sig, 1.5, J[k:k + 1], D[k:k + 1],
+                                   thermal_damping=b[k:k + 1])
+        np.testing.assert_allclose(alone[0], both[k], rtol=1e-12, atol=1e-15)
+
+
 def test_reference_path_agrees_with_fast_paths():
     # the all-Gauss-Legendre path (smooth=False) of the same kernel against the fast paths
     rng = np.random.default_rng(3)
