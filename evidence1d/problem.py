@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .errors import InputError
 from .families import FAMILY_CLASSES
 from .families.predict import SAMPLE_EXTRAS, DatasetPredictor
 from .inference.likelihood import gaussian_loglike, student_t_loglike
@@ -145,19 +146,22 @@ class JointProblem:
         return (self.prior.in_support(theta) & np.all(np.isfinite(theta), axis=1)
                 & self._physical(theta))
 
-    def _per_dataset(self, theta):
+    def _per_dataset(self, theta, labels=None):
         theta, _ = self._as_batch(theta)
         k = theta.shape[0]
-        out = {label: np.full(k, -np.inf) for label in self.term_sizes()}
+        wanted = list(self.term_sizes()) if labels is None else list(labels)
+        out = {label: np.full(k, -np.inf) for label in wanted}
         idx = np.flatnonzero(self._valid(theta))
         for start in range(0, idx.size, self.chunk):
             sel = idx[start:start + self.chunk]
             p = self.prior.expand(theta[sel])
             with np.errstate(all="ignore"):
                 for pr in self.predictors:
-                    if pr.dataset.name not in self._in_block:
+                    if pr.dataset.name not in self._in_block and pr.dataset.name in out:
                         out[pr.dataset.name][sel] = self._dataset_loglike(pr, p, False)
                 for b in self.blocks:
+                    if b.label not in out:
+                        continue
                     ll = b.log_likelihood(p)
                     out[b.label][sel] = np.where(np.isfinite(ll), ll, -np.inf)
         return out
@@ -225,9 +229,22 @@ class JointProblem:
     def __call__(self, theta):
         return self.log_likelihood(theta)
 
-    def log_likelihood_terms(self, theta) -> dict:
-        """Per-dataset log-likelihoods {dataset name: (k,)} (evidence budgets)."""
-        return self._per_dataset(theta)
+    def log_likelihood_terms(self, theta, labels=None) -> dict:
+        """Per-term log-likelihoods {term label: (k,)} (evidence budgets).
+
+        Parameters
+        ----------
+        theta : ndarray, shape (k, len(names)) or (len(names),)
+        labels : sequence of str, optional
+            Only these terms (labels of :meth:`term_sizes`), the others not computed;
+            default every term.
+        """
+        if labels is not None:
+            unknown = sorted(set(labels) - set(self.term_sizes()))
+            if unknown:
+                raise InputError(f"unknown likelihood term(s) {', '.join(unknown)}; the "
+                                 f"terms are {', '.join(self.term_sizes())}")
+        return self._per_dataset(theta, labels)
 
     def log_likelihood_pointwise(self, theta, rng) -> dict:
         """Per-point log-likelihoods {dataset name: (k, n_points)} (for PSIS-LOO), with any

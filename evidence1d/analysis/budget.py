@@ -56,7 +56,7 @@ class SubsetLikelihood:
     Parameters
     ----------
     problem : JointProblem
-        Anything with ``log_likelihood_terms(theta) -> {label: (k,)}``.
+        Anything with ``log_likelihood_terms(theta, labels) -> {label: (k,)}``.
     labels : sequence of str
         The terms summed.
     """
@@ -65,7 +65,8 @@ class SubsetLikelihood:
         self.problem, self.labels = problem, tuple(labels)
 
     def __call__(self, theta):
-        terms = self.problem.log_likelihood_terms(np.atleast_2d(theta))
+        # only the subset's terms are computed (a subset without the map skips its kernel)
+        terms = self.problem.log_likelihood_terms(np.atleast_2d(theta), self.labels)
         return np.sum([terms[lab] for lab in self.labels], axis=0)
 
 

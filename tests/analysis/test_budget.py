@@ -10,8 +10,8 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from evidence1d.analysis.budget import (budget_subsets, combine_subset, evidence_budget,
-                                        subset_island)
+from evidence1d.analysis.budget import (SubsetLikelihood, budget_subsets, combine_subset,
+                                        evidence_budget, subset_island)
 from evidence1d.inference.priors import JointPrior, Normal
 
 SIGMA, TAU = 0.5, 2.0
@@ -28,10 +28,10 @@ class _Offsets:
         self.data, self.offsets = data, offsets
         self.prior = JointPrior(["mu"], [Normal(0.0, TAU)])
 
-    def log_likelihood_terms(self, theta):
+    def log_likelihood_terms(self, theta, labels=None):
         mu = np.atleast_2d(theta)[:, :1]
         return {d: np.sum(stats.norm.logpdf(y[None, :], mu + self.offsets[d], SIGMA), axis=1)
-                for d, y in self.data.items()}
+                for d, y in self.data.items() if labels is None or d in labels}
 
     def exact_log_z(self, labels):
         """ln Z of a subset: the data are jointly normal with mean δ and covariance
@@ -117,3 +117,27 @@ def test_budget_adds_up_to_the_total(families, budget):
     assert parts == pytest.approx(budget["ln_k"], abs=1e-9)      # telescoping
     assert abs(budget["ln_k"] - exact) < 4 * budget["ln_k_err"] + 0.05
     assert budget["warnings"] == []
+
+
+def test_a_subset_computes_only_its_own_terms(monkeypatch):
+    # the budget's subset likelihoods ask the problem for their terms only: a subset without
+    # the map must not pay for the map's kernel, and each term is the one of the full call
+    from pathlib import Path
+    import evidence1d
+    case = evidence1d.load_case(Path(__file__).resolve().parents[2]
+                                / "case_studies" / "flagship" / "case.yaml")
+    problem = case.problem("spinon_continuum")
+    theta = problem.prior_transform(np.random.default_rng(0).uniform(size=(4, len(problem.names))))
+    full = problem.log_likelihood_terms(theta)
+    spectra = [pr for pr in problem.predictors if pr.dataset.name in ("map", "cut")]
+    assert len(spectra) == 2
+
+    def refuse(*args, **kwargs):
+        raise AssertionError("a spectrum was computed for a thermodynamic subset")
+
+    for pr in spectra:
+        monkeypatch.setattr(pr, "predict", refuse)
+    sub = SubsetLikelihood(problem, ("chi", "heat"))
+    np.testing.assert_allclose(sub(theta), full["chi"] + full["heat"], rtol=1e-12)
+    with pytest.raises(evidence1d.InputError, match="unknown likelihood term"):
+        problem.log_likelihood_terms(theta, ["nope"])
