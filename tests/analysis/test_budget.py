@@ -141,3 +141,16 @@ def test_a_subset_computes_only_its_own_terms(monkeypatch):
     np.testing.assert_allclose(sub(theta), full["chi"] + full["heat"], rtol=1e-12)
     with pytest.raises(evidence1d.InputError, match="unknown likelihood term"):
         problem.log_likelihood_terms(theta, ["nope"])
+
+
+def test_budget_and_reruns_take_the_importance_draws_of_a_first_look():
+    # their rows are read at the level of a nat: 6 draws per particle, never more than the
+    # run's own, the other island options unchanged
+    from evidence1d.analysis.stage import analysis_options
+    from evidence1d.inference.tempering import QUICK_IMPORTANCE_DRAWS_PER_PARTICLE as QUICK
+    opts = {"n_particles": 64, "target_cess": 0.5, "min_sweeps": 3}
+    got = analysis_options(opts)
+    assert got["importance_draws"] == QUICK * 64 and got["target_cess"] == 0.5
+    assert "importance_draws" not in opts                       # the run's options untouched
+    assert analysis_options({**opts, "importance_draws": 100})["importance_draws"] == 100
+    assert analysis_options({**opts, "importance_draws": 0})["importance_draws"] == 0
