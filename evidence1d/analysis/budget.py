@@ -176,7 +176,8 @@ def evidence_budget(labels, a: str, b: str, subsets: dict, full: dict,
         JSON-ready: ``families``, ``order``, ``ln_k``, ``ln_k_err``, ``sequential`` (per
         label: ``dataset``, ``ln_k``, ``ln_k_err``), ``leave_one_out`` (per label:
         ``dataset``, ``ln_k_without``, ``ln_k_without_err``, ``added_last``,
-        ``added_last_err``), ``method``, ``n_particles``, ``n_islands``, ``warnings``.
+        ``added_last_err``), ``method``, ``n_particles``, ``n_islands``, ``importance_draws``
+        (per island), ``warnings``.
 
     References
     ----------
@@ -217,4 +218,5 @@ def evidence_budget(labels, a: str, b: str, subsets: dict, full: dict,
             "ln_k_err": float(math.hypot(ta, tb)), "sequential": seq, "leave_one_out": loo,
             "method": method, "n_particles": int(settings.get("n_particles", 0)),
             "n_islands": int(settings.get("n_islands", 0)),
+            "importance_draws": int(settings.get("importance_draws", 0)),
             "warnings": list(dict.fromkeys(warnings))}

@@ -158,8 +158,10 @@ def budget_section(s) -> list:
     out = ["### Which datasets decide the verdict", "",
            f"Evidence budget of ln K = ln Z(`{a}`) − ln Z(`{bb}`) = {b['ln_k']:.2f} ± "
            f"{fmt(b['ln_k_err'])} nats: the verdict rests on {rests} (each added last, "
-           "given all the others). Method: " + b["method"] + f" ({b['n_particles']} particles, "
-           f"{b['n_islands']} islands per subset and family). Positive numbers favour "
+           "given all the others). Method: " + b["method"] + f" ({b['n_particles']} particles"
+           + (f" and {b['importance_draws']} final importance draws per island"
+              if b.get("importance_draws") else "")
+           + f", {b['n_islands']} islands per subset and family). Positive numbers favour "
            f"`{a}`.", ""]
     out += [f"- warning: {w}" for w in b["warnings"]] + ([""] if b["warnings"] else [])
     out += md_table(["dataset", "in sequence (given those above)", "added last",

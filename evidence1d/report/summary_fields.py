@@ -387,6 +387,8 @@ SUMMARY_FIELDS = (
     _F(f"{_C}.evidence_budget.n_particles", "integer", "", "particles per island"),
     _F(f"{_C}.evidence_budget.n_islands", "integer", "", "independent islands per subset "
        "and family"),
+    _F(f"{_C}.evidence_budget.importance_draws", "integer", "", "draws of each island's "
+       "final importance stage", required=False),
     _F(f"{_C}.evidence_budget.warnings", "array[string]", "", "warnings of the subset runs"),
     _F(f"{_C}.evidence_budget_note", "string", "", "why the budget was not computed",
        required=False),
