@@ -428,6 +428,28 @@ def _grouped(ix, s, lo, hi, group, cls):
     return ix, np.flatnonzero(first), np.cumsum(first) - 1
 
 
+def _clusters(lo, hi, s, wl, top, group, class_ratio):
+    """The live pairs (hi > lo) sorted into clusters (:func:`_grouped`): the sorted pairs,
+    each cluster's first pair, the cluster of each pair, each cluster's head pair and the
+    lower σ bound of its class; None when no window is live."""
+    ix = np.flatnonzero(hi > lo)
+    if ix.size == 0:
+        return None
+    if group is None:
+        group = column_groups(wl, top)
+    cls, sig_c = _classes(s, class_ratio)
+    ix, starts, gid = _grouped(ix, s, lo, hi, group, cls)
+    head = ix[starts]
+    return ix, starts, gid, head, sig_c[head]
+
+
+def _panel_range(lo, hi, origin, h, N, gid):
+    """The first and last lattice panel (origin + k h, k < N) each window [lo, hi] meets."""
+    a = np.clip(np.floor((lo - origin[gid]) / h[gid]), 0, N[gid] - 1).astype(np.int64)
+    b = np.clip(np.floor((hi - origin[gid]) / h[gid]), 0, N[gid] - 1).astype(np.int64)
+    return a, b
+
+
 def _gather_sum(values, nodes, first, count, E, s):
     """Σ over the rows first … first + count − 1 of ``nodes``/``values`` (the panels a window
     meets) of values × exp(−(E − ω)²/2σ²), per pair, in a fixed order."""
@@ -497,22 +519,16 @@ def signed_side_grid(E, s, wl, top, kT, group=None, n_sigma=4.5, n_nodes=GRID_NO
     out = np.zeros(E.size)
     lo = np.maximum(E - n_sigma * s, -top)
     hi = np.minimum(E + n_sigma * s, top)
-    ix = np.flatnonzero(hi > lo)
-    if ix.size == 0:
+    found = _clusters(lo, hi, s, wl, top, group, class_ratio)
+    if found is None:
         return out
-    if group is None:
-        group = column_groups(wl, top)
-    cls, sig_c = _classes(s, class_ratio)
-    ix, starts, gid = _grouped(ix, s, lo, hi, group, cls)
+    ix, starts, gid, head, sig_c = found
     E_i, s_i = E[ix], s[ix]
-    head = ix[starts]
     gtop, gwl, gkT = top[head], wl[head], kT[head]
-    N = np.maximum(np.ceil(2.0 * gtop / np.minimum(width_sigma * sig_c[head],
-                                                    width_kT * gkT)), 2.0)
+    N = np.maximum(np.ceil(2.0 * gtop / np.minimum(width_sigma * sig_c, width_kT * gkT)), 2.0)
     h = 2.0 * gtop / N
     N = N.astype(np.int64)
-    p0 = np.clip(np.floor((lo[ix] + gtop[gid]) / h[gid]), 0, N[gid] - 1).astype(np.int64)
-    p1 = np.clip(np.floor((hi[ix] + gtop[gid]) / h[gid]), 0, N[gid] - 1).astype(np.int64)
+    p0, p1 = _panel_range(lo[ix], hi[ix], -gtop, h, N, gid)
     pmin, _, pg, pk, off = _panels_needed(p0, p1, starts)
     xg, wg = gauss_legendre(n_nodes)
     xt, wt = _top_rule(n_nodes)
@@ -570,22 +586,17 @@ def t_side_grid(Es, s, wl, top, group=None, n_sigma=GRID_SIGMA_T, n_nodes=GRID_N
     clear = Es - n_sigma * s >= wl + _CLEAR * s
     lo = np.where(clear, Es - n_sigma * s, wl)
     hi = np.minimum(top, Es + n_sigma * s)
-    ix = np.flatnonzero(hi > lo)
-    if ix.size == 0:
+    found = _clusters(lo, hi, s, wl, top, group, class_ratio)
+    if found is None:
         return out
-    if group is None:
-        group = column_groups(wl, top)
-    cls, sig_c = _classes(s, class_ratio)
-    ix, starts, gid = _grouped(ix, s, lo, hi, group, cls)
+    ix, starts, gid, head, sig_c = found
     E_i, s_i = Es[ix], s[ix]
-    head = ix[starts]
     gwl, gtop = wl[head], top[head]
     vmax2 = (gtop - gwl) * (gtop + gwl)
-    N = np.maximum(np.ceil((gtop - gwl) / (width_sigma * sig_c[head])), 1.0)
+    N = np.maximum(np.ceil((gtop - gwl) / (width_sigma * sig_c)), 1.0)
     h = (gtop - gwl) / N
     N = N.astype(np.int64)
-    p0 = np.clip(np.floor((lo[ix] - gwl[gid]) / h[gid]), 0, N[gid] - 1).astype(np.int64)
-    p1 = np.clip(np.floor((hi[ix] - gwl[gid]) / h[gid]), 0, N[gid] - 1).astype(np.int64)
+    p0, p1 = _panel_range(lo[ix], hi[ix], gwl, h, N, gid)
     pmin, _, pg, pk, off = _panels_needed(p0, p1, starts)
     n_sub = _EDGE_FRACTIONS.size + 2                 # intervals of the first panel (k = 0)
     # intervals: the first panel's n_sub pieces where a cluster needs it, one per other panel
