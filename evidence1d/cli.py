@@ -70,7 +70,7 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("--seed", type=int, help="random seed (default: the case file's 'seed')")
     r.add_argument("--quick", action="store_true",
                    help="reduced settings for a fast first look (not for publication); "
-                        "a spectrum of more than 2000 points is fitted on a regular subset")
+                        "a spectrum of more than 1000 points is fitted on a regular subset")
     r.add_argument("--resume", action="store_true",
                    help="continue an interrupted run from its checkpoints")
     r.add_argument("--overwrite", action="store_true",

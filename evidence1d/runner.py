@@ -43,8 +43,12 @@ QUICK = {"steps": 300, "posterior_ess": int(THRESHOLDS["ess_min"]), "particles":
          "islands": 2, "importance_draws": QUICK_IMPORTANCE_DRAWS_PER_PARTICLE}
 #: ``--quick`` fits at most this many points of each spectrum: a dense map (10⁴–10⁵ points)
 #: is reduced to every k-th point in file order, so that a first look costs about what the
-#: flagship's does whatever the size of the data (the report says what was kept)
-QUICK_POINTS = 2000
+#: flagship's does whatever the size of the data (the report says what was kept).  The
+#: flagship fits 912 spectral points; measured on a 20 000-point map of the same scenario
+#: (``benchmarks/bench_large_map.py``, 2026-12-05): 140 s at 2000 points (the spinon
+#: family's 2 islands and 300-step chain are the critical path), against 56 s for the
+#: flagship's quick look
+QUICK_POINTS = 1000
 
 
 #: most posterior samples for which the marginalised nuisances are drawn (each draw needs

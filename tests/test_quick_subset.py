@@ -7,6 +7,7 @@ import shutil
 import numpy as np
 
 import evidence1d
+import pytest
 from casefactory import CASE_YAML, write_valid_case
 from evidence1d import runner
 from evidence1d.runner import quick_subset
@@ -78,3 +79,11 @@ def test_quick_run_says_what_it_fitted(tmp_path, monkeypatch):
         (tmp_path / "out" / "run.log").read_text()
     # the fitted points are those of the goodness-of-fit table
     assert res.models["spinon_continuum"].analysis["goodness_of_fit"]["map"]["n_points"] == 10
+
+
+def test_the_cli_help_states_the_quick_limit(capsys):
+    # the help text is written out (the CLI does not import the runner to print it)
+    from evidence1d import cli
+    with pytest.raises(SystemExit):
+        cli.main(["run", "--help"])
+    assert f"more than {runner.QUICK_POINTS} points" in " ".join(capsys.readouterr().out.split())
