@@ -94,25 +94,21 @@ def damped_spectrum(convolve, E, sigma, T, width):
     if kT <= 0.0 or not np.any(b > 0.0):
         return convolve(E, sigma, every)
     sig_e = np.sqrt(sigma ** 2 + (b * kT) ** 2)                      # (n_sets, n)
+    out = convolve(E, sig_e, every)                                  # P_e: the far points' value
     near_set = (E < FAR_BOSE * kT) | (E < FAR_GAUSS * sig_e)        # (n_sets, n)
     rows = np.flatnonzero(near_set.any(axis=0))
     if rows.size == 0:
-        return convolve(E, sig_e, every)                             # P_e everywhere
+        return out
     x = E[rows] / kT
     x = np.where(np.abs(x) < NEAR_ZERO, np.where(x < 0.0, -NEAR_ZERO, NEAR_ZERO), x)
     e = x * kT
     s_r, s_e = sigma[rows], sig_e[:, rows]
-    # one call for P_e at every point and the three further terms at the near ones,
-    # P_r(e), P_r(−e), P_e(−e) (one call's fixed cost instead of two)
-    m, n = rows.size, E.size
-    E4 = np.concatenate([np.broadcast_to(E, sig_e.shape),
-                         np.broadcast_to(np.concatenate([e, -e, -e]), (sig_e.shape[0], 3 * m))],
+    # one call for the three further terms: P_r(e), P_r(−e), P_e(−e)
+    m = rows.size
+    E3 = np.concatenate([e, -e, -e])
+    S3 = np.concatenate([np.broadcast_to(s_r, s_e.shape), np.broadcast_to(s_r, s_e.shape), s_e],
                         axis=1)
-    S4 = np.concatenate([sig_e, np.broadcast_to(s_r, s_e.shape),
-                         np.broadcast_to(s_r, s_e.shape), s_e], axis=1)
-    P = convolve(E4, S4, np.concatenate([every, rows, rows, rows]))
-    out = P[:, :n].copy()                                             # P_e: the far points' value
-    P = P[:, n:]
+    P = convolve(np.broadcast_to(E3, S3.shape), S3, np.concatenate([rows, rows, rows]))
     pr_p, pr_m, pe_m = P[:, :m], P[:, m:2 * m], P[:, 2 * m:]
     pe_p = out[:, rows]
     moved = e != E[rows]
