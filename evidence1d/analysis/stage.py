@@ -12,8 +12,8 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["BUDGET_KEY", "BUDGET_ISLANDS", "analysis_options", "SENSITIVITY_KEY", "budget_labels", "run_budget",
-           "run_sensitivity", "sensitivity_reruns"]
+__all__ = ["BUDGET_KEY", "BUDGET_ISLANDS", "analysis_options", "SENSITIVITY_KEY",
+           "budget_labels", "run_budget", "run_sensitivity", "sensitivity_reruns"]
 
 #: spawn key of the evidence budget's random stream: a child of the run seed that no
 #: family uses (``evidence1d.runner._model_seeds`` spawns children 0 … n − 1)

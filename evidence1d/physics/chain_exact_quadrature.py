@@ -317,8 +317,9 @@ def signed_side(E, s, wl, top, kT, n_nodes=7, n_panels=2, n_sigma=4.5):
     ``n_panels`` panels of the window E ± ``n_sigma`` σ, and a panel ending at ω_U (starting
     at −ω_U) in u, ω_U ∓ ω ∝ u² (:func:`_top_rule`, ``n_nodes`` + 2 nodes).  With the
     defaults (Gaussian weight outside the window 7e-6) the error measured against adaptive
-    quadrature is < 3e-5 of the peak for σ ≤ 1.25 k_BT; wider windows (up to 3.2 k_BT)
-    take 3 to 5 panels (:mod:`evidence1d.physics.chain_spectrum`).
+    quadrature is < 3e-5 of the peak for σ ≤ 1.25 k_BT; the fast path gives wider windows
+    (up to 3.2 k_BT) the shared lattice of :func:`signed_side_grid`, the reference path of
+    :mod:`evidence1d.physics.chain_spectrum` this rule with more panels.
 
     Parameters
     ----------

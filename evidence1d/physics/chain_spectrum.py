@@ -59,10 +59,12 @@ __all__ = ["spinon_spectrum", "spinon_density", "LINE_SHAPES"]
 LINE_SHAPES = ("exact", "muller")
 
 _HERMITE_MAX = HERMITE_TIERS[-1][1]  # σ/k_BT up to which the thermal path is Gauss–Hermite
-#: exact profile at T > 0: (panels of the signed-axis rule, σ/k_BT up to which it is used);
-#: beyond 1.25 k_BT every window takes it (more panels as the window spans more of the
-#: thermal edge), not only those near ±ω_U
-_SIGNED_PANELS = ((2, _HERMITE_MAX), (3, 1.8), (4, 2.4), (5, 3.2))
+#: exact profile at T > 0, signed axis: panels of the per-window rule for σ ≤ 1.25 k_BT
+#: (windows near ±ω_U), and the σ/k_BT up to which wider windows take the shared lattice of
+#: :func:`~evidence1d.physics.chain_exact_quadrature.signed_side_grid` (every window, not
+#: only those near ±ω_U; the widths of a thermally damped spectrum)
+_SIGNED_NARROW_PANELS = 2
+_SIGNED_REACH = 3.2
 
 
 def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth, group=None):
@@ -96,7 +98,7 @@ def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth, group=Non
     # profile vanishes as a square root; all such pairs on the reference path)
     kTa = np.full(Ef.size, float(kT))
     six = N_SIGMA * sf
-    reach = _SIGNED_PANELS[-1][1] if smooth else _HERMITE_MAX
+    reach = _SIGNED_REACH if smooth else _HERMITE_MAX
     narrow = ((A > 0) & (sf <= reach * kT) & (Ef - six < top) & (Ef + six > -top)
               & ((Ef + six > wl - 40.0 * kT) | (Ef - six < 40.0 * kT - wl)))
     if smooth:
@@ -109,7 +111,7 @@ def _convolve_exact(Ef, sf, wl, top, A, kT, n_nodes, n_panels, smooth, group=Non
         ix = np.flatnonzero(narrow & (sf <= _HERMITE_MAX * kT))
         if ix.size:
             out[ix] = A[ix] * cxq.signed_side(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
-                                              n_panels=_SIGNED_PANELS[0][0])
+                                              n_panels=_SIGNED_NARROW_PANELS)
         ix = np.flatnonzero(narrow & (sf > _HERMITE_MAX * kT))
         if ix.size:
             out[ix] = A[ix] * cxq.signed_side_grid(Ef[ix], sf[ix], wl[ix], top[ix], kTa[ix],
