@@ -219,7 +219,7 @@ def _run_model(problem, sample, settings, streams, ev, store, progress, position
     from .analysis.metal import metal_context
     from .analysis.parameters import draw_indices, parameter_table
     from .inference.laplace import laplace_evidence
-    from .inference.posterior import population_moves, sample_posterior
+    from .inference.posterior import population_moves, population_start, sample_posterior
 
     t0 = time.perf_counter()
     name = problem.model
@@ -231,7 +231,7 @@ def _run_model(problem, sample, settings, streams, ev, store, progress, position
     walkers += walkers % 2
     rng_post = np.random.default_rng(post_seed)
     pool = ev.posterior_samples
-    start = pool[rng_post.choice(len(pool), size=walkers, replace=len(pool) < walkers)]
+    start = population_start(pool, walkers, rng_post)
     ckpt = None if store is None else store.checkpoint(name)
     resume = bool(store is not None and store.resume)
     moves = population_moves(pool)

@@ -62,7 +62,7 @@ from .target import LogTarget
 __all__ = ["PosteriorResult", "sample_posterior", "converged_enough", "BURN_IN_FACTOR",
            "THIN_FACTOR", "STOP_CHECK_EVERY", "STOP_MIN_STEPS",
            "default_moves", "population_moves", "PopulationProposal", "POPULATION_WEIGHT",
-           "LogTarget"]
+           "LogTarget", "population_start"]
 
 #: Burn-in = BURN_IN_FACTOR × max τ (common practice).
 BURN_IN_FACTOR = 5.0
@@ -242,6 +242,44 @@ def _initial_walkers(target, prior, rng, n_walkers, optimise):
                      "give starting points with initial=")
 
 
+def population_start(population, n_walkers, rng):
+    """Distinct starting walkers drawn from a population of posterior draws.
+
+    A resampled population repeats points, and two walkers at the same point break the
+    snooker move of differential evolution (its direction x − z is 0/0; ter Braak & Vrugt
+    2008), so every walker starts at a distinct point.  Distinct rows are drawn without
+    replacement; when there are fewer than ``n_walkers`` of them, the others are copies
+    moved a random 10⁻⁴–10⁻³ of the way towards another distinct row (inside the convex
+    hull of the population, so inside a box-shaped prior support).
+
+    Parameters
+    ----------
+    population : ndarray, shape (n, m)
+        Posterior draws in parameter units (e.g. the final tempered population).
+    n_walkers : int
+    rng : numpy.random.Generator
+
+    Returns
+    -------
+    ndarray, shape (n_walkers, m)
+        Pairwise distinct starting points (parameter units), unless the population holds a
+        single distinct point.
+    """
+    pop = np.atleast_2d(np.asarray(population, dtype=float))
+    distinct = np.unique(pop, axis=0)
+    d = distinct.shape[0]
+    if d >= n_walkers:
+        return distinct[rng.choice(d, size=n_walkers, replace=False)]
+    if d == 1:
+        return np.repeat(distinct, n_walkers, axis=0)
+    n_more = n_walkers - d
+    src = rng.integers(0, d, size=n_more)
+    other = (src + rng.integers(1, d, size=n_more)) % d          # a different distinct row
+    step = rng.uniform(1e-4, 1e-3, size=(n_more, 1))
+    moved = distinct[src] + step * (distinct[other] - distinct[src])
+    return np.concatenate([distinct[rng.permutation(d)], moved])
+
+
 def _write_block(backend, coords, log_prob, accepted_delta, random_state):
     """Append steps to an emcee HDFBackend file in its own layout (chain, log_prob, accepted)."""
     n = coords.shape[0]
@@ -395,6 +433,10 @@ def sample_posterior(log_prob, prior, *, rng, n_walkers=None, n_steps, initial=N
             if coords.shape != (n_walkers, m):
                 raise InputError(f"initial walkers must have shape ({n_walkers}, {m}); "
                                  f"got {coords.shape}")
+            repeats = n_walkers - np.unique(coords, axis=0).shape[0]
+            if repeats:
+                raise InputError(f"{repeats} initial walkers repeat another one; walkers must "
+                                 "start at distinct points (population_start draws them)")
         lp0 = target(coords)
         if not np.all(np.isfinite(lp0)):
             raise InputError(f"{int(np.sum(~np.isfinite(lp0)))} starting walkers lie outside "

@@ -65,9 +65,9 @@ def test_same_seed_same_chain_and_bad_initial(seed):
     b = sample_posterior(loglike, prior, rng=np.random.default_rng(seed), n_steps=50,
                          progress=False)
     np.testing.assert_array_equal(a.chain, b.chain)
-    with pytest.raises(InputError):
+    with pytest.raises(InputError, match="outside"):
         sample_posterior(loglike, prior, rng=np.random.default_rng(seed), n_steps=50,
-                         initial=np.full((32, 2), 50.0), progress=False)
+                         initial=50.0 + 1e-3 * np.arange(64.0).reshape(32, 2), progress=False)
 
 
 # ---------------------------------------------------------------- population proposals
@@ -203,3 +203,29 @@ def test_an_early_stop_resumes_to_the_same_chain(tmp_path, seed):
     again = sample_posterior(loglike, prior, rng=np.random.default_rng(seed + 2),
                              n_steps=3000, ess=1500, checkpoint=cut, resume=True, **kw)
     assert again.n_steps == full.n_steps and again.n_evaluations == 0
+
+
+def test_walkers_start_distinct_from_a_resampled_population(rng):
+    # A resampled population repeats points; walkers started on repeated points made the
+    # snooker move propose NaN (direction 0/0; ter Braak & Vrugt, Stat. Comput. 18, 435
+    # (2008)) and emcee stopped with "At least one parameter value was NaN".
+    from evidence1d.inference.posterior import population_start
+    loglike, prior, _, mean, cov = linear_gaussian(rng, 3, "normal", 5.0, 0.7)
+    draws = rng.multivariate_normal(mean, cov, size=8)
+    pool = draws[rng.integers(0, 8, size=128)]            # 128 rows, at most 8 distinct
+    start = population_start(pool, 32, rng)
+    assert start.shape == (32, 3)
+    assert np.unique(start, axis=0).shape[0] == 32
+    lo, hi = draws.min(0), draws.max(0)                   # inside the population's hull box
+    assert np.all((start >= lo) & (start <= hi))
+    import emcee
+    res = sample_posterior(loglike, prior, rng=rng, n_walkers=32, n_steps=200,
+                           initial=start, progress=False,
+                           moves=[(emcee.moves.DESnookerMove(), 1.0)])
+    assert np.all(np.isfinite(res.chain))
+    with pytest.raises(InputError, match="repeat another"):
+        sample_posterior(loglike, prior, rng=rng, n_walkers=32, n_steps=10,
+                         initial=pool[:32], progress=False)
+    # more distinct rows than walkers: a subset of them, no repeats
+    wide = population_start(rng.normal(size=(100, 3)), 32, rng)
+    assert np.unique(wide, axis=0).shape[0] == 32
