@@ -453,10 +453,13 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
         ``spectrum_grid(q, q_a, q_b, E, sigma)`` computed once for these points (a cache).
     thermal_damping : array_like, shape (n_sets, 1) or scalar, optional
         The spinon family's thermal damping b ≥ 0 (dimensionless;
-        :mod:`evidence1d.physics.thermal_damping`), applied to the chain's part G_σ ∗ S_1D
-        of the split above (so that J_⊥ = 0 is the spinon family at the same b); the
-        interchain corrections (the bracket on the grid, the edge step, the poles and the
-        modes below T_N) are computed from the undamped chain.
+        :mod:`evidence1d.physics.thermal_damping`).  Above T_N the dressed response is
+        computed from the undamped chain and the damping's change of the chain's own
+        spectrum, G_σ ∗ S_b − G_σ ∗ S_0, is added undressed (so J_⊥ = 0 is the spinon
+        family at the same b, and the result does not depend on the grid step through
+        F_e); below T_N it acts on the chain's part F_e G_σ ∗ S_1D (F_e is 0 or 1 there).
+        The interchain corrections (the dressing, the edge step, the poles and the modes
+        below T_N) are those of the undamped chain.
 
     Returns
     -------
@@ -476,6 +479,14 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
     rows, grid_ = grid if grid is not None else spectrum_grid(q, q_a, q_b, E, sigma)
     chain = spinon_spectrum(q, E, sigma, T, J, delta, line_shape=line_shape,
                             thermal_edge=thermal_edge, thermal_damping=thermal_damping)
+    # the random-phase split multiplies the chain's convolved spectrum by F_e, a value of
+    # the dressing one grid step above the edge, and takes F_e S_1D off the grid function:
+    # the two cancel only if both are the same (undamped) chain, so the dressed response is
+    # built on the undamped chain and the damping's change G∗S_b − G∗S_0 is added undressed
+    # (a grid-independent result; J_⊥ = 0 is still the spinon family at the same b)
+    damped = T > 0 and np.any(np.asarray(thermal_damping, float) > 0)
+    bare = (spinon_spectrum(q, E, sigma, T, J, delta, line_shape=line_shape,
+                            thermal_edge=thermal_edge) if damped else chain)
     TN = neel_temperature(J, Jp, delta, z_perp=z_perp, line_shape=line_shape,
                           thermal_edge=thermal_edge)
     below = (TN > T)[:, 0] & (Jp > 0)[:, 0]
@@ -485,8 +496,10 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
             continue
         sub = (J[mask], Jp[mask], delta[mask])
         if fn is _paramagnetic:
-            out[mask] = fn(rows, grid_, chain[mask], T, *sub, z_perp, line_shape,
+            out[mask] = fn(rows, grid_, bare[mask], T, *sub, z_perp, line_shape,
                            thermal_edge)
+            if damped:
+                out[mask] += chain[mask] - bare[mask]
         else:
             out[mask] = fn(rows, grid_, chain[mask], (q, q_a, q_b, E, sigma), T, *sub,
                            z_perp, line_shape, thermal_edge)
