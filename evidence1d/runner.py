@@ -454,6 +454,9 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
     if quick:
         case, subset = quick_subset(case)
     names = list(case.models) if not models else list(models)
+    if len(set(names)) < 2:
+        raise InputError(f"a run compares models and needs at least two; got {names}: "
+                         "add a model to the case or to --models")
     for n in names:
         case.problem(n)
     settings = effective_settings(case, quick)

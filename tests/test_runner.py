@@ -222,3 +222,19 @@ def test_quick_caps_every_setting_and_asks_the_diagnostics_own_ess(tmp_path):
         assert quick[key] == min(full[key], cap)
     off = effective_settings(case.replace(sampler={"posterior_ess": 0}), quick=True)
     assert off["posterior_ess"] == 0
+
+
+def test_a_single_model_is_refused_before_any_work(tmp_path, monkeypatch):
+    # a run compares families: with one model it used to compute the family's evidence and
+    # posterior and only then fail in the comparison ("needs at least two models")
+    import evidence1d
+    from evidence1d import runner
+    from evidence1d.errors import InputError
+    case = evidence1d.load_case(write_valid_case(tmp_path / "case", TEXT))
+
+    def refuse(*args, **kwargs):
+        raise AssertionError("work started")
+
+    monkeypatch.setattr(runner, "effective_settings", refuse)
+    with pytest.raises(InputError, match="at least two"):
+        evidence1d.run(case, models=["spinon_continuum"], progress=False, figures=False)
