@@ -144,3 +144,21 @@ def test_a_poorly_covered_posterior_is_swept_again_before_the_tempered_estimate_
         # the round's sweeps count among the importance stage's evaluations
         assert isl.importance["n_evaluations"] > isl.importance["n_draws"]
     assert abs(res.log_z - truth) < max(3 * res.log_z_err, 0.1), (res.log_z, truth)
+
+
+def test_folding_at_the_bound_raises_the_effective_sample_size_and_stays_unbiased():
+    # The proposal's part beyond x = 0 is reflected back inside (module notes): no draw is
+    # wasted on w = 0 and the density doubles at the bound where the posterior peaks.  The
+    # analytic evidence of the boundary problem must hold with and without the fold; the
+    # fold must give the larger ESS (measured 397 against 273 of 600 draws).
+    loglike, prior, truth = _boundary_problem()
+    space = _WorkSpace(prior)
+    ess = {True: [], False: []}
+    for seed in range(4):
+        pop = space.to_work(_posterior(np.random.default_rng(seed), 100))
+        for fold in (True, False):
+            r = importance_evidence(loglike, prior, space, pop, np.random.default_rng(100 + seed),
+                                    600, reflect=fold)
+            assert abs(r["log_z"] - truth) < 4 * r["log_z_err"] + 0.01, (fold, r, truth)
+            ess[fold].append(r["ess"])
+    assert np.mean(ess[True]) > 1.25 * np.mean(ess[False]), ess
