@@ -211,12 +211,10 @@ def run_to_folder(case, *, out=None, seed: int | None = None, quick: bool = Fals
         The output folder exists (without ``overwrite`` or ``resume``), or an unknown model.
     """
     from .report import write_report
-    from .runner import effective_settings, run
+    from .runner import effective_settings, model_names, run
 
     out = Path(out) if out is not None else case.output
-    names = list(case.models) if not models else list(models)
-    for n in names:
-        case.problem(n)                      # an unknown model fails before the folder
+    names = model_names(case, models)        # bad models fail before the folder is touched
     replaced = prepare_folder(out, overwrite=overwrite, resume=resume)
     seed_used = case.seed if seed is None else int(seed)
     atomic_write(out / "settings.json",

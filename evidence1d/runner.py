@@ -30,7 +30,7 @@ from .inference.tempering import QUICK_IMPORTANCE_DRAWS_PER_PARTICLE
 from .parallel import run_in_pool, worker_count
 from .results import ModelResult, RunResults
 
-__all__ = ["ModelResult", "RunResults", "run", "effective_settings", "QUICK", "QUICK_POINTS",
+__all__ = ["ModelResult", "RunResults", "run", "model_names", "effective_settings", "QUICK", "QUICK_POINTS",
            "quick_subset"]
 
 #: reductions applied by ``--quick`` (a first look, not for publication).  A chain runs at
@@ -378,6 +378,33 @@ def _nested_checks(case, results) -> dict:
     return out
 
 
+def model_names(case, models=None) -> list:
+    """The models a run compares: ``models`` or all of the case's, checked before any work.
+
+    Parameters
+    ----------
+    case : Case
+    models : sequence of str, optional
+        A subset of the case's models (default: all).
+
+    Returns
+    -------
+    list of str
+
+    Raises
+    ------
+    InputError
+        Fewer than two distinct models, or a model the case does not have.
+    """
+    names = list(case.models) if not models else list(models)
+    if len(set(names)) < 2:
+        raise InputError(f"a run compares models and needs at least two; got {names}: "
+                         "add a model to the case or to --models")
+    for n in names:
+        case.problem(n)
+    return names
+
+
 def run(case, *, seed: int | None = None, quick: bool = False, models=None,
         progress: bool = True, workers: int | None = None, budget: bool | None = None,
         prior_reruns: bool | None = None, figures: bool = True, store=None,
@@ -453,12 +480,7 @@ def run(case, *, seed: int | None = None, quick: bool = False, models=None,
     subset = {}
     if quick:
         case, subset = quick_subset(case)
-    names = list(case.models) if not models else list(models)
-    if len(set(names)) < 2:
-        raise InputError(f"a run compares models and needs at least two; got {names}: "
-                         "add a model to the case or to --models")
-    for n in names:
-        case.problem(n)
+    names = model_names(case, models)
     settings = effective_settings(case, quick)
     fig_settings = figure_settings(case.figures, [ds.name for ds in case.datasets],
                                    names) if figures else None

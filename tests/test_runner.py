@@ -238,3 +238,11 @@ def test_a_single_model_is_refused_before_any_work(tmp_path, monkeypatch):
     monkeypatch.setattr(runner, "effective_settings", refuse)
     with pytest.raises(InputError, match="at least two"):
         evidence1d.run(case, models=["spinon_continuum"], progress=False, figures=False)
+    # from the command line with --overwrite: refused before the old results are replaced
+    old = tmp_path / "old"
+    old.mkdir()
+    (old / "summary.json").write_text("{}")
+    from evidence1d.cli import main
+    code = main(["run", str(case.path), "--models", "spinon_continuum", "--overwrite",
+                 "--out", str(old)])
+    assert code == 2 and (old / "summary.json").read_text() == "{}"
