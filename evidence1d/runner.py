@@ -30,8 +30,8 @@ from .inference.tempering import QUICK_IMPORTANCE_DRAWS_PER_PARTICLE
 from .parallel import run_in_pool, worker_count
 from .results import ModelResult, RunResults
 
-__all__ = ["ModelResult", "RunResults", "run", "model_names", "effective_settings", "QUICK", "QUICK_POINTS",
-           "quick_subset"]
+__all__ = ["ModelResult", "RunResults", "run", "model_names", "effective_settings", "QUICK",
+           "QUICK_POINTS", "quick_subset"]
 
 #: reductions applied by ``--quick`` (a first look, not for publication).  A chain runs at
 #: most 300 steps and stops earlier, like any chain, at the first check where every
