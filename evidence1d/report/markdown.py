@@ -328,7 +328,7 @@ def _methods(s, ctx) -> tuple:
                           + cite(*_MOVE_REFS.get(mv, [])) for mv, share in mix)
         pop = (f" (the {sm['population_size']} equally weighted particles that end the "
                "evidence run, which also gave the starting walkers; Gaussian kernels with "
-               "the covariance of each point's nearest neighbours)"
+               "the covariance of each point's nearest distinct neighbours)"
                if any(mv == "population" for mv, _ in mix) else "")
         parts.append(f"The posterior of {_families(fams)} was sampled with the ensemble "
                      f"sampler emcee {cite('emcee')}, {sm['n_walkers']} walkers and "
@@ -375,7 +375,9 @@ def _methods(s, ctx) -> tuple:
                              f"mixture fitted to its final population {cite('defensive')} "
                              "(half a Student t with ν = 5 and the population's covariance "
                              "widened 1.5 times in every direction, half Gaussian kernels "
-                             "on the particles, 10 % of the prior) and quotes that importance estimate of its evidence when "
+                             "on the particles, 10 % of the prior; folded back inside at a "
+                             "prior bound the population lies against) and quotes that "
+                             "importance estimate of its evidence when "
                              "the weights' effective sample size reaches 5 % of the draws "
                              "(below that, up to twice, after further sweeps of its moves at "
                              "β = 1 and a proposal fitted again), "
