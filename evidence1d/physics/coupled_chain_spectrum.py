@@ -457,9 +457,11 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
         computed from the undamped chain and the damping's change of the chain's own
         spectrum, G_σ ∗ S_b − G_σ ∗ S_0, is added undressed (so J_⊥ = 0 is the spinon
         family at the same b, and the result does not depend on the grid step through
-        F_e); below T_N it acts on the chain's part F_e G_σ ∗ S_1D (F_e is 0 or 1 there).
-        The interchain corrections (the dressing, the edge step, the poles and the modes
-        below T_N) are those of the undamped chain.
+        F_e).  Below T_N it does not act: the ordered phase's continuum above the
+        two-soliton threshold and its modes are those of the undamped chain (a damped
+        chain cut with the undamped one's threshold left negative leakage below it).
+        The interchain corrections (the dressing, the edge step, the poles) are those of
+        the undamped chain.
 
     Returns
     -------
@@ -501,6 +503,10 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
             if damped:
                 out[mask] += chain[mask] - bare[mask]
         else:
-            out[mask] = fn(rows, grid_, chain[mask], (q, q_a, q_b, E, sigma), T, *sub,
+            # the ordered phase cuts the chain's continuum at the two-soliton threshold with
+            # the undamped chain (F = Θ(|ω| − ω_c)); a damped chain there would leave its
+            # thermal leakage below the threshold, negative where the undamped weight is
+            # taken off, so the thermal damping acts above T_N only
+            out[mask] = fn(rows, grid_, bare[mask], (q, q_a, q_b, E, sigma), T, *sub,
                            z_perp, line_shape, thermal_edge)
     return out
