@@ -453,11 +453,13 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
         ``spectrum_grid(q, q_a, q_b, E, sigma)`` computed once for these points (a cache).
     thermal_damping : array_like, shape (n_sets, 1) or scalar, optional
         The spinon family's thermal damping b ≥ 0 (dimensionless;
-        :mod:`evidence1d.physics.thermal_damping`).  Above T_N the dressed response is
-        computed from the undamped chain and the damping's change of the chain's own
-        spectrum, G_σ ∗ S_b − G_σ ∗ S_0, is added undressed (so J_⊥ = 0 is the spinon
-        family at the same b, and the result does not depend on the grid step through
-        F_e).  Below T_N it does not act: the ordered phase's continuum above the
+        :mod:`evidence1d.physics.thermal_damping`).  Above T_N the dressed response P is
+        computed from the undamped chain U = G_σ ∗ S_0 and the damping's change of the
+        chain's own spectrum, G_σ ∗ S_b − U, is added times r = min(P/U, 1) at each point:
+        dressed by the local suppression where the dressing suppresses (the result is
+        r G_σ ∗ S_b ≥ 0), undressed where it enhances or adds a pole.  J_⊥ = 0 is the
+        spinon family at the same b, the result is non-negative and does not depend on
+        the grid step through F_e.  Below T_N it does not act: the ordered phase's continuum above the
         two-soliton threshold and its modes are those of the undamped chain (a damped
         chain cut with the undamped one's threshold left negative leakage below it).
         The interchain corrections (the dressing, the edge step, the poles) are those of
@@ -484,7 +486,7 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
     # the random-phase split multiplies the chain's convolved spectrum by F_e, a value of
     # the dressing one grid step above the edge, and takes F_e S_1D off the grid function:
     # the two cancel only if both are the same (undamped) chain, so the dressed response is
-    # built on the undamped chain and the damping's change G∗S_b − G∗S_0 is added undressed
+    # built on the undamped chain and the damping's change G∗S_b − G∗S_0 is added to it
     # (a grid-independent result; J_⊥ = 0 is still the spinon family at the same b)
     damped = T > 0 and np.any(np.asarray(thermal_damping, float) > 0)
     bare = (spinon_spectrum(q, E, sigma, T, J, delta, line_shape=line_shape,
@@ -501,7 +503,14 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
             out[mask] = fn(rows, grid_, bare[mask], T, *sub, z_perp, line_shape,
                            thermal_edge)
             if damped:
-                out[mask] += chain[mask] - bare[mask]
+                # the damping's change G∗S_b − G∗S_0, dressed by the local ratio of the
+                # dressed to the bare response capped at 1: where the dressing suppresses
+                # (ratio r < 1) the result is r G∗S_b ≥ 0, where it enhances or adds a pole
+                # the change is added undressed (≥ G∗S_b ≥ 0); J_⊥ = 0 gives G∗S_b
+                P, U = out[mask], bare[mask]
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    r = np.where(U > 0, np.clip(P / U, 0.0, 1.0), 1.0)
+                out[mask] = P + r * (chain[mask] - U)
         else:
             # the ordered phase cuts the chain's continuum at the two-soliton threshold with
             # the undamped chain (F = Θ(|ω| − ω_c)); a damped chain there would leave its
