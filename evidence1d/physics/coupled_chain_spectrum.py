@@ -459,9 +459,10 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
         dressed by the local suppression where the dressing suppresses (the result is
         r G_σ ∗ S_b ≥ 0), undressed where it enhances or adds a pole.  J_⊥ = 0 is the
         spinon family at the same b, the result is non-negative and does not depend on
-        the grid step through F_e.  Below T_N it does not act: the ordered phase's continuum above the
-        two-soliton threshold and its modes are those of the undamped chain (a damped
-        chain cut with the undamped one's threshold left negative leakage below it).
+        the grid step through F_e.  Below T_N it does not act: the ordered phase's
+        continuum above the two-soliton threshold and its modes are those of the undamped
+        chain (a damped chain cut with the undamped one's threshold left negative leakage
+        below it).
         The interchain corrections (the dressing, the edge step, the poles) are those of
         the undamped chain.
 
