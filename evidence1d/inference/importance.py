@@ -80,12 +80,10 @@ def _kernel_mixture(z_pop, chol, h):
 
 def _working_bounds(prior, space):
     """Lower and upper bounds of each free parameter in working coordinates, (m,) each."""
-    lo = np.array([p.support[0] for p in prior.free_priors], float)
-    hi = np.array([p.support[1] for p in prior.free_priors], float)
+    bounds = np.array([[p.support[k] for p in prior.free_priors] for k in (0, 1)], float)
     with np.errstate(divide="ignore", invalid="ignore"):
-        lo_w = np.where(space.logged, np.log(np.where(lo > 0, lo, np.nan)), lo)
-        hi_w = np.where(space.logged, np.log(hi), hi)
-    return np.where(np.isnan(lo_w), -np.inf, lo_w), hi_w
+        lo_w, hi_w = space.to_work(bounds)          # the working map of the bounds
+    return np.where(np.isnan(lo_w), -np.inf, lo_w), np.where(np.isnan(hi_w), np.inf, hi_w)
 
 
 def _reflections(z_pop, width, lo, hi):
