@@ -78,6 +78,7 @@ from ..units import K_B_MEV
 from . import chain_exact
 from .chain import all_sheets
 from .chain_spectrum import _EDGE_WINDOW, _cold_density, spinon_spectrum
+from .chain_thermal import _density as _thermal_density
 from .chain_thermal import thermal_density
 from .coupled_chain import _check, _chi2, _couplings, _Sheets, rpa_poles
 from .coupled_chain_ordered import ordered_modes, ordered_state, two_soliton_threshold
@@ -158,7 +159,8 @@ def _density(sheets, si, ci, a, kT, ls, te):
     """The chain's S_1D at loss-side energies a ≥ 0 (meV) of (set, row) pairs (flat arrays),
     1/meV: :func:`evidence1d.physics.chain_spectrum.spinon_density` term by term (the same
     numbers), with the sheets of each set and row computed once and each sheet evaluated
-    only where present."""
+    only where present; for the exact line shape at T > 0 the T = 0 and the thermal
+    profile ratios share their reduced energies (:func:`_exact_parts`)."""
     out = np.zeros(a.shape)
     for lo, hi, amp in sheets:
         A = amp[si, ci]
@@ -167,11 +169,13 @@ def _density(sheets, si, ci, a, kT, ls, te):
             continue
         sk, ck, x = si[k], ci[k], a[k]
         lo_, hi_ = lo[sk, ck], hi[sk, ck]
-        cold = _cold_density(x, lo_, hi_, ls)
+        if kT > 0 and ls == "exact":
+            cold, dens = _exact_parts(x, lo_, hi_, kT)
+        else:
+            cold = _cold_density(x, lo_, hi_, ls)
         if kT > 0:
-            dens = thermal_density(x, lo_, kT)
-            if ls == "exact":
-                dens = dens * chain_exact.profile_ratio(x, lo_, hi_, kT)
+            if ls != "exact":
+                dens = thermal_density(x, lo_, kT)
             dens = np.where(x <= hi_, dens, 0.0)
             w = 1.0 / (1.0 + (lo_ / (_EDGE_WINDOW * kT)) ** 2) if te == "near_pi" else 1.0
             dens = w * dens + (1.0 - w) * cold
@@ -179,6 +183,26 @@ def _density(sheets, si, ci, a, kT, ls, te):
             dens = np.where(x > 0, cold, 0.0)
         out[k] += A[k] * dens
     return out
+
+
+def _exact_parts(x, lo, hi, kT):
+    """The exact line shape's T = 0 density and thermal density per unit amplitude at
+    energies x ≥ 0 (meV) between floored edges lo > 0 and hi, 1/meV:
+    :func:`~evidence1d.physics.chain_exact.exact_profile` and
+    :func:`~evidence1d.physics.chain_thermal.thermal_density` times
+    :func:`~evidence1d.physics.chain_exact.profile_ratio` (the same numbers), with the
+    reduced energies y² and 1 − y² computed once for both."""
+    vmax2 = (hi - lo) * (hi + lo)
+    safe = np.where(vmax2 > 0, vmax2, 1.0)
+    v2 = (x - lo) * (x + lo)
+    y2 = v2 / safe
+    omy2 = (hi - x) * (hi + x) / safe
+    live = vmax2 > 0
+    r0 = np.where(live, chain_exact._ratio_xy(y2, omy2), 0.0)
+    rt = np.where(live, chain_exact._ratio_xy(y2, omy2, chain_exact._yc2(lo, safe, kT)), 0.0)
+    inside = (x > lo) & (x < hi)
+    cold = np.where(inside, r0 / np.sqrt(np.where(inside, v2, 1.0)), 0.0)
+    return cold, _thermal_density(x, lo, kT) * rt
 
 
 def _real(sh, a, si, ci):
