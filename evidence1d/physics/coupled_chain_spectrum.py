@@ -20,6 +20,13 @@ the Gaussian resolution G_σ is split as
   on a scale ∝ J_⊥²) is left out of the grid and its weight ∫ S_1D (F − F_e) dω, computed
   by Gauss–Legendre quadrature in t = √(ω − ω_L) on panels graded towards the edge, is
   placed at ±ω_L ("edge"; F_e → 1 and that weight → 0 as J_⊥ → 0);
+* at T > 0 the chain's thermal weight reaches below ω_L, where χ'_1D grows towards the edge
+  (as 1/(ω_L − ω) below a band narrower than h₀, at small q): the bracket times a taper
+  φ over [ω_L − U, ω_L] (U = :data:`_BELOW` h₀; φ = 1 on the third next to the edge, then a
+  quintic smoothstep to 0) is integrated exactly in t = √(ω_L − ω) and placed at its
+  centroid, and the grid takes the bracket times 1 − φ, which vanishes smoothly towards the
+  edge: no boundary of the split moves past the nodes as the edge moves (a hard cut made
+  the spectrum, and the likelihood by tenths of a nat, jump with J and Δ);
 * G_σ ∗ S_1D, the spinon family's exact convolution
   (:func:`evidence1d.physics.chain_spectrum.spinon_spectrum`, edges handled exactly), so
   that J_⊥ = 0 gives the spinon family's spectrum to rounding;
@@ -243,20 +250,63 @@ def _edge_nodes(upper):
     return upper[..., None] * x, upper[..., None] * wx
 
 
-def _edge_integral(edge, upper, live, integrand):
-    """∫ S_1D(ω) w(ω) dω over [ω_L, ω_L + upper²] per set and row where ``live`` (else 0),
-    in t = √(ω − ω_L): S_1D dω = 2t S_1D dt is finite at the inverse-square-root edge, and
-    the graded panels resolve a dressing that varies on any scale down to 10⁻⁸ of the step.
-    ``integrand`` gives S_1D w at flat energies (meV) of flat (set, row) pairs."""
+def _edge_integral(edge, upper, live, integrand, side=1.0):
+    """∫ S_1D(ω) w(ω) dω over [ω_L, ω_L + upper²] (``side`` = −1: over [ω_L − upper², ω_L])
+    per set and row where ``live`` (else 0), in t = √|ω − ω_L|: S_1D dω = 2t S_1D dt is
+    finite at the inverse-square-root edge, and the graded panels resolve a dressing that
+    varies on any scale down to 10⁻⁸ of the step.  ``integrand`` gives S_1D w at flat
+    energies (meV) of flat (set, row) pairs."""
     out = np.zeros(edge.shape)
     si, ci = np.nonzero(live)
     if si.size:
         t, wt = _edge_nodes(upper[si, ci])                  # (k, K)
         K = t.shape[-1]
-        om = (edge[si, ci][:, None] + t * t).ravel()
+        om = (edge[si, ci][:, None] + side * t * t).ravel()
         f = integrand(om, np.repeat(si, K), np.repeat(ci, K)).reshape(t.shape)
         out[si, ci] = (2.0 * t * wt * f).sum(-1)
     return out
+
+
+#: graded panels in t = √(ω_L − ω) below the edge (fractions of √U), with a panel edge
+#: where the taper :func:`_taper` starts (u = U/3)
+_T_BELOW = np.array([0.0, 1e-4, 1e-3, 1e-2, 0.05, 0.2, 0.5, math.sqrt(1.0 / 3.0), 0.8, 1.0])
+
+
+def _taper(x):
+    """The share φ(x) of the exact integral below the edge at x = (ω_L − ω)/U ≥ 0: 1 up to
+    x = 1/3, then down to 0 at x = 1 by the quintic smoothstep 1 − s(y), s = y³(10 − 15y +
+    6y²), y = (x − 1/3)/(2/3) (φ and its first two derivatives continuous), 0 beyond."""
+    y = np.clip((np.asarray(x, float) - 1.0 / 3.0) * 1.5, 0.0, 1.0)
+    return 1.0 - y * y * y * (10.0 - 15.0 * y + 6.0 * y * y)
+
+
+def _below_integral(edge, width, live, integrand):
+    """∫ φ S_1D w dω over [ω_L − U, ω_L] (U = ``width``) per set and row where ``live``, and
+    the centroid ∫ ω φ|S_1D w| dω / ∫ φ|S_1D w| dω where it is placed, meV (ω_L elsewhere).
+
+    In t = √(ω_L − ω) on panels graded towards the edge (as :func:`_edge_integral`), with
+    the taper φ = :func:`_taper` ((ω_L − ω)/U): the grid takes the complement (1 − φ) S_1D
+    w, which vanishes smoothly towards the edge, so no boundary of the split moves past the
+    grid's nodes as the edge moves (a hard cut there made the integral jump with the edge by
+    the integrand times up to half a grid step)."""
+    out, where = np.zeros(edge.shape), edge.copy()
+    si, ci = np.nonzero(live)
+    if si.size:
+        t0, t1 = _T_BELOW[:-1, None], _T_BELOW[1:, None]
+        x = (t0 + (t1 - t0) * _GL_T[None, :]).ravel()
+        wx = ((t1 - t0) * _GL_W[None, :]).ravel()
+        root = np.sqrt(width[si, ci])[:, None]
+        t, wt = root * x, root * wx                          # (k, K)
+        K = t.shape[-1]
+        om = edge[si, ci][:, None] - t * t
+        f = integrand(om.ravel(), np.repeat(si, K), np.repeat(ci, K)).reshape(t.shape)
+        w = 2.0 * t * wt * _taper(x * x)[None, :]
+        out[si, ci] = (w * f).sum(-1)
+        a = w * np.abs(f)
+        norm = a.sum(-1)
+        ok = norm > 0
+        where[si[ok], ci[ok]] = (a * om).sum(-1)[ok] / norm[ok]
+    return out, where
 
 
 def _edge_gaussians(grid, edge, D, kT):
@@ -312,14 +362,35 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
 
     D = _edge_integral(edge, np.full(edge.shape, np.sqrt(h)), has_edge, dip)
     poles = _poles(rows, coup, T, J, Jp, delta, z_perp, ls, te)
+    # and the step below the edge, where at T > 0 the chain's thermal weight meets a χ'_1D
+    # that grows towards the edge (as 1/(ω_L − ω) below a band narrower than h₀, at small
+    # q): on the grid its integral jumped as the nodes moved past the edge (0.2 % of the
+    # spectrum, tenths of a nat in the likelihood, for J_⊥/J ~ 10⁻⁴).  Not where a sharp
+    # pole's window, integrated exactly already, reaches into it.
+    below = np.minimum(_BELOW * h, edge)
+    if kT > 0:
+        for key, pl in poles.items():
+            wp = np.nan_to_num(pl["omega"], nan=0.0)
+            w0 = 0.5 * np.minimum(wp, edge - wp)
+            sharp = (pl["weight"] > 0) & (w0 > 0) & (pl["width"] < SHARP * w0)
+            below = np.where(sharp & (wp + _WINDOW * h > edge - below), 0.0, below)
+    else:
+        below = np.zeros(edge.shape)               # no chain weight below the edge at T = 0
+    D_b, at_b = _below_integral(edge, below, has_edge & (below > 0), dip)
     # the grid function S_1D (F − F_e) where S_1D ≠ 0 (|ω| up to the top), outside the
-    # first step above the edge, at the nodes that the points' rules read
+    # step above the edge, times 1 − φ below it, at the nodes that the points' rules read
     fine = _fine(grid, _sheet_features(sheets, line, edge)
                  + [p["omega"] for p in poles.values()])
-    e = edge[:, nr]
-    si, ni = np.nonzero(grid.needed(fine) & (a <= high[:, nr]) & ~((a >= e) & (a < e + h)))
+    e, eb = edge[:, nr], below[:, nr]
+    si, ni = np.nonzero(grid.needed(fine) & (a <= high[:, nr])
+                        & ~((a >= e - eb / 3.0) & (a < e + h)))
     ci, x = nr[ni], a[ni]
     S, F = dressing(x, si, ci)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        keep = np.where(x < edge[si, ci],
+                        1.0 - _taper((edge[si, ci] - x) / below[si, ci]), 1.0)
+    keep = np.where(np.isfinite(keep), keep, 1.0)
+    S = S * keep                                   # the grid's share below the edge
     vals = -F_e[si, ci] * S
     extra = 0.0
     for (key, pl), Fk in zip(poles.items(), F):
@@ -336,7 +407,7 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
         vals = vals + S * Fk
     X = _grid_values(grid, (J.shape[0], grid.size), si, ni, vals, kT)
     return (F_e[:, grid.point_row] * chain + grid.convolve(X, fine) + extra
-            + _edge_gaussians(grid, edge, D, kT))
+            + _edge_gaussians(grid, edge, D, kT) + _edge_gaussians(grid, at_b, D_b, kT))
 
 
 def _poles(rows, coup, T, J, Jp, delta, z_perp, ls, te):
@@ -358,6 +429,9 @@ def _poles(rows, coup, T, J, Jp, delta, z_perp, ls, te):
 
 #: half width of the window around a sharp pole, in grid steps h₀
 _WINDOW = 2.0
+#: width U of the exact integral below the edge, in grid steps h₀ (tapered over its outer
+#: two thirds, :func:`_taper`)
+_BELOW = 3.0
 _LOG_PANELS = 12             # panels in ln|ω − ω_p| on each side of a sharp pole
 
 
