@@ -420,8 +420,9 @@ def rpa_poles(q, q_a, q_b, T, J, J_perp, delta, *, z_perp=4, line_shape="exact",
     χ'_p = −1/(κ_a J_⊥ f_a), on ln(ω_e − ω) (18 steps, both components at once; within
     e^{−30} ω_e of the edge a pole is not resolved); ∂χ'/∂ω by a centred difference.  Above
     T_N only (D_a(0) > 0); no pole where D_a stays positive up to ω_e (a thermally rounded
-    edge can keep χ' finite).  The antibound state above the top of the continuum
-    (κJ_⊥ > 0, needing κ z_⊥ J_⊥ f χ' of order one there) is not searched.
+    edge can keep χ' finite).  The antibound states above the top of the continuum
+    (κJ_⊥ > 0) are found by the resolution-convolved spectrum
+    (:mod:`evidence1d.physics.coupled_chain_spectrum`), not here.
 
     Parameters
     ----------

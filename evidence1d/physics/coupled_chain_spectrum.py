@@ -8,25 +8,29 @@ Above T_N
 ---------
 The dressed spectrum is S_1D(q, ω) F(Q, ω) with the dressing factor
 F = Σ_a m_a f_a/|1 + κ_a J_⊥(Q_⊥) f_a χ_1D(q, ω)|² (m_zz = 1, m_xx = 2; F = 1 at J_⊥ = 0),
-plus the poles below the continuum (:func:`~evidence1d.physics.coupled_chain.rpa_poles`).
+plus the poles below the continuum (:func:`~evidence1d.physics.coupled_chain.rpa_poles`)
+and the antibound states above it.
 S_1D has integrable inverse-square-root edges that no grid resolves, so the convolution with
 the Gaussian resolution G_σ is split as
 
-    G_σ ∗ (S_1D F) = F_e G_σ ∗ S_1D + G_σ ∗ [S_1D (F − F_e)]_grid + edge + poles,
+    G_σ ∗ (S_1D F) = F_e G_σ ∗ S_1D + G_σ ∗ [(1 − φ) S_1D (F − F_e)]_grid + strips + poles,
 
-* F_e = F(ω_L + h₀), the dressing just beyond the first grid step h₀ above the lower
-  edge ω_L, so that S_1D (F − F_e) has no inverse-square-root singularity left on the grid;
-  the step [ω_L, ω_L + h₀] itself (where F dips towards 0 if |χ_1D| diverges at the edge,
-  on a scale ∝ J_⊥²) is left out of the grid and its weight ∫ S_1D (F − F_e) dω, computed
-  by Gauss–Legendre quadrature in t = √(ω − ω_L) on panels graded towards the edge, is
-  placed at ±ω_L ("edge"; F_e → 1 and that weight → 0 as J_⊥ → 0);
-* at T > 0 the chain's thermal weight reaches below ω_L, where χ'_1D grows towards the edge
-  (as 1/(ω_L − ω) below a band narrower than h₀, at small q): the bracket times a taper
-  φ over [ω_L − U, ω_L] (U = :data:`_BELOW` h₀; φ = 1 on the third next to the edge, then a
-  quintic smoothstep to 0) is integrated exactly in t = √(ω_L − ω) and placed at its
-  centroid, and the grid takes the bracket times 1 − φ, which vanishes smoothly towards the
-  edge: no boundary of the split moves past the nodes as the edge moves (a hard cut made
-  the spectrum, and the likelihood by tenths of a nat, jump with J and Δ);
+* F_e = F(ω_L + h₀), the dressing one grid step h₀ above the lower edge ω_L (any constant
+  splits exactly; this one keeps the bracket S_1D (F − F_e) small next to the edge);
+* "strips": three strips of the bracket are integrated exactly, by 4-point Gauss–Legendre
+  quadrature in t = √|ω − ω_x| on panels graded towards their edge ω_x (down to 10⁻⁸ of the
+  strip), each with a share φ_k that is 1 on the third next to its edge and falls to 0 by a
+  quintic smoothstep (:func:`_taper`); the grid takes the product of the complements, so
+  the shares add up to one and the grid's integrand vanishes smoothly towards each edge:
+  no boundary of the split moves past the nodes as the edges move (a hard cut made the
+  spectrum, and the likelihood by tenths of a nat, jump with J and Δ).  Above ω_L: the dip
+  of F where |χ_1D| diverges (on a scale ∝ J_⊥²), over 3h₀ or, for a band narrower than 5h₀
+  (small q), the whole band, whose dressing the grid cannot resolve
+  (:func:`_upper_width`); below ω_L (T > 0, :data:`_BELOW` h₀): the chain's thermal weight
+  meets a χ'_1D growing towards the edge (as 1/(ω_L − ω) below a narrow band); below the
+  top ω_U (:data:`_TOP` h₀): χ'_1D falls steeply and 1 + κJ_⊥ f χ'_1D can approach 0.  Each
+  panel's integral is placed at the centroid of |its integrand| (gain side with detailed
+  balance);
 * G_σ ∗ S_1D, the spinon family's exact convolution
   (:func:`evidence1d.physics.chain_spectrum.spinon_spectrum`, edges handled exactly), so
   that J_⊥ = 0 gives the spinon family's spectrum to rounding;
@@ -46,6 +50,9 @@ the Gaussian resolution G_σ is split as
   (gain side with e^{−ω/k_BT}) and left out of the grid; broader poles (near the ordering
   wavevector close to T_N, overdamped by the chain's thermal weight) stay in the grid
   function, which is the full random-phase response there.
+* "antibound": where κ_a J_⊥(Q_⊥) > 0 and 1 + κ_a J_⊥ f_a χ'_1D < 0 at the top, the
+  component's δ-mode above the top (χ''_1D = 0 there), found and weighted as the bound
+  states (:func:`_antibound`).
 
 Below T_N
 ---------
@@ -59,8 +66,10 @@ Accuracy (tests, against adaptive quadrature of the pointwise response with the 
 added analytically): within 1.5 % of the peak above T_N at 6 nodes per σ, also with a pole
 within 10⁻³ meV of a thermally rounded edge (5 % at 3 nodes per σ, where the dressing's
 variation near the edge is under-resolved); 4e-5 of the peak at the points on the coarse
-rule (and the same against the fine rule everywhere); the step at ω_c below T_N costs O(h₀/σ) of the
-continuum's value there (10⁻⁴ of the peak far above it).  The π-shifted sheet of Δ > 1 (its own edges)
+rule (and the same against the fine rule everywhere); a band narrower than the grid step at
+small q, with the antibound state above it, within 0.1 % of the peak (J_⊥ = 0.05 meV), and
+its dressing at J_⊥ = 2e-3 meV within 1.2 % of itself, smooth in J; the step at ω_c below T_N
+costs O(h₀/σ) of the continuum's value there (10⁻⁴ of the peak far above it).  The π-shifted sheet of Δ > 1 (its own edges)
 and the Δ > 1 line at the continuum bottom (dressed by the constant F_e; its bound state is
 a pole) are approximations.
 
@@ -267,46 +276,73 @@ def _edge_integral(edge, upper, live, integrand, side=1.0):
     return out
 
 
-#: graded panels in t = √(ω_L − ω) below the edge (fractions of √U), with a panel edge
-#: where the taper :func:`_taper` starts (u = U/3)
-_T_BELOW = np.array([0.0, 1e-4, 1e-3, 1e-2, 0.05, 0.2, 0.5, math.sqrt(1.0 / 3.0), 0.8, 1.0])
+#: graded panels in t = √|ω − ω_L| of the strips at the edge (fractions of √(length))
+_T_STRIP = np.array([0.0, 1e-4, 1e-3, 1e-2, 0.05, 0.2, 0.4, 0.6, 0.8, 1.0])
 
 
 def _taper(x):
-    """The share φ(x) of the exact integral below the edge at x = (ω_L − ω)/U ≥ 0: 1 up to
+    """The share φ(x) of the exact integral of a strip at x = |ω − ω_L|/U ≥ 0: 1 up to
     x = 1/3, then down to 0 at x = 1 by the quintic smoothstep 1 − s(y), s = y³(10 − 15y +
     6y²), y = (x − 1/3)/(2/3) (φ and its first two derivatives continuous), 0 beyond."""
     y = np.clip((np.asarray(x, float) - 1.0 / 3.0) * 1.5, 0.0, 1.0)
     return 1.0 - y * y * y * (10.0 - 15.0 * y + 6.0 * y * y)
 
 
-def _below_integral(edge, width, live, integrand):
-    """∫ φ S_1D w dω over [ω_L − U, ω_L] (U = ``width``) per set and row where ``live``, and
-    the centroid ∫ ω φ|S_1D w| dω / ∫ φ|S_1D w| dω where it is placed, meV (ω_L elsewhere).
+def _strip(edge, width, length, live, integrand, side):
+    """∫ φ S_1D w dω over the strip from ω_L to ω_L + side × ``length`` (meV; ``side`` ±1),
+    φ = :func:`_taper` (|ω − ω_L|/``width``), per panel of :data:`_T_STRIP`, and where each
+    panel's part is placed: the centroid of φ|S_1D w| over the panel (its middle where that
+    vanishes).
 
-    In t = √(ω_L − ω) on panels graded towards the edge (as :func:`_edge_integral`), with
-    the taper φ = :func:`_taper` ((ω_L − ω)/U): the grid takes the complement (1 − φ) S_1D
-    w, which vanishes smoothly towards the edge, so no boundary of the split moves past the
-    grid's nodes as the edge moves (a hard cut there made the integral jump with the edge by
-    the integrand times up to half a grid step)."""
-    out, where = np.zeros(edge.shape), edge.copy()
+    In t = √|ω − ω_L| (S_1D dω = 2t S_1D dt, finite at an inverse-square-root edge), 4-point
+    Gauss–Legendre on each panel, graded towards the edge down to 10⁻⁸ of the strip, so a
+    dressing that dips on any scale next to the edge is resolved.  ``integrand`` gives S_1D w
+    at flat energies of flat (set, row) pairs.
+
+    Returns
+    -------
+    weight, where : ndarray, shape (n_sets, n_rows, n_panels)
+        Zero weight where not ``live``.
+    """
+    n_p = _T_STRIP.size - 1
+    weight = np.zeros(edge.shape + (n_p,))
+    where = np.broadcast_to(edge[..., None], weight.shape).copy()
     si, ci = np.nonzero(live)
     if si.size:
-        t0, t1 = _T_BELOW[:-1, None], _T_BELOW[1:, None]
-        x = (t0 + (t1 - t0) * _GL_T[None, :]).ravel()
-        wx = ((t1 - t0) * _GL_W[None, :]).ravel()
-        root = np.sqrt(width[si, ci])[:, None]
-        t, wt = root * x, root * wx                          # (k, K)
-        K = t.shape[-1]
-        om = edge[si, ci][:, None] - t * t
-        f = integrand(om.ravel(), np.repeat(si, K), np.repeat(ci, K)).reshape(t.shape)
-        w = 2.0 * t * wt * _taper(x * x)[None, :]
-        out[si, ci] = (w * f).sum(-1)
+        t0, t1 = _T_STRIP[:-1, None], _T_STRIP[1:, None]
+        x = (t0 + (t1 - t0) * _GL_T[None, :])                     # (n_p, 4)
+        wx = (t1 - t0) * _GL_W[None, :]
+        root = np.sqrt(length[si, ci])[:, None, None]
+        t, wt = root * x, root * wx                               # (k, n_p, 4)
+        om = edge[si, ci][:, None, None] + side * t * t
+        f = integrand(om.ravel(), np.repeat(si, x.size), np.repeat(ci, x.size)).reshape(t.shape)
+        w = 2.0 * t * wt * _taper(t * t / width[si, ci][:, None, None])
+        weight[si, ci] = (w * f).sum(-1)
         a = w * np.abs(f)
         norm = a.sum(-1)
-        ok = norm > 0
-        where[si[ok], ci[ok]] = (a * om).sum(-1)[ok] / norm[ok]
-    return out, where
+        mid = om[..., 1:3].mean(-1)
+        where[si, ci] = np.where(norm > 0, (a * om).sum(-1) / np.where(norm > 0, norm, 1.0),
+                                 mid)
+    return weight, where
+
+
+def _strip_gaussians(grid, where, weight, kT):
+    """The strips' panel weights at their places (loss side, and the gain side with detailed
+    balance), resolution-broadened at the points; (n_sets, n)."""
+    pr, E, s = grid.point_row, grid.point_energy[:, None], grid.point_sigma[:, None]
+    e, d = where[:, pr], weight[:, pr]                            # (n_sets, n, n_p)
+    out = d * gaussian(E - e, s)
+    if kT > 0:
+        out = out + d * np.exp(-e / kT) * gaussian(E + e, s)
+    return out.sum(-1)
+
+
+def _upper_width(band, h):
+    """Width U of the strip above the edge (meV): 3h₀ for bands wider than 5h₀, 3 × the band
+    (so that its plateau holds the whole band) for bands up to 3h₀, and linear between
+    (continuous in the band's width, so the spectrum is continuous in the parameters)."""
+    b = band / h
+    return 3.0 * h * np.maximum(1.0, np.minimum(b, 6.0 - b))
 
 
 def _edge_gaussians(grid, edge, D, kT):
@@ -348,8 +384,8 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
             out.append(m * f_ / ((1.0 + gf * c1) ** 2 + (gf * c2) ** 2))
         return S, out
 
-    # the plateau just above the edge's first step, and the step's own weight (the dip of
-    # the dressing where |χ_1D| diverges), integrated exactly
+    # F_e: the dressing one grid step above the edge (any constant splits exactly; this one
+    # keeps S_1D (F − F_e) small next to the edge)
     has_edge = edge > 0
     h = grid.base_step
     si, ci = np.nonzero(has_edge)
@@ -360,13 +396,18 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
         S, F = dressing(om, s_, c_)
         return S * (sum(F) - F_e[s_, c_])
 
-    D = _edge_integral(edge, np.full(edge.shape, np.sqrt(h)), has_edge, dip)
     poles = _poles(rows, coup, T, J, Jp, delta, z_perp, ls, te)
-    # and the step below the edge, where at T > 0 the chain's thermal weight meets a χ'_1D
-    # that grows towards the edge (as 1/(ω_L − ω) below a band narrower than h₀, at small
-    # q): on the grid its integral jumped as the nodes moved past the edge (0.2 % of the
-    # spectrum, tenths of a nat in the likelihood, for J_⊥/J ~ 10⁻⁴).  Not where a sharp
-    # pole's window, integrated exactly already, reaches into it.
+    # the strips on both sides of the edge, integrated exactly with the taper φ; the grid
+    # takes the complement 1 − φ, which vanishes smoothly towards the edge, so no boundary
+    # of the split moves past the grid's nodes as the edge moves (a hard cut made the
+    # spectrum, and the likelihood by tenths of a nat, jump with J and Δ).  Above: the dip
+    # of the dressing where |χ_1D| diverges (on a scale ∝ J_⊥²) and, for a band narrower
+    # than a few grid steps (small q), the whole band, whose dressing the grid cannot
+    # resolve.  Below (T > 0): the chain's thermal weight meets a χ'_1D that grows towards
+    # the edge (as 1/(ω_L − ω) below a narrow band); not where a sharp pole's window,
+    # integrated exactly already, reaches into it.
+    band = np.where(has_edge, high - edge, 0.0)
+    above = _upper_width(band, h)
     below = np.minimum(_BELOW * h, edge)
     if kT > 0:
         for key, pl in poles.items():
@@ -376,21 +417,34 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
             below = np.where(sharp & (wp + _WINDOW * h > edge - below), 0.0, below)
     else:
         below = np.zeros(edge.shape)               # no chain weight below the edge at T = 0
-    D_b, at_b = _below_integral(edge, below, has_edge & (below > 0), dip)
-    # the grid function S_1D (F − F_e) where S_1D ≠ 0 (|ω| up to the top), outside the
-    # step above the edge, times 1 − φ below it, at the nodes that the points' rules read
+    up_w, up_at = _strip(edge, above, np.minimum(above, band), has_edge & (band > 0), dip, 1.0)
+    lo_w, lo_at = _strip(edge, below, below, has_edge & (below > 0), dip, -1.0)
+    # and the strip below the top, where χ'_1D falls steeply and, as J_⊥(Q_⊥) > 0 grows,
+    # 1 + κJ_⊥ f χ'_1D approaches 0 (the antibound state forming): its share φ_t (1 − φ_up),
+    # so that the grid's share (1 − φ_up)(1 − φ_t) and the strips' add up to one
+    top_len = np.where(has_edge, np.minimum(_TOP * h, band), 0.0)
+    top_w_ = np.full(edge.shape, _TOP * h)
+
+    def dip_top(om, s_, c_):
+        return dip(om, s_, c_) * (1.0 - _taper((om - edge[s_, c_]) / above[s_, c_]))
+
+    tp_w, tp_at = _strip(high, top_w_, top_len, has_edge & (top_len > 0), dip_top, -1.0)
+    # the grid function S_1D (F − F_e) where S_1D ≠ 0 (|ω| up to the top), times 1 − φ
+    # within the strips, at the nodes that the points' rules read
     fine = _fine(grid, _sheet_features(sheets, line, edge)
                  + [p["omega"] for p in poles.values()])
-    e, eb = edge[:, nr], below[:, nr]
-    si, ni = np.nonzero(grid.needed(fine) & (a <= high[:, nr])
-                        & ~((a >= e - eb / 3.0) & (a < e + h)))
+    e, eb, ea = edge[:, nr], below[:, nr], above[:, nr]
+    si, ni = np.nonzero(grid.needed(fine) & (a <= high[:, nr] - _TOP * h / 3.0)
+                        & ~((a > e - eb / 3.0) & (a < e + ea / 3.0)))
     ci, x = nr[ni], a[ni]
     S, F = dressing(x, si, ci)
+    dist = x - edge[si, ci]
     with np.errstate(divide="ignore", invalid="ignore"):
-        keep = np.where(x < edge[si, ci],
-                        1.0 - _taper((edge[si, ci] - x) / below[si, ci]), 1.0)
-    keep = np.where(np.isfinite(keep), keep, 1.0)
-    S = S * keep                                   # the grid's share below the edge
+        keep = np.where(dist < 0, 1.0 - _taper(-dist / below[si, ci]),
+                        (1.0 - _taper(dist / above[si, ci]))
+                        * (1.0 - _taper((high[si, ci] - x) / (_TOP * h))))
+    keep = np.where(np.isfinite(keep) & has_edge[si, ci], keep, 1.0)
+    S = S * keep                                   # the grid's share next to the edge
     vals = -F_e[si, ci] * S
     extra = 0.0
     for (key, pl), Fk in zip(poles.items(), F):
@@ -406,8 +460,71 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
             extra = extra + _pair(grid, wp, loss, gain)
         vals = vals + S * Fk
     X = _grid_values(grid, (J.shape[0], grid.size), si, ni, vals, kT)
+    for loss, gain, wp in _antibound(sh_rows, coup, high, kT).values():
+        if np.any(loss > 0):
+            extra = extra + _pair(grid, wp, loss, gain)
     return (F_e[:, grid.point_row] * chain + grid.convolve(X, fine) + extra
-            + _edge_gaussians(grid, edge, D, kT) + _edge_gaussians(grid, at_b, D_b, kT))
+            + _strip_gaussians(grid, up_at, up_w, kT) + _strip_gaussians(grid, lo_at, lo_w, kT)
+            + _strip_gaussians(grid, tp_at, tp_w, kT))
+
+
+#: false-position steps of the antibound search (as the bound states':
+#: :func:`~evidence1d.physics.coupled_chain.rpa_poles`)
+_N_ANTIBOUND = 24
+
+
+def _antibound(sh, coup, high, kT):
+    """The antibound states above the continuum, per component: where κ_a J_⊥(Q_⊥) > 0 the
+    real part of D_a = 1 + κ_a J_⊥(Q_⊥) f_a χ_1D vanishes at one ω_p above the highest upper
+    edge ω_U if D_a(ω_U) < 0 (there χ''_1D = 0, and χ'_1D < 0 rises monotonically to 0), and
+    the component carries a δ-function mode of weight Z = 1/(κ_a² J_⊥(Q_⊥)² f_a ∂χ'_1D/∂ω)
+    (the bound state's residue, Scalapino, Imry & Pincus 1975, mirrored above the band).
+
+    Found per (set, row) by the Illinois false-position method on ln(ω − ω_U) for
+    asinh(χ'/χ'_p − 1), χ'_p = −1/(κJ_⊥f), between 10⁻¹³ and e⁵ ω_U above the top; ∂χ'/∂ω by a
+    centred difference.  Returns {key: (loss, gain, ω_p)}, each (n_sets, n_rows): the
+    weights m Z (n + 1) at +ω_p and m Z n at −ω_p (m the component's multiplicity), 0 where
+    there is no state."""
+    out = {}
+    for key in ("zz", "xx"):
+        m, f, g = coup[key]
+        gf = g * f
+        live = (gf > 0) & (high > 0)
+        si, ci = np.nonzero(live)
+        loss, gain, wp_all = (np.zeros(high.shape) for _ in range(3))
+        if si.size:
+            top, target = high[si, ci], -1.0 / gf[si, ci]
+
+            def F(x, s_=si, c_=ci, t_=top, tg=target):
+                return np.arcsinh(_real(sh, t_ + np.exp(x), s_, c_) / tg - 1.0)
+
+            a, b = np.log(top) - 30.0, np.log(top) + 5.0
+            fa, fb = F(a), F(b)
+            ok = (fa > 0) & (fb < 0)
+            si, ci, top, target = si[ok], ci[ok], top[ok], target[ok]
+            a, b, fa, fb = a[ok], b[ok], fa[ok], fb[ok]
+            if si.size:
+                side = np.zeros(si.shape)
+                for _ in range(_N_ANTIBOUND):
+                    c = b - fb * (b - a) / (fb - fa)
+                    fc = F(c, si, ci, top, target)
+                    to_b = fc < 0
+                    fa = np.where(to_b & (side > 0), 0.5 * fa, fa)
+                    fb = np.where(~to_b & (side < 0), 0.5 * fb, fb)
+                    a, fa = np.where(to_b, a, c), np.where(to_b, fa, fc)
+                    b, fb = np.where(to_b, c, b), np.where(to_b, fc, fb)
+                    side = np.where(to_b, 1.0, -1.0)
+                d = np.exp(np.where(np.abs(fa) < np.abs(fb), a, b))
+                wp = top + d
+                step = np.maximum(1e-5 * d, 1e-12 * top)
+                slope = (_real(sh, wp + step, si, ci) - _real(sh, wp - step, si, ci)) / (2 * step)
+                good = slope > 0
+                Z = np.where(good, 1.0 / (g[si, ci] ** 2 * f[si, ci]
+                                          * np.where(good, slope, 1.0)), 0.0)
+                nb1, nb = _bose(wp, kT)
+                loss[si, ci], gain[si, ci], wp_all[si, ci] = m * Z * nb1, m * Z * nb, wp
+        out[key] = (loss, gain, wp_all)
+    return out
 
 
 def _poles(rows, coup, T, J, Jp, delta, z_perp, ls, te):
@@ -432,6 +549,8 @@ _WINDOW = 2.0
 #: width U of the exact integral below the edge, in grid steps h₀ (tapered over its outer
 #: two thirds, :func:`_taper`)
 _BELOW = 3.0
+#: width of the strip below the top of the continuum, in grid steps h₀
+_TOP = 3.0
 _LOG_PANELS = 12             # panels in ln|ω − ω_p| on each side of a sharp pole
 
 

@@ -168,6 +168,61 @@ def test_dressing_of_a_narrow_band_at_small_q_against_quadrature_and_smooth_in_J
     assert np.abs(np.diff(got, 2, axis=0)).max() < 1e-3 * scale
 
 
+def _antibound_reference(q, qa, T, J, Jp, d):
+    """The antibound states above the top by Brent's method on the pointwise χ'_1D of
+    :func:`~evidence1d.physics.coupled_chain.chain_susceptibility` (independent of the
+    kernel's vectorised search): [(multiplicity, ω_p, Z)], Z = 1/(κ²J_⊥(Q)² f ∂χ'/∂ω)."""
+    from scipy import optimize
+    P = [np.array([[x]]) for x in (J, Jp, d)]
+    one = [np.array([x]) for x in (q, qa, qa)]
+    (_, top, _, _), _, _ = all_sheets(one[0], P[0], P[2])
+    top = top[0, 0]
+    coup = cc._couplings(*one, P[0], P[1], P[2], 4)
+
+    def chi1(w):
+        return cc.chain_susceptibility(one[0], np.array([w]), T, P[0], P[2])[0, 0].real
+
+    out = []
+    for key in ("zz", "xx"):
+        m, f, g = coup[key]
+        f, g = f[0, 0], g[0, 0]
+        if g * f <= 0 or 1.0 + g * f * chi1(top * (1 + 1e-12)) >= 0:
+            continue
+        wp = optimize.brentq(lambda w: 1.0 + g * f * chi1(w), top * (1 + 1e-12), 100 * top,
+                             xtol=1e-14, rtol=1e-13)
+        step = 1e-6 * (wp - top)
+        slope = (chi1(wp + step) - chi1(wp - step)) / (2 * step)
+        out.append((m, wp, 1.0 / (g * g * f * slope)))
+    return out
+
+
+@pytest.mark.slow
+def test_antibound_state_above_a_narrow_band_against_quadrature():
+    """Where J_⊥(Q_⊥) > 0 (here Q_⊥ = 0) the dressing pushes a narrow small-q band's weight
+    above its top into an antibound δ-mode (Scalapino, Imry & Pincus 1975, mirrored): at
+    q = 0.157, J_⊥ = 0.05 meV its weight is 0.0047 per spin (5 % of the peak), which the
+    spectrum used to drop (and the grid then resolved the band's dressing at the 15 % level).
+    Against adaptive quadrature of the pointwise response plus the δ-modes found
+    independently (``_antibound_reference``): within 1 % of the peak (measured 0.06 %)."""
+    q, T, J, Jp, d = 0.157, 1.5, 1.06, 0.05, 0.98
+    P = [np.array([[x]]) for x in (J, Jp, d)]
+    assert neel_temperature(*P)[0, 0] < T
+    (wl, top, _, _), _, _ = all_sheets(np.array([q]), P[0], P[2])
+    E = np.linspace(wl[0, 0] - 0.1, top[0, 0] + 0.1, 5)
+    s = np.full(E.size, 0.036)
+    modes = _antibound_reference(q, 0.0, T, J, Jp, d)
+    assert sum(m * Z for m, _, Z in modes) > 0.004
+    kT = K_B_MEV * T
+    ref = np.array([_reference(q, 0.0, e, si, T, J, Jp, d) for e, si in zip(E, s)])
+    for m, wp, Z in modes:
+        n = 1.0 / math.expm1(wp / kT)
+        g = lambda x: np.exp(-0.5 * (x / s) ** 2) / (math.sqrt(2 * math.pi) * s)
+        ref = ref + m * Z * ((n + 1) * g(E - wp) + n * g(E + wp))
+    n = E.size
+    got = coupled_spectrum(np.full(n, q), np.zeros(n), np.zeros(n), E, s, T, *P)[0]
+    assert np.abs(got - ref).max() < 0.01 * ref.max(), (got, ref)
+
+
 @pytest.mark.slow
 def test_points_far_from_every_feature_take_the_coarse_rule_accurately():
     """Points farther than FINE_REACH σ from the edges, the top, the poles and ω = 0 take
