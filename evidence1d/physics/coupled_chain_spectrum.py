@@ -17,20 +17,20 @@ the Gaussian resolution G_σ is split as
 
 * F_e = F(ω_L + h₀), the dressing one grid step h₀ above the lower edge ω_L (any constant
   splits exactly; this one keeps the bracket S_1D (F − F_e) small next to the edge);
-* "strips": three strips of the bracket are integrated exactly, by 4-point Gauss–Legendre
-  quadrature in t = √|ω − ω_x| on panels graded towards their edge ω_x (down to 10⁻⁸ of the
-  strip), each with a share φ_k that is 1 on the third next to its edge and falls to 0 by a
-  quintic smoothstep (:func:`_taper`); the grid takes the product of the complements, so
-  the shares add up to one and the grid's integrand vanishes smoothly towards each edge:
-  no boundary of the split moves past the nodes as the edges move (a hard cut made the
-  spectrum, and the likelihood by tenths of a nat, jump with J and Δ).  Above ω_L: the dip
-  of F where |χ_1D| diverges (on a scale ∝ J_⊥²), over 3h₀ or, for a band narrower than 5h₀
-  (small q), the whole band, whose dressing the grid cannot resolve
-  (:func:`_upper_width`); below ω_L (T > 0, :data:`_BELOW` h₀): the chain's thermal weight
-  meets a χ'_1D growing towards the edge (as 1/(ω_L − ω) below a narrow band); below the
-  top ω_U (:data:`_TOP` h₀): χ'_1D falls steeply and 1 + κJ_⊥ f χ'_1D can approach 0.  Each
-  panel's integral is placed at the centroid of |its integrand| (gain side with detailed
-  balance);
+* "strips" (:mod:`evidence1d.physics.coupled_chain_strips`): three strips of the bracket are
+  integrated exactly, by 4-point Gauss–Legendre quadrature in t = √|ω − ω_x| on panels
+  graded towards their edge ω_x (down to 10⁻⁸ of the strip), each with a share φ_k that is
+  1 on the third next to its edge and falls to 0 by a quintic smoothstep (``taper``); the
+  grid takes the product of the complements, so the shares add up to one and the grid's
+  integrand vanishes smoothly towards each edge: no boundary of the split moves past the
+  nodes as the edges move (a hard cut made the spectrum, and the likelihood by tenths of a
+  nat, jump with J and Δ).  Above ω_L: the dip of F where |χ_1D| diverges (on a scale
+  ∝ J_⊥²), over 3h₀ or, for a band narrower than 5h₀ (small q), the whole band, whose
+  dressing the grid cannot resolve (``upper_width``); below ω_L (T > 0, ``BELOW`` h₀): the
+  chain's thermal weight meets a χ'_1D growing towards the edge (as 1/(ω_L − ω) below a
+  narrow band); below the top ω_U (``TOP`` h₀): χ'_1D falls steeply and 1 + κJ_⊥ f χ'_1D
+  can approach 0.  Each panel's integral is placed at the centroid of |its integrand|
+  (gain side with detailed balance);
 * G_σ ∗ S_1D, the spinon family's exact convolution
   (:func:`evidence1d.physics.chain_spectrum.spinon_spectrum`, edges handled exactly), so
   that J_⊥ = 0 gives the spinon family's spectrum to rounding;
@@ -68,8 +68,9 @@ within 10⁻³ meV of a thermally rounded edge (5 % at 3 nodes per σ, where the
 variation near the edge is under-resolved); 4e-5 of the peak at the points on the coarse
 rule (and the same against the fine rule everywhere); a band narrower than the grid step at
 small q, with the antibound state above it, within 0.1 % of the peak (J_⊥ = 0.05 meV), and
-its dressing at J_⊥ = 2e-3 meV within 1.2 % of itself, smooth in J; the step at ω_c below T_N
-costs O(h₀/σ) of the continuum's value there (10⁻⁴ of the peak far above it).  The π-shifted sheet of Δ > 1 (its own edges)
+its dressing at J_⊥ = 2e-3 meV within 1.2 % of itself, smooth in J; the step at ω_c below
+T_N costs O(h₀/σ) of the continuum's value there (10⁻⁴ of the peak far above it).  The
+π-shifted sheet of Δ > 1 (its own edges)
 and the Δ > 1 line at the continuum bottom (dressed by the constant F_e; its bound state is
 a pole) are approximations.
 
@@ -101,12 +102,15 @@ from .coupled_chain_ordered import ordered_modes, ordered_state, two_soliton_thr
 from .coupled_chain_thermo import neel_temperature
 from .magnon import check_interchain
 from .neutron import gaussian
+from .coupled_chain_strips import BELOW as _BELOW, TOP as _TOP
+from .coupled_chain_strips import edge_gaussians as _edge_gaussians
+from .coupled_chain_strips import edge_integral as _edge_integral
+from .coupled_chain_strips import strip as _strip, strip_gaussians as _strip_gaussians
+from .coupled_chain_strips import taper as _taper, upper_width as _upper_width
 from .resolution_grid import RowGrid
 
 __all__ = ["coupled_spectrum", "spectrum_grid", "NODES_PER_SIGMA"]
 
-_GL_T, _GL_W = gauss_legendre(4)
-_GL_T, _GL_W = 0.5 * (_GL_T + 1.0), 0.5 * _GL_W          # on [0, 1]
 #: a pole is sharp (its window integrated exactly, placed at ω_p) when Γ < this × w₀
 SHARP = 0.5
 #: energy nodes per resolution σ: the dressing varies on scales below σ near the edge and
@@ -244,115 +248,6 @@ def _bose(a, kT):
         return np.ones_like(a), np.zeros_like(a)
     n = 1.0 / np.expm1(np.maximum(a, 1e-300) / kT)
     return n + 1.0, n
-
-
-#: graded panels in t = √(ω − ω_L) over the first step above the edge (fractions of √h)
-_T_PANELS = np.array([0.0, 1e-4, 1e-3, 1e-2, 0.05, 0.2, 0.5, 1.0])
-
-
-def _edge_nodes(upper):
-    """Nodes t and weights of ∫₀^upper f(t) dt: 4-point Gauss–Legendre on each panel of
-    :data:`_T_PANELS` (graded towards t = 0), shape (k, n_nodes) for k intervals."""
-    t0, t1 = _T_PANELS[:-1, None], _T_PANELS[1:, None]
-    x = (t0 + (t1 - t0) * _GL_T[None, :]).ravel()
-    wx = ((t1 - t0) * _GL_W[None, :]).ravel()
-    return upper[..., None] * x, upper[..., None] * wx
-
-
-def _edge_integral(edge, upper, live, integrand, side=1.0):
-    """∫ S_1D(ω) w(ω) dω over [ω_L, ω_L + upper²] (``side`` = −1: over [ω_L − upper², ω_L])
-    per set and row where ``live`` (else 0), in t = √|ω − ω_L|: S_1D dω = 2t S_1D dt is
-    finite at the inverse-square-root edge, and the graded panels resolve a dressing that
-    varies on any scale down to 10⁻⁸ of the step.  ``integrand`` gives S_1D w at flat
-    energies (meV) of flat (set, row) pairs."""
-    out = np.zeros(edge.shape)
-    si, ci = np.nonzero(live)
-    if si.size:
-        t, wt = _edge_nodes(upper[si, ci])                  # (k, K)
-        K = t.shape[-1]
-        om = (edge[si, ci][:, None] + side * t * t).ravel()
-        f = integrand(om, np.repeat(si, K), np.repeat(ci, K)).reshape(t.shape)
-        out[si, ci] = (2.0 * t * wt * f).sum(-1)
-    return out
-
-
-#: graded panels in t = √|ω − ω_L| of the strips at the edge (fractions of √(length))
-_T_STRIP = np.array([0.0, 1e-4, 1e-3, 1e-2, 0.05, 0.2, 0.4, 0.6, 0.8, 1.0])
-
-
-def _taper(x):
-    """The share φ(x) of the exact integral of a strip at x = |ω − ω_L|/U ≥ 0: 1 up to
-    x = 1/3, then down to 0 at x = 1 by the quintic smoothstep 1 − s(y), s = y³(10 − 15y +
-    6y²), y = (x − 1/3)/(2/3) (φ and its first two derivatives continuous), 0 beyond."""
-    y = np.clip((np.asarray(x, float) - 1.0 / 3.0) * 1.5, 0.0, 1.0)
-    return 1.0 - y * y * y * (10.0 - 15.0 * y + 6.0 * y * y)
-
-
-def _strip(edge, width, length, live, integrand, side):
-    """∫ φ S_1D w dω over the strip from ω_L to ω_L + side × ``length`` (meV; ``side`` ±1),
-    φ = :func:`_taper` (|ω − ω_L|/``width``), per panel of :data:`_T_STRIP`, and where each
-    panel's part is placed: the centroid of φ|S_1D w| over the panel (its middle where that
-    vanishes).
-
-    In t = √|ω − ω_L| (S_1D dω = 2t S_1D dt, finite at an inverse-square-root edge), 4-point
-    Gauss–Legendre on each panel, graded towards the edge down to 10⁻⁸ of the strip, so a
-    dressing that dips on any scale next to the edge is resolved.  ``integrand`` gives S_1D w
-    at flat energies of flat (set, row) pairs.
-
-    Returns
-    -------
-    weight, where : ndarray, shape (n_sets, n_rows, n_panels)
-        Zero weight where not ``live``.
-    """
-    n_p = _T_STRIP.size - 1
-    weight = np.zeros(edge.shape + (n_p,))
-    where = np.broadcast_to(edge[..., None], weight.shape).copy()
-    si, ci = np.nonzero(live)
-    if si.size:
-        t0, t1 = _T_STRIP[:-1, None], _T_STRIP[1:, None]
-        x = (t0 + (t1 - t0) * _GL_T[None, :])                     # (n_p, 4)
-        wx = (t1 - t0) * _GL_W[None, :]
-        root = np.sqrt(length[si, ci])[:, None, None]
-        t, wt = root * x, root * wx                               # (k, n_p, 4)
-        om = edge[si, ci][:, None, None] + side * t * t
-        f = integrand(om.ravel(), np.repeat(si, x.size), np.repeat(ci, x.size)).reshape(t.shape)
-        w = 2.0 * t * wt * _taper(t * t / width[si, ci][:, None, None])
-        weight[si, ci] = (w * f).sum(-1)
-        a = w * np.abs(f)
-        norm = a.sum(-1)
-        mid = om[..., 1:3].mean(-1)
-        where[si, ci] = np.where(norm > 0, (a * om).sum(-1) / np.where(norm > 0, norm, 1.0),
-                                 mid)
-    return weight, where
-
-
-def _strip_gaussians(grid, where, weight, kT):
-    """The strips' panel weights at their places (loss side, and the gain side with detailed
-    balance), resolution-broadened at the points; (n_sets, n)."""
-    pr, E, s = grid.point_row, grid.point_energy[:, None], grid.point_sigma[:, None]
-    e, d = where[:, pr], weight[:, pr]                            # (n_sets, n, n_p)
-    out = d * gaussian(E - e, s)
-    if kT > 0:
-        out = out + d * np.exp(-e / kT) * gaussian(E + e, s)
-    return out.sum(-1)
-
-
-def _upper_width(band, h):
-    """Width U of the strip above the edge (meV): 3h₀ for bands wider than 5h₀, 3 × the band
-    (so that its plateau holds the whole band) for bands up to 3h₀, and linear between
-    (continuous in the band's width, so the spectrum is continuous in the parameters)."""
-    b = band / h
-    return 3.0 * h * np.maximum(1.0, np.minimum(b, 6.0 - b))
-
-
-def _edge_gaussians(grid, edge, D, kT):
-    """The edge term D at ±ω_L (gain side with detailed balance), resolution-broadened."""
-    pr, E, s = grid.point_row, grid.point_energy, grid.point_sigma
-    e, d = edge[:, pr], D[:, pr]
-    out = d * gaussian(E - e, s)
-    if kT > 0:
-        out = out + d * np.exp(-e / kT) * gaussian(E + e, s)
-    return out
 
 
 def _grid_values(grid, shape, si, ni, vals, kT):
@@ -546,11 +441,6 @@ def _poles(rows, coup, T, J, Jp, delta, z_perp, ls, te):
 
 #: half width of the window around a sharp pole, in grid steps h₀
 _WINDOW = 2.0
-#: width U of the exact integral below the edge, in grid steps h₀ (tapered over its outer
-#: two thirds, :func:`_taper`)
-_BELOW = 3.0
-#: width of the strip below the top of the continuum, in grid steps h₀
-_TOP = 3.0
 _LOG_PANELS = 12             # panels in ln|ω − ω_p| on each side of a sharp pole
 
 

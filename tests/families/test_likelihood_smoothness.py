@@ -7,8 +7,8 @@ the flagship case study's data, each parameter is scanned over ±2 % around a po
 family's posterior (41 values, the others held) and the third differences of the map's and
 the cut's log-likelihood terms must stay below 0.01 nat + 10⁻³ of the term's range over the
 scan: a jump of size s shows as third differences of about 2s, a smooth function's are of
-order (step)³ (measured: at most 0.029 nat, on a range of 371 nat; the coupled chains' energy grid gave
-jumps of 0.4 nat along J at J_⊥ = 1.5e-4 meV and of 6.7 and 15.7 nat along J and Δ at
+order (step)³ (measured: at most 0.029 nat, on a range of 371 nat; the coupled chains'
+energy grid gave jumps of 0.4 nat along J at J_⊥ = 1.5e-4 meV and of 6.7 and 15.7 nat along J and Δ at
 J_⊥ = 0.04 meV before their edges and tops were split by tapered strips, 2026-12-05).
 """
 from __future__ import annotations
