@@ -26,6 +26,8 @@ from .coupled_chain_kk import (GRID_NODES, GRID_SPAN, R_RANGE, THETA_RANGE, _gri
 __all__ = ["TableStencil", "table_real"]
 
 _R_STEP, _THETA_PER_DECADE = 0.2, 12
+#: (r, θ) pairs computed at once when the table is built
+_BLOCK = 512
 
 
 def _axes():
@@ -44,7 +46,12 @@ def _table(line_shape, thermal_edge):
     r = 1.0 / (1.0 + np.exp(-xr))
     theta = np.concatenate([[0.0], np.exp(lt)])
     R, TH = np.meshgrid(r, theta, indexing="ij")
-    V, u_top = _grid_values(R.ravel(), TH.ravel(), line_shape, thermal_edge)
+    # in blocks of pairs: each pair's values are independent of the others, and the whole
+    # lattice at once held about 400 MiB of temporaries (the 500 MiB budget of a run)
+    parts = [_grid_values(R.ravel()[k:k + _BLOCK], TH.ravel()[k:k + _BLOCK], line_shape,
+                          thermal_edge) for k in range(0, R.size, _BLOCK)]
+    V = np.concatenate([v for v, _ in parts], axis=-1)
+    u_top = np.concatenate([u for _, u in parts])
     # stored in single precision (relative 6e-8, far below the interpolation error): half
     # the memory traffic of the random reads of the interpolation
     V = np.ascontiguousarray(np.moveaxis(V, -1, 0).reshape(r.size, theta.size, 2, -1),
