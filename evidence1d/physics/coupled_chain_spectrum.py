@@ -359,8 +359,8 @@ def _paramagnetic(rows, grid, chain, T, J, Jp, delta, z_perp, ls, te):
         if np.any(loss > 0):
             extra = extra + _pair(grid, wp, loss, gain)
     return (F_e[:, grid.point_row] * chain + grid.convolve(X, fine) + extra
-            + _strip_gaussians(grid, up_at, up_w, kT) + _strip_gaussians(grid, lo_at, lo_w, kT)
-            + _strip_gaussians(grid, tp_at, tp_w, kT))
+            + _strip_gaussians(grid, np.concatenate([up_at, lo_at, tp_at], -1),
+                               np.concatenate([up_w, lo_w, tp_w], -1), kT))
 
 
 #: false-position steps of the antibound search (as the bound states':

@@ -5,8 +5,9 @@ cannot resolve: the dressing's dip next to the lower edge, a band narrower than 
 steps, the chain's thermal weight below the edge and the steep χ'_1D below the top.  Each
 strip is integrated by 4-point Gauss–Legendre quadrature in t = √|ω − ω_x| on panels graded
 towards its edge ω_x (S_1D dω = 2t S_1D dt is finite at an inverse-square-root edge), with a
-share φ (:func:`taper`) that the grid complements smoothly, and placed per panel at the
-centroid of its integrand, resolution-broadened with detailed balance.  Energies in meV.
+share φ (:func:`taper`) that the grid complements smoothly, and placed per group of panels
+at the centroid of its integrand, resolution-broadened with detailed balance.  Energies in
+meV.
 
 References
 ----------
@@ -65,6 +66,9 @@ def edge_integral(edge, upper, live, integrand, side=1.0):
 
 #: graded panels in t = √|ω − ω_L| of the strips at the edge (fractions of √(length))
 _T_STRIP = np.array([0.0, 1e-4, 1e-3, 1e-2, 0.05, 0.2, 0.4, 0.6, 0.8, 1.0])
+#: the panels placed together (first node of each group): the five next to the edge
+#: (within 0.25 % of the strip's length of it) as one, the others each on their own
+_GROUP_START = np.array([0, 20, 24, 28, 32])
 
 
 def taper(x):
@@ -77,9 +81,9 @@ def taper(x):
 
 def strip(edge, width, length, live, integrand, side):
     """∫ φ S_1D w dω over the strip from ω_L to ω_L + side × ``length`` (meV; ``side`` ±1),
-    φ = :func:`taper` (|ω − ω_L|/``width``), per panel of :data:`_T_STRIP`, and where each
-    panel's part is placed: the centroid of φ|S_1D w| over the panel (its middle where that
-    vanishes).
+    φ = :func:`taper` (|ω − ω_L|/``width``), per group of panels of :data:`_T_STRIP`
+    (:data:`_GROUP_START`), and where each group's part is placed: the centroid of φ|S_1D w|
+    over it (its nodes' mean where that vanishes).
 
     In t = √|ω − ω_L| (S_1D dω = 2t S_1D dt, finite at an inverse-square-root edge), 4-point
     Gauss–Legendre on each panel, graded towards the edge down to 10⁻⁸ of the strip, so a
@@ -88,28 +92,28 @@ def strip(edge, width, length, live, integrand, side):
 
     Returns
     -------
-    weight, where : ndarray, shape (n_sets, n_rows, n_panels)
+    weight, where : ndarray, shape (n_sets, n_rows, n_groups)
         Zero weight where not ``live``.
     """
-    n_p = _T_STRIP.size - 1
-    weight = np.zeros(edge.shape + (n_p,))
+    weight = np.zeros(edge.shape + (_GROUP_START.size,))
     where = np.broadcast_to(edge[..., None], weight.shape).copy()
     si, ci = np.nonzero(live)
     if si.size:
         t0, t1 = _T_STRIP[:-1, None], _T_STRIP[1:, None]
-        x = (t0 + (t1 - t0) * _GL_T[None, :])                     # (n_p, 4)
-        wx = (t1 - t0) * _GL_W[None, :]
-        root = np.sqrt(length[si, ci])[:, None, None]
-        t, wt = root * x, root * wx                               # (k, n_p, 4)
-        om = edge[si, ci][:, None, None] + side * t * t
+        x = (t0 + (t1 - t0) * _GL_T[None, :]).ravel()             # (n_p × 4,)
+        wx = ((t1 - t0) * _GL_W[None, :]).ravel()
+        root = np.sqrt(length[si, ci])[:, None]
+        t, wt = root * x, root * wx                               # (k, n_p × 4)
+        om = edge[si, ci][:, None] + side * t * t
         f = integrand(om.ravel(), np.repeat(si, x.size), np.repeat(ci, x.size)).reshape(t.shape)
-        w = 2.0 * t * wt * taper(t * t / width[si, ci][:, None, None])
-        weight[si, ci] = (w * f).sum(-1)
+        w = 2.0 * t * wt * taper(t * t / width[si, ci][:, None])
+        weight[si, ci] = np.add.reduceat(w * f, _GROUP_START, axis=-1)
         a = w * np.abs(f)
-        norm = a.sum(-1)
-        mid = om[..., 1:3].mean(-1)
-        where[si, ci] = np.where(norm > 0, (a * om).sum(-1) / np.where(norm > 0, norm, 1.0),
-                                 mid)
+        norm = np.add.reduceat(a, _GROUP_START, axis=-1)
+        mid = np.add.reduceat(om, _GROUP_START, axis=-1) / np.diff(_GROUP_START,
+                                                                    append=x.size)
+        where[si, ci] = np.where(norm > 0, np.add.reduceat(a * om, _GROUP_START, axis=-1)
+                                 / np.where(norm > 0, norm, 1.0), mid)
     return weight, where
 
 
