@@ -261,7 +261,8 @@ def _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth,
 
 
 def spinon_spectrum(q, E, sigma, T, J, delta, *, line_shape="exact", method="quadrature",
-                    n_nodes=None, n_panels=3, thermal_edge="near_pi", thermal_damping=None):
+                    n_nodes=None, n_panels=3, thermal_edge="near_pi", thermal_damping=None,
+                    with_undamped=False):
     """Resolution-convolved two-spinon S(q, E) per spin, S = χ''(n + 1)/π.
 
     T = 0: the model of :func:`evidence1d.physics.chain.two_spinon_sheets` on the
@@ -322,11 +323,15 @@ def spinon_spectrum(q, E, sigma, T, J, delta, *, line_shape="exact", method="qua
         Thermal damping b ≥ 0 (dimensionless): χ'' convolved with a Gaussian of standard
         deviation b k_BT, detailed balance kept (:mod:`evidence1d.physics.thermal_damping`);
         ``None`` or 0: undamped.
+    with_undamped : bool, optional
+        Also return the undamped spectrum at the same points (the damped one computes most
+        of it on the way; :func:`evidence1d.physics.thermal_damping.damped_spectrum`).
 
     Returns
     -------
     ndarray, shape (n_sets, n)
-        S(q, E) in 1/meV per spin, three spin components summed, no form factor.
+        S(q, E) in 1/meV per spin, three spin components summed, no form factor; with
+        ``with_undamped`` the pair (damped, undamped).
 
     Raises
     ------
@@ -361,8 +366,9 @@ def spinon_spectrum(q, E, sigma, T, J, delta, *, line_shape="exact", method="qua
                          f"or 'everywhere'; got {thermal_edge!r} instead")
     smooth = method == "quadrature"
     if thermal_damping is None:
-        return _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth=smooth,
-                         line_shape=line_shape, thermal_edge=thermal_edge)
+        out = _spectrum(q, E, sigma, T, J, delta, method, n_nodes, n_panels, smooth=smooth,
+                        line_shape=line_shape, thermal_edge=thermal_edge)
+        return (out, out) if with_undamped else out
     J = np.asarray(J, dtype=float).reshape(-1, 1)
     delta = np.asarray(delta, dtype=float).reshape(-1, 1)
     b = np.broadcast_to(np.asarray(thermal_damping, dtype=float).reshape(-1, 1), J.shape)
@@ -371,7 +377,7 @@ def spinon_spectrum(q, E, sigma, T, J, delta, *, line_shape="exact", method="qua
         return _spectrum(q[rows], E_, s_, T, J, delta, method, n_nodes, n_panels,
                          smooth=smooth, line_shape=line_shape, thermal_edge=thermal_edge)
 
-    return damped_spectrum(undamped, E, sigma, T, b)
+    return damped_spectrum(undamped, E, sigma, T, b, with_undamped=with_undamped)
 
 
 def _check_line_shape(line_shape, where):

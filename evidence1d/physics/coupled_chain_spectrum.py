@@ -589,16 +589,15 @@ def coupled_spectrum(q, q_a, q_b, E, sigma, T, J, J_perp, delta, *, z_perp=4,
     q, q_a, q_b, E, sigma = np.broadcast_arrays(*(np.asarray(x, float).ravel()
                                                   for x in (q, q_a, q_b, E, sigma)))
     rows, grid_ = grid if grid is not None else spectrum_grid(q, q_a, q_b, E, sigma)
-    chain = spinon_spectrum(q, E, sigma, T, J, delta, line_shape=line_shape,
-                            thermal_edge=thermal_edge, thermal_damping=thermal_damping)
+    chain, bare = spinon_spectrum(q, E, sigma, T, J, delta, line_shape=line_shape,
+                                  thermal_edge=thermal_edge, thermal_damping=thermal_damping,
+                                  with_undamped=True)
     # the random-phase split multiplies the chain's convolved spectrum by F_e, a value of
     # the dressing one grid step above the edge, and takes F_e S_1D off the grid function:
     # the two cancel only if both are the same (undamped) chain, so the dressed response is
     # built on the undamped chain and the damping's change G∗S_b − G∗S_0 is added to it
     # (a grid-independent result; J_⊥ = 0 is still the spinon family at the same b)
     damped = T > 0 and np.any(np.asarray(thermal_damping, float) > 0)
-    bare = (spinon_spectrum(q, E, sigma, T, J, delta, line_shape=line_shape,
-                            thermal_edge=thermal_edge) if damped else chain)
     TN = neel_temperature(J, Jp, delta, z_perp=z_perp, line_shape=line_shape,
                           thermal_edge=thermal_edge)
     below = (TN > T)[:, 0] & (Jp > 0)[:, 0]

@@ -57,7 +57,7 @@ FAR_GAUSS = 4.3
 NEAR_ZERO = 0.05
 
 
-def damped_spectrum(convolve, E, sigma, T, width):
+def damped_spectrum(convolve, E, sigma, T, width, with_undamped=False):
     """Resolution-convolved spectrum of a continuum whose χ'' is damped by G(b k_BT).
 
     Parameters
@@ -75,12 +75,16 @@ def damped_spectrum(convolve, E, sigma, T, width):
         Temperature in K.  T = 0 (or b = 0 for every set) returns ``convolve(E, sigma)``.
     width : array_like, shape (n_sets, 1)
         Damping width b ≥ 0 in units of k_BT (σ_th = b k_BT).
+    with_undamped : bool, optional
+        Also return the undamped P_r = ``convolve(E, sigma)`` at every point: the
+        construction has it already at the points near zero energy, so only the far points
+        cost an extra call.
 
     Returns
     -------
     ndarray, shape (n_sets, n)
         G_r ∗ S_b in the units of ``convolve`` (module notes for the construction and its
-        accuracy).
+        accuracy); with ``with_undamped``, the pair (G_r ∗ S_b, P_r).
 
     References
     ----------
@@ -92,13 +96,14 @@ def damped_spectrum(convolve, E, sigma, T, width):
     b = np.asarray(width, dtype=float).reshape(-1, 1)
     every = np.arange(E.size)
     if kT <= 0.0 or not np.any(b > 0.0):
-        return convolve(E, sigma, every)
+        out = convolve(E, sigma, every)
+        return (out, out) if with_undamped else out
     sig_e = np.sqrt(sigma ** 2 + (b * kT) ** 2)                      # (n_sets, n)
     out = convolve(E, sig_e, every)                                  # P_e: the far points' value
     near_set = (E < FAR_BOSE * kT) | (E < FAR_GAUSS * sig_e)        # (n_sets, n)
     rows = np.flatnonzero(near_set.any(axis=0))
     if rows.size == 0:
-        return out
+        return (out, convolve(E, sigma, every)) if with_undamped else out
     x = E[rows] / kT
     x = np.where(np.abs(x) < NEAR_ZERO, np.where(x < 0.0, -NEAR_ZERO, NEAR_ZERO), x)
     e = x * kT
@@ -129,4 +134,13 @@ def damped_spectrum(convolve, E, sigma, T, width):
     # each set takes the change only at its own near points, so that a set's result does
     # not depend on the other sets of the batch
     out[:, rows] = np.where(near_set[:, rows], base + change, out[:, rows])
-    return out
+    if not with_undamped:
+        return out
+    undamped = np.empty_like(out)
+    undamped[:, rows] = base                              # P_r(E) at the near points
+    far = np.setdiff1d(every, rows)
+    if far.size:
+        undamped[:, far] = convolve(np.broadcast_to(E[far], (out.shape[0], far.size)),
+                                    np.broadcast_to(sigma[far], (out.shape[0], far.size)),
+                                    far)
+    return out, undamped
