@@ -146,3 +146,21 @@ def test_damped_chain_spectrum_against_quadrature_of_the_model_density(q):
     # measured: 6e-6 (q = 0.7π) and 4e-6 (0.97π) of the peak.  (Before the kernel's blend
     # convolved the gain-side image of its T = 0 edge exactly, 0.6 % and 1.6 %.)
     assert np.max(np.abs(got - want)) < 1e-4 * want.max(), (got, want)
+
+
+def test_undamped_spectrum_returned_on_the_way_is_the_undamped_call():
+    """``with_undamped``: the undamped chain spectrum that the damped construction computes
+    on the way (near points) and completes (far points) equals a separate undamped call, to
+    rounding, at points on both sides of the near/far split."""
+    from evidence1d.physics.chain_spectrum import spinon_spectrum
+    q = np.repeat([0.6 * np.pi, 0.97 * np.pi], 12)
+    E = np.tile(np.linspace(-0.5, 6.0, 12), 2)
+    s = 0.08 + 0.02 * np.abs(E)
+    J, d = np.array([[2.0], [2.3]]), np.array([[1.0], [0.8]])
+    b = np.array([[1.5], [0.0]])
+    damped, undamped = spinon_spectrum(q, E, s, 2.0, J, d, thermal_damping=b,
+                                       with_undamped=True)
+    np.testing.assert_allclose(damped, spinon_spectrum(q, E, s, 2.0, J, d, thermal_damping=b),
+                               rtol=1e-12, atol=1e-15)
+    np.testing.assert_allclose(undamped, spinon_spectrum(q, E, s, 2.0, J, d),
+                               rtol=1e-10, atol=1e-14 * undamped.max())
