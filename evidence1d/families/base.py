@@ -154,6 +154,11 @@ class Family:
     #: whether :meth:`spectrum` applies the momentum resolution of ``pts`` itself
     handles_q_resolution: bool = False
 
+    #: the most (parameter set, point) pairs one :meth:`spectrum` call is given (None: no
+    #: limit); a family whose working memory per pair is large (an energy grid per set)
+    #: sets it, and the predictions are computed in batches of sets under it
+    max_pairs_per_call: int | None = None
+
     #: whether :meth:`spectrum` depends on the wavevector only through the chain phase
     #: q = Q_∥ d and, through :meth:`chain_terms`, quadratically on Q̂ (a polarisation
     #: factor); the powder average is then the exact one-dimensional one

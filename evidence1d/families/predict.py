@@ -205,14 +205,31 @@ class DatasetPredictor:
             g = p.get("g", 2.0)
             if self._powder is not None:
                 S = self._powder.average(p)
-            elif self._pts.has_q_resolution and not fam.handles_q_resolution:
-                from .qresolution import q_averaged_spectrum
-                S = q_averaged_spectrum(fam, p, self._pts)
             else:
-                S = fam.spectrum(p, self._pts)
+                S = self._in_parts(p)
             F = neutron.magnetic_form_factor(self._Q, self.sample.ion, self.sample.charge, g)
             return F ** 2 * S
         return self.kind.model_part(fam, p, ds.x["T"], ds.options)
+
+    def _in_parts(self, p: dict) -> np.ndarray:
+        """The family's spectrum at the points, (k, n), in batches of at most the family's
+        ``max_pairs_per_call`` (set, point) pairs (its working memory grows with them; a
+        set's values do not depend on the other sets of its batch)."""
+        fam, k = self.family, _batch_size(p)
+
+        def one(q):
+            if self._pts.has_q_resolution and not fam.handles_q_resolution:
+                from .qresolution import q_averaged_spectrum
+                return q_averaged_spectrum(fam, q, self._pts)
+            return fam.spectrum(q, self._pts)
+
+        limit = getattr(fam, "max_pairs_per_call", None)
+        n = max(int(np.size(self._E)), 1)
+        if not limit or k * n <= limit or k == 1:
+            return one(p)
+        step = max(1, int(limit) // n)
+        return np.concatenate([one(_rows(p, slice(i, i + step), k))
+                               for i in range(0, k, step)])
 
     def predict(self, p: dict, magnetic: np.ndarray | None = None) -> np.ndarray:
         """Predicted values at the dataset's points, in the dataset's internal units.
