@@ -221,7 +221,9 @@ def map_figure(block: dict, model_title: str, dataset: str, intensity_unit: str,
     axes[0].set_ylabel(_ENERGY)
     extend = "neither" if how == "log" else "both"
     cb = body.colorbar(ims[1], ax=list(axes[:2]), pad=0.02, fraction=0.05, extend=extend)
-    cb.set_label(intensity_label(intensity_unit), fontsize=6)
+    # the intensity scale's label above its bar: beside it, it stood next to the residual
+    # panel and read as that panel's axis label
+    cb.ax.set_title(intensity_label(intensity_unit), fontsize=6, pad=3)
     cb2 = body.colorbar(ims[2], ax=axes[2], pad=0.02, fraction=0.08)
     cb2.set_label("(data − model)/error (σ)", fontsize=6)
     for c in (cb, cb2):
