@@ -400,6 +400,27 @@ def rpa_spectrum(q, q_a, q_b, omega, T, J, J_perp, delta, *, z_perp=4, line_shap
 _N_POLE = 18              # Illinois steps on ln(ω_edge − ω)
 
 
+def illinois_root(F, a, b, fa, fb, steps, live=None):
+    """The root of F between a and b (F(a) > 0 > F(b), elementwise) by the Illinois
+    false-position method (Dowell & Jarratt, BIT 11, 168 (1971)): ``steps`` steps, the end
+    kept twice in a row halved; where ``live`` is False the arrays are left alone.  Returns
+    the end with the smaller |F|."""
+    side = np.zeros(np.shape(a))
+    for _ in range(steps):
+        if live is None:
+            c = b - fb * (b - a) / (fb - fa)
+        else:
+            c = np.where(live, b - fb * (b - a) / np.where(live, fb - fa, 1.0), a)
+        fc = F(c)
+        to_b = fc < 0
+        fa = np.where(to_b & (side > 0), 0.5 * fa, fa)
+        fb = np.where(~to_b & (side < 0), 0.5 * fb, fb)
+        a, fa = np.where(to_b, a, c), np.where(to_b, fa, fc)
+        b, fb = np.where(to_b, c, b), np.where(to_b, fc, fb)
+        side = np.where(to_b, 1.0, -1.0)
+    return np.where(np.abs(fa) < np.abs(fb), a, b)
+
+
 def rpa_poles(q, q_a, q_b, T, J, J_perp, delta, *, z_perp=4, line_shape="exact",
               thermal_edge="near_pi", method="table"):
     """Poles of the dressed response below the chain's lower edge, per spin component.
@@ -472,17 +493,7 @@ def rpa_poles(q, q_a, q_b, T, J, J_perp, delta, *, z_perp=4, line_shape="exact",
     a, b = np.log(e) - 30.0, np.log(e)                         # near the edge; ω = 0
     fa, fb = F(a), F(b)
     live &= (fa > 0) & (fb < 0)
-    side = np.zeros(e.shape)
-    for _ in range(_N_POLE):
-        c = np.where(live, b - fb * (b - a) / np.where(live, fb - fa, 1.0), a)
-        fc = F(c)
-        to_b = fc < 0
-        fa = np.where(to_b & (side > 0), 0.5 * fa, fa)         # Illinois: the end kept twice
-        fb = np.where(~to_b & (side < 0), 0.5 * fb, fb)         # in a row is halved
-        a, fa = np.where(to_b, a, c), np.where(to_b, fa, fc)
-        b, fb = np.where(to_b, c, b), np.where(to_b, fc, fb)
-        side = np.where(to_b, 1.0, -1.0)
-    d = np.exp(np.where(np.abs(fa) < np.abs(fb), a, b))
+    d = np.exp(illinois_root(F, a, b, fa, fb, _N_POLE, live))
     wp = np.where(live, e - d, 1.0)
     h = np.maximum(1e-5 * np.minimum(d, wp), 1e-12 * e)
     slope = (sh.real(wp + h, cols) - sh.real(wp - h, cols)) / (2.0 * h)

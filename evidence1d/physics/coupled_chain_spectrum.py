@@ -97,7 +97,7 @@ from .chain import all_sheets
 from .chain_spectrum import _EDGE_WINDOW, _cold_density, spinon_spectrum
 from .chain_thermal import _density as _thermal_density
 from .chain_thermal import thermal_density
-from .coupled_chain import _check, _chi2, _couplings, _Sheets, rpa_poles
+from .coupled_chain import _check, _chi2, _couplings, _Sheets, illinois_root, rpa_poles
 from .coupled_chain_ordered import ordered_modes, ordered_state, two_soliton_threshold
 from .coupled_chain_thermo import neel_temperature
 from .magnon import check_interchain
@@ -399,17 +399,8 @@ def _antibound(sh, coup, high, kT):
             si, ci, top, target = si[ok], ci[ok], top[ok], target[ok]
             a, b, fa, fb = a[ok], b[ok], fa[ok], fb[ok]
             if si.size:
-                side = np.zeros(si.shape)
-                for _ in range(_N_ANTIBOUND):
-                    c = b - fb * (b - a) / (fb - fa)
-                    fc = F(c, si, ci, top, target)
-                    to_b = fc < 0
-                    fa = np.where(to_b & (side > 0), 0.5 * fa, fa)
-                    fb = np.where(~to_b & (side < 0), 0.5 * fb, fb)
-                    a, fa = np.where(to_b, a, c), np.where(to_b, fa, fc)
-                    b, fb = np.where(to_b, c, b), np.where(to_b, fc, fb)
-                    side = np.where(to_b, 1.0, -1.0)
-                d = np.exp(np.where(np.abs(fa) < np.abs(fb), a, b))
+                d = np.exp(illinois_root(lambda x: F(x, si, ci, top, target), a, b, fa, fb,
+                                         _N_ANTIBOUND))
                 wp = top + d
                 step = np.maximum(1e-5 * d, 1e-12 * top)
                 slope = (_real(sh, wp + step, si, ci) - _real(sh, wp - step, si, ci)) / (2 * step)
